@@ -1,0 +1,518 @@
+#include "fxmimo/golden/scenario.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <fstream>
+#include <initializer_list>
+#include <limits>
+#include <optional>
+#include <sstream>
+#include <utility>
+
+#include <fmt/format.h>
+#include <toml++/toml.h>
+
+#include "fxmimo/golden/large_scale.hpp"
+
+namespace fxmimo::golden {
+
+scenario_error::scenario_error(std::string file_name, int line_number, std::string key_name,
+                               const std::string& message)
+    : std::runtime_error(fmt::format("{}:{}: {}: {}", file_name, line_number, key_name, message)),
+      file(std::move(file_name)), line(line_number), key(std::move(key_name)) {}
+
+double scenario::pilot_snr() const { return std::pow(10.0, pilots.snr_db / 10.0); }
+double scenario::downlink_snr() const { return std::pow(10.0, data.snr_db / 10.0); }
+double scenario::rzf_regularizer() const {
+  return precoder.has_regularizer ? precoder.regularizer : cells.num_users / downlink_snr();
+}
+int scenario::pilot_group(int i_cell) const {
+  if (pilots.reuse == 1) {
+    return 0;
+  }
+  if (cells.source == gain_source::hexagonal) {
+    return hex_pilot_group(i_cell, pilots.reuse);
+  }
+  return i_cell % pilots.reuse;
+}
+
+std::string_view modulation_name(modulation mod) {
+  switch (mod) {
+  case modulation::qpsk: return "qpsk";
+  case modulation::qam16: return "16qam";
+  case modulation::qam64: return "64qam";
+  case modulation::qam256: return "256qam";
+  case modulation::qam1024: return "1024qam";
+  }
+  return "?";
+}
+
+namespace {
+
+std::string one_line(std::string_view text) {
+  std::string out(text);
+  std::replace(out.begin(), out.end(), '\n', ' ');
+  std::replace(out.begin(), out.end(), '\r', ' ');
+  return out;
+}
+
+int line_of(const toml::source_region& region) { return static_cast<int>(region.begin.line); }
+
+// Reads one table of the scenario, remembering which keys were consumed so that leftovers can be
+// reported as unknown, and where each value sits in the file.
+class table_reader {
+public:
+  table_reader(const std::string& file, const toml::table& table, std::string prefix)
+      : file_(file), table_(table), prefix_(std::move(prefix)) {}
+
+  [[noreturn]] void fail(std::string_view name, const std::string& message) const {
+    const toml::node* node = table_.get(name);
+    const int line = node != nullptr ? line_of(node->source()) : line_of(table_.source());
+    throw scenario_error(file_, std::max(line, 1), key(name), message);
+  }
+
+  std::string key(std::string_view name) const { return prefix_.empty() ? std::string(name) : prefix_ + "." + std::string(name); }
+
+  bool has(std::string_view name) const { return table_.contains(name); }
+
+  // Rejects every key not in `allowed`, at the line of that key.
+  void only(std::initializer_list<std::string_view> allowed) const {
+    for (auto&& [k, v] : table_) {
+      if (std::find(allowed.begin(), allowed.end(), k.str()) == allowed.end()) {
+        const int line = k.source().begin.line != 0 ? line_of(k.source()) : line_of(v.source());
+        throw scenario_error(file_, std::max(line, 1), key(k.str()), "unknown key");
+      }
+    }
+  }
+
+  std::optional<std::int64_t> integer(std::string_view name, std::int64_t lo, std::int64_t hi) const {
+    const toml::node* node = table_.get(name);
+    if (node == nullptr) {
+      return std::nullopt;
+    }
+    if (!node->is_integer()) {
+      fail(name, "expected an integer");
+    }
+    const std::int64_t value = node->as_integer()->get();
+    if (value < lo || value > hi) {
+      fail(name, fmt::format("{} is out of range [{}, {}]", value, lo, hi));
+    }
+    return value;
+  }
+
+  static std::optional<double> number_of(const toml::node& node) {
+    if (node.is_integer()) {
+      return static_cast<double>(node.as_integer()->get());
+    }
+    if (node.is_floating_point()) {
+      return node.as_floating_point()->get();
+    }
+    return std::nullopt;
+  }
+
+  std::optional<double> number(std::string_view name, double lo, double hi) const {
+    const toml::node* node = table_.get(name);
+    if (node == nullptr) {
+      return std::nullopt;
+    }
+    const std::optional<double> value = number_of(*node);
+    if (!value) {
+      fail(name, "expected a number");
+    }
+    if (!(*value >= lo && *value <= hi)) {
+      fail(name, fmt::format("{} is out of range [{}, {}]", *value, lo, hi));
+    }
+    return value;
+  }
+
+  template <typename Enum>
+  std::optional<Enum> choice(std::string_view name, std::initializer_list<std::pair<std::string_view, Enum>> options) const {
+    const toml::node* node = table_.get(name);
+    if (node == nullptr) {
+      return std::nullopt;
+    }
+    if (!node->is_string()) {
+      fail(name, "expected a string");
+    }
+    const std::string& text = node->as_string()->get();
+    std::string valid;
+    for (const auto& [label, value] : options) {
+      if (label == text) {
+        return value;
+      }
+      valid += fmt::format("{}\"{}\"", valid.empty() ? "" : ", ", label);
+    }
+    fail(name, fmt::format("unknown value \"{}\" (expected one of {})", text, valid));
+  }
+
+  std::optional<std::string> string(std::string_view name) const {
+    const toml::node* node = table_.get(name);
+    if (node == nullptr) {
+      return std::nullopt;
+    }
+    if (!node->is_string()) {
+      fail(name, "expected a string");
+    }
+    return node->as_string()->get();
+  }
+
+  // Fails unless the key is present.
+  template <typename T>
+  T required(std::string_view name, std::optional<T> value) const {
+    if (!value) {
+      fail(name, "missing required key");
+    }
+    return *value;
+  }
+
+  const toml::table& table() const { return table_; }
+  const std::string& file() const { return file_; }
+
+private:
+  const std::string& file_;
+  const toml::table& table_;
+  std::string prefix_;
+};
+
+const toml::table& sub_table(const table_reader& root, std::string_view name) {
+  static const toml::table empty;
+  const toml::node* node = root.table().get(name);
+  if (node == nullptr) {
+    return empty;
+  }
+  if (!node->is_table()) {
+    root.fail(name, "expected a table");
+  }
+  return *node->as_table();
+}
+
+// Reads a flat array of numbers within [lo, hi], failing at the offending element's line.
+std::vector<double> number_list(const table_reader& reader, std::string_view name, const toml::node& node,
+                                double lo, double hi) {
+  if (!node.is_array()) {
+    reader.fail(name, "expected an array of numbers");
+  }
+  std::vector<double> values;
+  for (const toml::node& element : *node.as_array()) {
+    const std::optional<double> value = table_reader::number_of(element);
+    if (!value || !(*value >= lo && *value <= hi)) {
+      throw scenario_error(reader.file(), std::max(line_of(element.source()), 1), reader.key(name),
+                           fmt::format("every element must be a number in [{}, {}]", lo, hi));
+    }
+    values.push_back(*value);
+  }
+  return values;
+}
+
+constexpr double gain_db_lo = -300.0;
+constexpr double gain_db_hi = 100.0;
+
+void read_array(const table_reader& root, scenario& scen) {
+  const table_reader r(root.file(), sub_table(root, "array"), "array");
+  r.only({"antennas", "layout", "spacing", "columns"});
+  if (!root.has("array")) {
+    root.fail("array", "missing required table [array]");
+  }
+  scen.array.num_antennas = static_cast<int>(r.required("antennas", r.integer("antennas", 1, 4096)));
+  scen.array.layout = r.choice<array_layout>("layout", {{"ula", array_layout::ula}, {"upa", array_layout::upa}})
+                          .value_or(array_layout::ula);
+  scen.array.spacing = r.number("spacing", 1e-3, 100.0).value_or(0.5);
+  if (scen.array.layout == array_layout::upa) {
+    const int columns = static_cast<int>(r.required("columns", r.integer("columns", 1, 4096)));
+    if (scen.array.num_antennas % columns != 0) {
+      r.fail("columns", fmt::format("{} columns do not divide {} antennas", columns, scen.array.num_antennas));
+    }
+    scen.array.num_columns = columns;
+  } else {
+    if (r.has("columns")) {
+      r.fail("columns", "only used with layout = \"upa\"");
+    }
+    scen.array.num_columns = scen.array.num_antennas;
+  }
+}
+
+void read_cells(const table_reader& root, scenario& scen) {
+  const table_reader r(root.file(), sub_table(root, "cells"), "cells");
+  r.only({"count", "users_per_cell", "radius_m", "min_distance_m", "pathloss_exponent", "shadowing_db",
+          "user_gains_db", "cross_gain_db", "gains_db"});
+  cells_config& cells = scen.cells;
+  const bool explicit_matrix = r.has("gains_db");
+  const bool per_user = r.has("user_gains_db");
+  if (explicit_matrix && per_user) {
+    r.fail("user_gains_db", "give either gains_db or user_gains_db, not both");
+  }
+  const std::optional<std::int64_t> users = r.integer("users_per_cell", 1, 1024);
+  const std::optional<std::int64_t> count = r.integer("count", 1, 64);
+
+  auto reject_geometry = [&r](std::string_view why) {
+    for (std::string_view name : {"radius_m", "min_distance_m", "pathloss_exponent", "shadowing_db"}) {
+      if (r.has(name)) {
+        r.fail(name, fmt::format("has no effect with {}", why));
+      }
+    }
+  };
+
+  if (explicit_matrix) {
+    cells.source = gain_source::explicit_matrix;
+    reject_geometry("gains_db");
+    if (r.has("cross_gain_db")) {
+      r.fail("cross_gain_db", "only used with user_gains_db");
+    }
+    // gains_db = [[[bs 0 -> cell 0 users], [bs 0 -> cell 1 users], ...], [bs 1 ...], ...]
+    const toml::node& node = *r.table().get("gains_db");
+    const toml::array* outer = node.as_array();
+    if (outer == nullptr || outer->empty()) {
+      r.fail("gains_db", "expected a non-empty array [bs][cell][user] of gains in dB");
+    }
+    const auto num_cells = static_cast<int>(outer->size());
+    if (num_cells > 64) {
+      r.fail("gains_db", "at most 64 cells");
+    }
+    int num_users = -1;
+    for (const toml::node& bs_node : *outer) {
+      const toml::array* per_bs = bs_node.as_array();
+      if (per_bs == nullptr || static_cast<int>(per_bs->size()) != num_cells) {
+        throw scenario_error(root.file(), std::max(line_of(bs_node.source()), 1), "cells.gains_db",
+                             fmt::format("each base station needs a list of {} cells", num_cells));
+      }
+      for (const toml::node& cell_node : *per_bs) {
+        const std::vector<double> row = number_list(r, "gains_db", cell_node, gain_db_lo, gain_db_hi);
+        if (num_users < 0) {
+          num_users = static_cast<int>(row.size());
+        }
+        if (row.empty() || static_cast<int>(row.size()) != num_users || num_users > 1024) {
+          throw scenario_error(root.file(), std::max(line_of(cell_node.source()), 1), "cells.gains_db",
+                               "every cell needs the same number (1..1024) of user gains");
+        }
+        cells.gains_db.insert(cells.gains_db.end(), row.begin(), row.end());
+      }
+    }
+    if (count && *count != num_cells) {
+      r.fail("count", fmt::format("count = {} but gains_db describes {} cells", *count, num_cells));
+    }
+    if (users && *users != num_users) {
+      r.fail("users_per_cell", fmt::format("users_per_cell = {} but gains_db has {} users per cell", *users, num_users));
+    }
+    cells.num_cells = num_cells;
+    cells.num_users = num_users;
+    return;
+  }
+
+  cells.num_users = static_cast<int>(r.required("users_per_cell", users));
+  cells.num_cells = static_cast<int>(count.value_or(1));
+
+  if (per_user) {
+    cells.source = gain_source::per_user;
+    reject_geometry("user_gains_db");
+    cells.user_gains_db = number_list(r, "user_gains_db", *r.table().get("user_gains_db"), gain_db_lo, gain_db_hi);
+    if (static_cast<int>(cells.user_gains_db.size()) != cells.num_users) {
+      r.fail("user_gains_db", fmt::format("needs {} values (users_per_cell), got {}", cells.num_users,
+                                          cells.user_gains_db.size()));
+    }
+    if (cells.num_cells > 1) {
+      cells.cross_gain_db = r.required("cross_gain_db", r.number("cross_gain_db", gain_db_lo, gain_db_hi));
+    } else if (r.has("cross_gain_db")) {
+      r.fail("cross_gain_db", "has no effect with a single cell");
+    }
+    return;
+  }
+
+  cells.source = gain_source::hexagonal;
+  if (r.has("cross_gain_db")) {
+    r.fail("cross_gain_db", "only used with user_gains_db");
+  }
+  if (cells.num_cells != 1 && cells.num_cells != 3 && cells.num_cells != 7 && cells.num_cells != 19) {
+    r.fail("count", fmt::format("the hexagonal layout has 1, 3, 7 or 19 cells, not {}", cells.num_cells));
+  }
+  cells.radius_m = r.number("radius_m", 1.0, 1e5).value_or(500.0);
+  cells.min_distance_m = r.number("min_distance_m", 0.0, 1e5).value_or(std::min(35.0, 0.5 * cells.radius_m));
+  if (cells.min_distance_m >= 0.5 * std::sqrt(3.0) * cells.radius_m) {
+    r.fail("min_distance_m", fmt::format("{} m leaves no room in a hexagon of radius {} m (must be below {:.6g} m)",
+                                         cells.min_distance_m, cells.radius_m, 0.5 * std::sqrt(3.0) * cells.radius_m));
+  }
+  cells.pathloss_exponent = r.number("pathloss_exponent", 1.0, 8.0).value_or(3.76);
+  cells.shadowing_db = r.number("shadowing_db", 0.0, 20.0).value_or(8.0);
+}
+
+void read_channel(const table_reader& root, scenario& scen) {
+  const table_reader r(root.file(), sub_table(root, "channel"), "channel");
+  r.only({"model", "correlation", "k_factor_db"});
+  channel_config& ch = scen.channel;
+  ch.model = r.choice<channel_model>("model", {{"rayleigh", channel_model::rayleigh},
+                                               {"correlated", channel_model::correlated},
+                                               {"rician", channel_model::rician}})
+                 .value_or(channel_model::rayleigh);
+  if (ch.model == channel_model::correlated) {
+    ch.correlation = r.required("correlation", r.number("correlation", 0.0, 0.999999));
+  } else if (r.has("correlation")) {
+    r.fail("correlation", "only used with model = \"correlated\"");
+  }
+  if (ch.model == channel_model::rician) {
+    ch.k_factor_db = r.required("k_factor_db", r.number("k_factor_db", -40.0, 40.0));
+  } else if (r.has("k_factor_db")) {
+    r.fail("k_factor_db", "only used with model = \"rician\"");
+  }
+}
+
+void read_pilots(const table_reader& root, scenario& scen) {
+  const table_reader r(root.file(), sub_table(root, "pilots"), "pilots");
+  r.only({"length", "sequence", "snr_db", "reuse"});
+  pilot_config& p = scen.pilots;
+  if (!root.has("pilots")) {
+    root.fail("pilots", "missing required table [pilots] (at least snr_db)");
+  }
+  p.sequence = r.choice<pilot_sequence>("sequence", {{"dft", pilot_sequence::dft}, {"walsh", pilot_sequence::walsh}})
+                   .value_or(pilot_sequence::dft);
+  p.snr_db = r.required("snr_db", r.number("snr_db", -50.0, 80.0));
+  p.reuse = static_cast<int>(r.integer("reuse", 1, 7).value_or(1));
+  if (p.reuse != 1 && p.reuse != 3 && p.reuse != 7) {
+    r.fail("reuse", fmt::format("reuse factor must be 1, 3 or 7, not {}", p.reuse));
+  }
+  const int num_cells = scen.cells.num_cells;
+  if (p.reuse > num_cells) {
+    r.fail("reuse", fmt::format("reuse {} needs at least {} cells, the scenario has {}", p.reuse, p.reuse, num_cells));
+  }
+  if (scen.cells.source == gain_source::hexagonal && num_cells == 3 && p.reuse == 7) {
+    r.fail("reuse", "reuse 7 is not compatible with 3 cells");
+  }
+  const int needed = p.reuse * scen.cells.num_users;
+  int default_length = needed;
+  if (p.sequence == pilot_sequence::walsh) {
+    default_length = 1;
+    while (default_length < needed) {
+      default_length *= 2;
+    }
+  }
+  p.length = static_cast<int>(r.integer("length", 1, 8192).value_or(default_length));
+  if (p.length < needed) {
+    r.fail("length", fmt::format("{} orthogonal pilots needed (users_per_cell {} x reuse {}) but length is {}",
+                                 needed, scen.cells.num_users, p.reuse, p.length));
+  }
+  if (p.sequence == pilot_sequence::walsh && (p.length & (p.length - 1)) != 0) {
+    r.fail("length", fmt::format("Walsh–Hadamard sequences need a power-of-two length, not {}", p.length));
+  }
+}
+
+void read_estimator(const table_reader& root, scenario& scen) {
+  const table_reader r(root.file(), sub_table(root, "estimator"), "estimator");
+  r.only({"kind"});
+  scen.estimator.kind = r.choice<estimator_kind>("kind", {{"ls", estimator_kind::ls},
+                                                          {"mmse", estimator_kind::mmse},
+                                                          {"perfect", estimator_kind::perfect}})
+                            .value_or(estimator_kind::mmse);
+}
+
+void read_precoder(const table_reader& root, scenario& scen) {
+  const table_reader r(root.file(), sub_table(root, "precoder"), "precoder");
+  r.only({"kind", "inversion", "neumann_terms", "regularizer", "normalization"});
+  precoder_config& pc = scen.precoder;
+  pc.kind = r.choice<precoder_kind>("kind", {{"mf", precoder_kind::mf}, {"zf", precoder_kind::zf}, {"rzf", precoder_kind::rzf}})
+                .value_or(precoder_kind::zf);
+  if (pc.kind == precoder_kind::mf) {
+    for (std::string_view name : {"inversion", "neumann_terms", "regularizer"}) {
+      if (r.has(name)) {
+        r.fail(name, "has no effect with kind = \"mf\"");
+      }
+    }
+  }
+  pc.inversion = r.choice<inversion_kind>("inversion", {{"ldl", inversion_kind::ldl},
+                                                        {"neumann", inversion_kind::neumann},
+                                                        {"reference", inversion_kind::reference}})
+                     .value_or(inversion_kind::ldl);
+  if (pc.inversion == inversion_kind::neumann) {
+    pc.neumann_terms = static_cast<int>(r.integer("neumann_terms", 1, 64).value_or(3));
+  } else if (r.has("neumann_terms")) {
+    r.fail("neumann_terms", "only used with inversion = \"neumann\"");
+  }
+  if (r.has("regularizer")) {
+    if (pc.kind != precoder_kind::rzf) {
+      r.fail("regularizer", "only used with kind = \"rzf\"");
+    }
+    pc.has_regularizer = true;
+    pc.regularizer = *r.number("regularizer", 1e-12, 1e9);
+  }
+  pc.normalization = r.choice<power_normalization>("normalization", {{"total", power_normalization::total},
+                                                                     {"per_antenna", power_normalization::per_antenna}})
+                         .value_or(power_normalization::total);
+  if (pc.kind == precoder_kind::zf && scen.cells.num_users > scen.array.num_antennas) {
+    const table_reader cells(root.file(), sub_table(root, "cells"), "cells");
+    cells.fail("users_per_cell", fmt::format("zero forcing needs users_per_cell ({}) <= array.antennas ({})",
+                                             scen.cells.num_users, scen.array.num_antennas));
+  }
+}
+
+void read_data(const table_reader& root, scenario& scen) {
+  const table_reader r(root.file(), sub_table(root, "data"), "data");
+  r.only({"modulation", "symbols", "snr_db"});
+  if (!root.has("data")) {
+    root.fail("data", "missing required table [data] (at least snr_db)");
+  }
+  scen.data.mod = r.choice<modulation>("modulation", {{"qpsk", modulation::qpsk},
+                                                      {"16qam", modulation::qam16},
+                                                      {"64qam", modulation::qam64},
+                                                      {"256qam", modulation::qam256},
+                                                      {"1024qam", modulation::qam1024}})
+                      .value_or(modulation::qam16);
+  scen.data.num_symbols = static_cast<int>(r.integer("symbols", 1, 1'000'000).value_or(168));
+  scen.data.snr_db = r.required("snr_db", r.number("snr_db", -50.0, 80.0));
+}
+
+void read_frontend(const table_reader& root, scenario& scen) {
+  const table_reader r(root.file(), sub_table(root, "frontend"), "frontend");
+  r.only({"agc_backoff_db", "dac_backoff_db"});
+  scen.frontend.agc_backoff_db = r.number("agc_backoff_db", -20.0, 60.0).value_or(12.0);
+  scen.frontend.dac_backoff_db = r.number("dac_backoff_db", -20.0, 60.0).value_or(12.0);
+}
+
+} // namespace
+
+scenario parse_scenario_text(std::string_view toml_text, std::string source_name) {
+  toml::table root_table;
+  try {
+    root_table = toml::parse(toml_text, source_name);
+  } catch (const toml::parse_error& err) {
+    throw scenario_error(source_name, std::max(line_of(err.source()), 1), "(syntax)", one_line(err.description()));
+  }
+  const table_reader root(source_name, root_table, "");
+  root.only({"name", "seed", "trials", "array", "cells", "channel", "pilots", "estimator", "precoder", "data",
+             "frontend", "nodes"});
+
+  scenario scen;
+  scen.source_name = source_name;
+  scen.name = root.string("name").value_or(source_name);
+  scen.seed = static_cast<std::uint64_t>(root.integer("seed", 0, std::numeric_limits<std::int64_t>::max()).value_or(0));
+  scen.num_trials = static_cast<int>(root.integer("trials", 1, 100'000'000).value_or(1));
+  if (root.has("nodes") && !root.table().get("nodes")->is_table()) {
+    root.fail("nodes", "expected a table");
+  }
+
+  read_array(root, scen);
+  read_cells(root, scen);
+  // Bound the per-trial working set: L channel matrices of M x K at every base station.
+  const std::int64_t entries = static_cast<std::int64_t>(scen.cells.num_cells) * scen.cells.num_cells *
+                               scen.array.num_antennas * scen.cells.num_users;
+  if (entries > (std::int64_t{1} << 26)) {
+    const table_reader cells(source_name, sub_table(root, "cells"), "cells");
+    cells.fail("users_per_cell", fmt::format("cells^2 x antennas x users = {} channel coefficients per trial exceeds 2^26",
+                                     entries));
+  }
+  read_channel(root, scen);
+  read_pilots(root, scen);
+  read_estimator(root, scen);
+  read_precoder(root, scen);
+  read_data(root, scen);
+  read_frontend(root, scen);
+  return scen;
+}
+
+scenario load_scenario_file(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) {
+    throw scenario_error(path, 0, "(file)", "cannot open the scenario file");
+  }
+  std::ostringstream text;
+  text << in.rdbuf();
+  return parse_scenario_text(text.str(), path);
+}
+
+} // namespace fxmimo::golden
