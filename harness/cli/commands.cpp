@@ -1,0 +1,29 @@
+#include "commands.hpp"
+
+#include <fmt/core.h>
+
+#include <cstdio>
+
+namespace fxmimo::cli {
+
+namespace {
+int exit_code = exit_ok;
+}
+
+int last_exit_code() { return exit_code; }
+
+void run_guarded(const std::string& command, const std::function<int()>& body) {
+  try {
+    exit_code = body();
+  } catch (const std::exception& e) {
+    std::fflush(stdout);
+    fmt::print(stderr, "fxmimo {}: {}\n", command, e.what());
+    exit_code = exit_usage;
+  }
+}
+
+void register_commands(CLI::App& app) {
+  add_quant_command(app);
+}
+
+}  // namespace fxmimo::cli

@@ -1,0 +1,28 @@
+#pragma once
+// The commands of the fxmimo program. Each add_*_command registers one subcommand; its callback
+// runs through run_guarded, which turns an exception into a one-line message and exit code 2.
+
+#include <CLI/CLI.hpp>
+
+#include <functional>
+#include <string>
+
+namespace fxmimo::cli {
+
+inline constexpr int exit_ok = 0;
+inline constexpr int exit_check_failed = 1;
+inline constexpr int exit_usage = 2;
+
+/// Bad input the user can fix: printed as "fxmimo CMD: message", exit code 2.
+struct usage_error : std::runtime_error {
+  using std::runtime_error::runtime_error;
+};
+
+void register_commands(CLI::App& app);
+int last_exit_code();
+/// Runs a command body; its return value (or 2 after an exception) becomes the exit code.
+void run_guarded(const std::string& command, const std::function<int()>& body);
+
+void add_quant_command(CLI::App& app);
+
+}  // namespace fxmimo::cli
