@@ -133,8 +133,9 @@ TEST_P(uatf_sinr, matches_closed_form) {
   EXPECT_NEAR(measured.mean, expected, 4.0 * measured.se)
       << c.name << ": seed " << seed << ", " << num_trials << " trials, se " << measured.se;
   std::cout << c.name << ": measured " << measured.mean << " +- " << measured.se << ", closed form " << expected << "\n";
-  // The test must be able to fail: the tolerance stays well below a 2 % error.
-  EXPECT_LT(4.0 * measured.se, 0.02 * expected) << c.name;
+  // The test must be able to fail: the tolerance stays below a 2 % error (4 % at the sanitizers'
+  // quarter trial count, whose standard error is twice as large).
+  EXPECT_LT(4.0 * measured.se, (test::sanitized_build ? 0.04 : 0.02) * expected) << c.name;
 }
 
 INSTANTIATE_TEST_SUITE_P(
@@ -180,7 +181,7 @@ TEST_P(zf_perfect_sinr, harmonic_mean_matches_inverse_wishart) {
   const mean_se inv = test::sample_mean(inverse_sinr);
   const double expected_inv = num_users / (rho * (num_ant - num_users));
   EXPECT_NEAR(inv.mean, expected_inv, 4.0 * inv.se) << "seed " << seed << ", " << num_trials << " trials";
-  EXPECT_LT(4.0 * inv.se, 0.01 * expected_inv);
+  EXPECT_LT(4.0 * inv.se, (test::sanitized_build ? 0.02 : 0.01) * expected_inv);
   const mean_se arith = test::sample_mean(sinr);
   EXPECT_GE(arith.mean + 4.0 * arith.se, 1.0 / expected_inv) << "Jensen: E[SINR] >= 1 / E[1/SINR]";
 }
