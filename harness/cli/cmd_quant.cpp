@@ -159,7 +159,7 @@ void add_quant_command(CLI::App& app) {
   cmd->footer(
       "Examples:\n"
       "  fxmimo quant -f Q0.15 0.5 -0.3 0.99999\n"
-      "  fxmimo quant -f Q1.6 -r floor -o wrap 1.999 -- -2.5\n"
+      "  fxmimo quant -f Q1.6 -r floor -o wrap 1.999 -2.5\n"
       "  fxmimo quant -f 12,8 0x800 0x7ff\n"
       "  printf '0.1\\n0.2\\n' | fxmimo quant -f UQ0.8 --json");
   cmd->callback([opt] { run_guarded("quant", [opt] { return run_quant(*opt); }); });

@@ -7,8 +7,8 @@
 ///   rsqrt:   round( 2^F / sqrt(x 2^-fx) )
 /// Corner cases: d = 0 and rsqrt(0) are overflows toward +-infinity (saturate gives max or min,
 /// wrap and saturate_zero give 0; 0/0 gives 0); sqrt and rsqrt of a negative value are counted
-/// as overflows and give 0. A square root of an integer is never exactly a tie, so only
-/// perfect squares are exact.
+/// as overflows and give 0. A root is a tie only when it is exact (e.g. sqrt(19329212.25) =
+/// 4396.5); an inexact root always lies strictly on one side of the half.
 
 #include "fxmimo/fixedpoint/counters.hpp"
 #include "fxmimo/fixedpoint/integer.hpp"
