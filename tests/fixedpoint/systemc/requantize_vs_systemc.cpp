@@ -6,10 +6,12 @@
 //
 // Modes without a SystemC twin: `ceil` is checked through ceil(x) = -floor(-x) (an identity
 // of the floor function, stated here and used with SC_TRN on the negated value).
+#include "fxmimo/fixedpoint/accumulator.hpp"
 #include "fxmimo/fixedpoint/conversions.hpp"
 #include "fxmimo/fixedpoint/requantize.hpp"
 
 #include <gtest/gtest.h>
+#include <nlohmann/json.hpp>
 #include <systemc>
 
 #include <random>
@@ -253,6 +255,93 @@ TEST(from_double_vs_systemc, every_mode_pair_on_random_doubles) {
         }
       }
     }
+  }
+}
+
+// The accumulator contract acc <- Q(acc + Q(a * b)) is what an sc_fix accumulator computes
+// when the exact product is first assigned to an accumulator-typed temporary and then added
+// (IEEE 1666-2011 7.10: expressions are exact in sc_fxval, assignment quantises then
+// overflows). Complex MAC, every mode pair, random full-range 16-bit operands.
+TEST(accumulator_vs_systemc, complex_mac_every_mode_pair) {
+  std::mt19937_64 rng(99);
+  std::uniform_int_distribution<std::int64_t> word(-32768, 32767);
+  const int acc_w = 30, acc_f = 24;  // Q5.24: saturates on some sequences
+  for (fp::rounding_mode rnd : fp::all_rounding_modes) {
+    if (rnd == fp::rounding_mode::ceil) continue;  // no SystemC twin (checked by identity above)
+    for (fp::overflow_mode ovf : fp::all_overflow_modes) {
+      const fp::target tgt{{true, acc_w, acc_f}, rnd, ovf};
+      const fp::requantizer<std::int64_t> q(tgt);
+      fp::complex_accumulator<std::int64_t> acc(q);
+      fp::counters c;
+      sc_dt::sc_fix acc_re(acc_w, acc_w - acc_f, sc_twin(rnd), sc_twin(ovf));
+      sc_dt::sc_fix acc_im(acc_w, acc_w - acc_f, sc_twin(rnd), sc_twin(ovf));
+      acc_re = 0;
+      acc_im = 0;
+      for (int k = 0; k < 300; ++k) {
+        const fp::cword<std::int64_t> a{word(rng), word(rng)}, b{word(rng), word(rng)};
+        acc.add(fp::cmul<std::int64_t>(a, b), 28, c);  // Q0.15 x Q1.13 -> 28 fraction bits
+        const sc_dt::sc_fxval ar = exact_value(a.re, 15), ai = exact_value(a.im, 15);
+        const sc_dt::sc_fxval br = exact_value(b.re, 13), bi = exact_value(b.im, 13);
+        sc_dt::sc_fix term_re(acc_w, acc_w - acc_f, sc_twin(rnd), sc_twin(ovf));
+        sc_dt::sc_fix term_im(acc_w, acc_w - acc_f, sc_twin(rnd), sc_twin(ovf));
+        term_re = ar * br - ai * bi;
+        term_im = ar * bi + ai * br;
+        acc_re = acc_re + term_re;
+        acc_im = acc_im + term_im;
+        ASSERT_EQ(big_int(acc.value().re), raw_word(acc_re, true)) << to_string(rnd) << "/" << to_string(ovf) << " k=" << k;
+        ASSERT_EQ(big_int(acc.value().im), raw_word(acc_im, true)) << to_string(rnd) << "/" << to_string(ovf) << " k=" << k;
+      }
+    }
+  }
+}
+
+// `fxmimo quant` end to end on the worked table of the README ("Quantising single values"):
+// the program's words must equal SystemC's for each row. The values are dyadic (exact in
+// binary), chosen to land on ties and just past saturation.
+struct quant_row {
+  const char* format;  // Q notation
+  const char* rounding;
+  const char* overflow;
+  const char* value;
+};
+
+constexpr quant_row readme_table[] = {
+    {"Q1.6", "half_even", "saturate", "0.5078125"},   // 32.5 LSB: tie to even -> 32
+    {"Q1.6", "half_up", "saturate", "0.5078125"},     // -> 33
+    {"Q1.6", "half_even", "saturate", "-0.5078125"},  // -32.5 LSB -> -32
+    {"Q1.6", "half_away", "saturate", "-0.5078125"},  // -> -33
+    {"Q1.6", "half_up", "saturate", "1.9921875"},     // 127.5 LSB rounds to 128: saturates to 127
+    {"Q1.6", "half_up", "wrap", "1.9921875"},         // 128 wraps to -128
+    {"Q1.6", "floor", "saturate", "-2.0078125"},      // -128.5 LSB floors to -129: saturates
+    {"Q1.6", "floor", "saturate_symmetric", "-2.0078125"},
+    {"Q1.6", "floor", "wrap", "-2.0078125"},          // -129 wraps to 127
+    {"Q0.15", "half_even", "saturate", "-1"},         // the most negative word, in range
+    {"Q0.15", "half_even", "saturate_symmetric", "-1"},
+    {"UQ0.8", "toward_zero", "saturate_zero", "1.5"},  // overflow -> 0
+};
+
+std::string run_and_capture(const std::string& command) {
+  std::string out;
+  FILE* pipe = popen(command.c_str(), "r");
+  if (pipe == nullptr) return out;
+  char buffer[4096];
+  while (std::fgets(buffer, sizeof buffer, pipe) != nullptr) out += buffer;
+  pclose(pipe);
+  return out;
+}
+
+TEST(quant_command_vs_systemc, readme_table_rows) {
+  for (const quant_row& row : readme_table) {
+    const std::string command = std::string(FXMIMO_EXE) + " quant --json -f " + row.format + " -r " + row.rounding +
+                                " -o " + row.overflow + " " + row.value;
+    const std::string out = run_and_capture(command);
+    const auto json = nlohmann::json::parse(out, nullptr, false);
+    ASSERT_FALSE(json.is_discarded()) << command << " printed: " << out;
+    const big_int got(json["values"][0]["word"].get<std::string>());
+    const fp::format f = fp::parse_format(row.format);
+    const fp::target tgt{f, *fp::parse_rounding_mode(row.rounding), *fp::parse_overflow_mode(row.overflow)};
+    const fp::binary_rational exact = fp::decompose(std::stod(row.value));  // dyadic: exact
+    EXPECT_EQ(got, reference_word(big_int(exact.mantissa), -exact.exponent, tgt)) << command;
   }
 }
 
