@@ -1,0 +1,100 @@
+// fxm_requant: bring a signed word x (IW bits, IF fraction bits) into a signed format (OW bits,
+// OF fraction bits), exactly as the fxmimo model does (README "How it computes"): first round
+// away the dropped fraction bits by RND, then handle overflow by OVF. Combinational,
+// synthesizable Verilog-2005 (IEEE 1364-2005).
+//
+//   S = IF - OF fraction bits are dropped (S > 0), none (S = 0) or appended (S < 0).
+//   Rounding, on the exact value x / 2^S with q = floor(x / 2^S), rest = x - q 2^S, half = 2^(S-1):
+//     RND 0 floor            q
+//     RND 1 ceil             q + (rest != 0)
+//     RND 2 toward_zero      q + (x < 0 && rest != 0)
+//     RND 3 half_up          q + (rest >= half)                   ties toward +inf
+//     RND 4 half_down        q + (rest >  half)                   ties toward -inf
+//     RND 5 half_toward_zero q + (rest > half || rest == half && x < 0)
+//     RND 6 half_away        q + (rest > half || rest == half && x >= 0)
+//     RND 7 half_even        q + (rest > half || rest == half && q odd)
+//   Overflow into OW bits, range [-2^(OW-1), 2^(OW-1)-1]:
+//     OVF 0 wrap (keep the OW low bits)  1 saturate  2 saturate_symmetric (clip to +-max; the
+//     word -2^(OW-1) also becomes -max)  3 saturate_zero (an overflowing value becomes 0).
+// Limits: 0 <= S < IW when dropping (the model also handles S >= IW; this block does not), OW >= 2.
+//
+// IEEE 1364-2005 points this relies on: part-selects are unsigned (5.5.1), so every slice that
+// stands for a number is put back through a signed wire; concatenations are unsigned too, but
+// they are only used where the bit pattern is the whole story (sign extension, appended zeros).
+`timescale 1ns / 1ps
+`default_nettype none
+
+module fxm_requant #(
+    parameter integer IW = 33,
+    parameter integer IF = 28,
+    parameter integer OW = 24,
+    parameter integer OF = 18,
+    parameter integer RND = 7,
+    parameter integer OVF = 1
+) (
+    input  wire signed [IW-1:0] x,
+    output wire signed [OW-1:0] y
+);
+  localparam integer S = IF - OF;
+  // Width of the rounded value: the kept bits plus one for the carry of rounding up.
+  localparam integer RW = (S > 0) ? IW - S + 1 : IW - S;
+
+  wire signed [RW-1:0] r;
+
+  generate
+    if (S >= IW) begin : g_unsupported
+      // Elaboration stops here: this block keeps at least one bit of x (see Limits above).
+      fxm_requant_needs_IF_minus_OF_below_IW u_unsupported ();
+    end else if (S > 0) begin : g_drop
+      wire [S-1:0] rest = x[S-1:0];
+      // 2^(S-1); a zero replication inside a concatenation is legal (1364-2005 5.1.14).
+      wire [S-1:0] half = {1'b1, {(S - 1) {1'b0}}};
+      wire neg = x[IW-1];
+      wire q_odd = x[S];
+      wire rest_nz = |rest;
+      wire above = rest > half;
+      wire tie = rest == half;
+      wire up = (RND == 1) ? rest_nz :
+                (RND == 2) ? (neg & rest_nz) :
+                (RND == 3) ? (above | tie) :
+                (RND == 4) ? above :
+                (RND == 5) ? (above | (tie & neg)) :
+                (RND == 6) ? (above | (tie & ~neg)) :
+                (RND == 7) ? (above | (tie & q_odd)) :
+                1'b0;  // floor
+      // q = floor(x / 2^S): the kept bits, sign-extended by one for the carry.
+      wire signed [RW-1:0] q = {x[IW-1], x[IW-1:S]};
+      assign r = q + {{(RW - 1) {1'b0}}, up};
+    end else if (S == 0) begin : g_keep
+      assign r = x;
+    end else begin : g_append
+      assign r = {x, {(-S) {1'b0}}};
+    end
+  endgenerate
+
+  generate
+    if (RW > OW) begin : g_narrow
+      // r fits OW bits iff its bits RW-1 .. OW-1 are all equal.
+      wire [RW-OW:0] top = r[RW-1:OW-1];
+      wire fits = (&top) | ~(|top);
+      wire over = ~r[RW-1] & ~fits;
+      wire under = r[RW-1] & ~fits;
+      wire [OW-1:0] low = r[OW-1:0];
+      wire [OW-1:0] max_w = {1'b0, {(OW - 1) {1'b1}}};
+      wire [OW-1:0] min_w = {1'b1, {(OW - 1) {1'b0}}};
+      wire [OW-1:0] neg_max_w = {1'b1, {(OW - 2) {1'b0}}, 1'b1};
+      assign y = (OVF == 0) ? low :
+                 (OVF == 1) ? (over ? max_w : under ? min_w : low) :
+                 (OVF == 2) ? (over ? max_w : (under | (low == min_w)) ? neg_max_w : low) :
+                 ((over | under) ? {OW{1'b0}} : low);
+    end else begin : g_wide
+      // No overflow is possible; sign-extend (r is signed, 1364-2005 5.5.1 does not apply).
+      wire signed [OW-1:0] ext = {{(OW - RW) {r[RW-1]}}, r};
+      wire [OW-1:0] min_w = {1'b1, {(OW - 1) {1'b0}}};
+      wire [OW-1:0] neg_max_w = {1'b1, {(OW - 2) {1'b0}}, 1'b1};
+      assign y = (OVF == 2 && ext == $signed(min_w)) ? neg_max_w : ext;
+    end
+  endgenerate
+endmodule
+
+`default_nettype wire
