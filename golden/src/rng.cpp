@@ -33,6 +33,12 @@ random_stream::random_stream(std::uint64_t seed) {
   }
 }
 
+random_stream random_stream::from_state(const std::array<std::uint64_t, 4>& state) {
+  random_stream rng;
+  rng.state_ = state;
+  return rng;
+}
+
 std::uint64_t random_stream::next_u64() {
   const std::uint64_t result = rotl(state_[1] * 5, 7) * 9;
   const std::uint64_t t = state_[1] << 17;

@@ -3,6 +3,7 @@
 // between standard libraries), so a trial is bit-identical in any order and on any thread.
 #pragma once
 
+#include <array>
 #include <complex>
 #include <cstdint>
 
@@ -21,6 +22,9 @@ std::uint64_t trial_seed(std::uint64_t scenario_seed, std::uint64_t trial_index)
 class random_stream {
 public:
   explicit random_stream(std::uint64_t seed);
+  /// Generator with the given raw xoshiro256** state (not all zero), for checks against the
+  /// reference implementation.
+  static random_stream from_state(const std::array<std::uint64_t, 4>& state);
 
   /// Next raw 64-bit output.
   std::uint64_t next_u64();
@@ -37,7 +41,8 @@ public:
   double real_normal();
 
 private:
-  std::uint64_t state_[4];
+  random_stream() = default;
+  std::array<std::uint64_t, 4> state_{};
 };
 
 } // namespace fxmimo::golden
