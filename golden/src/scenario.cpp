@@ -372,9 +372,6 @@ void read_pilots(const table_reader& root, scenario& scen) {
   if (p.reuse > num_cells) {
     r.fail("reuse", fmt::format("reuse {} needs at least {} cells, the scenario has {}", p.reuse, p.reuse, num_cells));
   }
-  if (scen.cells.source == gain_source::hexagonal && num_cells == 3 && p.reuse == 7) {
-    r.fail("reuse", "reuse 7 is not compatible with 3 cells");
-  }
   const int needed = p.reuse * scen.cells.num_users;
   int default_length = needed;
   if (p.sequence == pilot_sequence::walsh) {

@@ -1,0 +1,170 @@
+// Scenario files: defaults, the one-line errors naming file, line and key, unknown keys, and the
+// harness-owned `nodes` table.
+#include "fxmimo/golden/scenario.hpp"
+
+#include <string>
+
+#include <fmt/format.h>
+#include <gtest/gtest.h>
+
+namespace fxmimo::golden {
+namespace {
+
+// Line numbers below refer to this text (line 1 = name).
+const std::string base_text = R"(name = "unit"
+seed = 3
+trials = 2
+[array]
+antennas = 8
+[cells]
+users_per_cell = 2
+[pilots]
+snr_db = 5
+[data]
+snr_db = 10
+)";
+
+// Replaces `from` (which must occur once) by `to` in the base text.
+std::string edit(const std::string& from, const std::string& to) {
+  std::string text = base_text;
+  const auto pos = text.find(from);
+  EXPECT_NE(pos, std::string::npos) << from;
+  text.replace(pos, from.size(), to);
+  return text;
+}
+
+TEST(scenario, defaults_are_the_documented_ones) {
+  const scenario s = parse_scenario_text(base_text, "unit.toml");
+  EXPECT_EQ(s.name, "unit");
+  EXPECT_EQ(s.seed, 3U);
+  EXPECT_EQ(s.num_trials, 2);
+  EXPECT_EQ(s.array.num_antennas, 8);
+  EXPECT_EQ(s.array.layout, array_layout::ula);
+  EXPECT_DOUBLE_EQ(s.array.spacing, 0.5);
+  EXPECT_EQ(s.cells.num_cells, 1);
+  EXPECT_EQ(s.cells.source, gain_source::hexagonal);
+  EXPECT_DOUBLE_EQ(s.cells.radius_m, 500.0);
+  EXPECT_DOUBLE_EQ(s.cells.min_distance_m, 35.0);
+  EXPECT_DOUBLE_EQ(s.cells.pathloss_exponent, 3.76);
+  EXPECT_DOUBLE_EQ(s.cells.shadowing_db, 8.0);
+  EXPECT_EQ(s.channel.model, channel_model::rayleigh);
+  EXPECT_EQ(s.pilots.length, 2);
+  EXPECT_EQ(s.pilots.sequence, pilot_sequence::dft);
+  EXPECT_EQ(s.pilots.reuse, 1);
+  EXPECT_EQ(s.estimator.kind, estimator_kind::mmse);
+  EXPECT_EQ(s.precoder.kind, precoder_kind::zf);
+  EXPECT_EQ(s.precoder.inversion, inversion_kind::ldl);
+  EXPECT_EQ(s.precoder.normalization, power_normalization::total);
+  EXPECT_EQ(s.data.mod, modulation::qam16);
+  EXPECT_EQ(s.data.num_symbols, 168);
+  EXPECT_DOUBLE_EQ(s.frontend.agc_backoff_db, 12.0);
+  EXPECT_DOUBLE_EQ(s.frontend.dac_backoff_db, 12.0);
+  EXPECT_DOUBLE_EQ(s.rzf_regularizer(), 2.0 / 10.0);
+}
+
+TEST(scenario, nodes_table_belongs_to_the_harness) {
+  const std::string text = base_text + R"(
+[nodes.adc]
+format = "Q1.14"
+anything = { goes = [1, 2, 3] }
+[nodes.gram]
+whatever = true
+)";
+  EXPECT_NO_THROW(parse_scenario_text(text, "unit.toml"));
+}
+
+TEST(scenario, walsh_default_length_is_a_power_of_two) {
+  // users_per_cell = 3 and Walsh sequences: the default length is the next power of two, 4.
+  const scenario s = parse_scenario_text(edit("users_per_cell = 2", "users_per_cell = 3")
+                                             .insert(base_text.find("[data]"), "sequence = \"walsh\"\n"),
+                                         "unit.toml");
+  EXPECT_EQ(s.pilots.sequence, pilot_sequence::walsh);
+  EXPECT_EQ(s.pilots.length, 4);
+}
+
+struct error_case {
+  std::string name;
+  std::string text;
+  int line;
+  std::string key;
+  std::string fragment; ///< part of the message
+};
+
+void PrintTo(const error_case& c, std::ostream* os) { *os << c.name; }
+
+class scenario_errors : public ::testing::TestWithParam<error_case> {};
+
+TEST_P(scenario_errors, one_line_naming_file_line_and_key) {
+  const error_case& c = GetParam();
+  try {
+    parse_scenario_text(c.text, "bad.toml");
+    FAIL() << c.name << ": no error";
+  } catch (const scenario_error& e) {
+    const std::string what = e.what();
+    EXPECT_EQ(e.file, "bad.toml");
+    EXPECT_EQ(e.key, c.key) << what;
+    EXPECT_EQ(e.line, c.line) << what;
+    EXPECT_EQ(what.rfind(fmt::format("bad.toml:{}: {}: ", c.line, c.key), 0), 0U) << what;
+    EXPECT_NE(what.find(c.fragment), std::string::npos) << what;
+    EXPECT_EQ(what.find('\n'), std::string::npos) << what;
+  }
+}
+
+INSTANTIATE_TEST_SUITE_P(
+    out_of_range_and_unknown, scenario_errors,
+    ::testing::Values(
+        error_case{"zero_antennas", edit("antennas = 8", "antennas = 0"), 5, "array.antennas", "out of range"},
+        error_case{"too_many_antennas", edit("antennas = 8", "antennas = 5000"), 5, "array.antennas", "out of range"},
+        error_case{"zero_trials", edit("trials = 2", "trials = 0"), 3, "trials", "out of range"},
+        error_case{"users_exceed_pilots", edit("snr_db = 5", "snr_db = 5\nlength = 1"), 10, "pilots.length",
+                   "orthogonal pilots needed"},
+        error_case{"reuse_2", edit("snr_db = 5", "snr_db = 5\nreuse = 2"), 10, "pilots.reuse", "1, 3 or 7"},
+        error_case{"reuse_exceeds_cells", edit("snr_db = 5", "snr_db = 5\nreuse = 3"), 10, "pilots.reuse",
+                   "needs at least 3 cells"},
+        error_case{"reuse_7_three_cells", edit("snr_db = 5", "snr_db = 5\nreuse = 7").insert(
+                                                    base_text.find("[pilots]"), "count = 3\n"),
+                   11, "pilots.reuse", "reuse 7 needs at least 7 cells"},
+        error_case{"hex_count_5", edit("users_per_cell = 2", "users_per_cell = 2\ncount = 5"), 8, "cells.count",
+                   "1, 3, 7 or 19"},
+        error_case{"unknown_modulation", base_text + "modulation = \"8psk\"\n", 12, "data.modulation",
+                   "unknown value \"8psk\""},
+        error_case{"unknown_top_key", edit("seed = 3", "seed = 3\ncolour = 1"), 3, "colour", "unknown key"},
+        error_case{"unknown_table_key", edit("antennas = 8", "antennas = 8\nantenas = 8"), 6, "array.antenas",
+                   "unknown key"},
+        error_case{"unknown_table", base_text + "[beamforming]\nkind = \"mf\"\n", 12, "beamforming", "unknown key"},
+        error_case{"correlation_missing", base_text + "[channel]\nmodel = \"correlated\"\n", 12, "channel.correlation",
+                   "missing required key"},
+        error_case{"correlation_unused", base_text + "[channel]\ncorrelation = 0.5\n", 13, "channel.correlation",
+                   "only used with"},
+        error_case{"walsh_length", edit("snr_db = 5", "snr_db = 5\nsequence = \"walsh\"\nlength = 6"), 11,
+                   "pilots.length", "power-of-two"},
+        error_case{"zf_more_users_than_antennas", edit("antennas = 8", "antennas = 1"), 7, "cells.users_per_cell",
+                   "zero forcing"},
+        error_case{"neumann_terms_with_ldl", base_text + "[precoder]\nneumann_terms = 3\n", 13,
+                   "precoder.neumann_terms", "only used with"},
+        error_case{"negative_regularizer", base_text + "[precoder]\nkind = \"rzf\"\nregularizer = -1\n", 14,
+                   "precoder.regularizer", "out of range"},
+        error_case{"user_gains_length", edit("users_per_cell = 2", "users_per_cell = 2\nuser_gains_db = [0]"), 8,
+                   "cells.user_gains_db", "needs 2 values"},
+        error_case{"min_distance_too_large", edit("users_per_cell = 2", "users_per_cell = 2\nradius_m = 100\nmin_distance_m = 90"),
+                   9, "cells.min_distance_m", "no room"},
+        error_case{"gains_db_ragged", edit("users_per_cell = 2", "gains_db = [[[0, 0], [-10, -10]], [[-10, -10]]]"), 7,
+                   "cells.gains_db", "each base station"},
+        error_case{"wrong_type", edit("antennas = 8", "antennas = \"eight\""), 5, "array.antennas", "expected an integer"},
+        error_case{"missing_array", edit("[array]\nantennas = 8\n", ""), 1, "array", "missing required table"},
+        error_case{"missing_data_snr", edit("snr_db = 10", "symbols = 4"), 10, "data.snr_db", "missing required key"},
+        error_case{"syntax", edit("seed = 3", "seed = = 3"), 2, "(syntax)", ""}),
+    [](const ::testing::TestParamInfo<error_case>& param_info) { return param_info.param.name; });
+
+TEST(scenario, missing_file_names_the_path) {
+  try {
+    load_scenario_file("/nonexistent/fxmimo/scenario.toml");
+    FAIL();
+  } catch (const scenario_error& e) {
+    EXPECT_EQ(e.file, "/nonexistent/fxmimo/scenario.toml");
+    EXPECT_EQ(e.key, "(file)");
+  }
+}
+
+} // namespace
+} // namespace fxmimo::golden
