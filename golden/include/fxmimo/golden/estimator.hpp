@@ -29,7 +29,7 @@ Eigen::MatrixXcd correlate_pilots(const Eigen::MatrixXcd& adc, const Eigen::Matr
 
 /// psi^j_k = 1 / (tau_p rho_p sum_{l sharing k's pilot with cell j} beta^j_{lk} + 1), the inverse of
 /// the normalised correlator variance (Björnson, Hoydis & Sanguinetti, Massive MIMO Networks, 2017,
-/// Sec. 3.2 / eq. (3.10) with uncorrelated fading; contaminating users of the same pilot group included).
+/// Chapter 3 (from memory) with uncorrelated fading; contaminating users of the same pilot group included).
 double mmse_psi(const scenario& scen, const large_scale& gains, int i_bs, int i_user);
 
 /// Real per-user estimation scale so that chan_est = pilot_acc * est_scale[k]:

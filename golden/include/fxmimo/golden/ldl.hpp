@@ -13,7 +13,7 @@ struct ldl_factors {
 };
 
 /// Factorises a Hermitian matrix without pivoting (Golub & Van Loan, Matrix Computations, 4th ed.,
-/// Alg. 4.1.2, complex form), column by column:
+/// Sec. 4.1 (from memory), complex form), column by column:
 /// d_j = a_jj - sum_{k<j} |l_jk|^2 d_k;  l_ij = (a_ij - sum_{k<j} l_ik conj(l_jk) d_k) * (1/d_j), i > j.
 /// Only the lower triangle of `a` is read. A zero or negative d_j (singular or indefinite input)
 /// yields infinities or NaNs, never an exception.

@@ -9,7 +9,7 @@ namespace fxmimo::golden {
 /// term_0 = D^-1, term_n = (I - D^-1 A) term_{n-1}, X = sum of the terms. Its error is exactly
 /// A^-1 - X_T = (I - D^-1 A)^T A^-1 (the series tail), which vanishes as T grows if and only if
 /// the spectral radius of I - D^-1 A is below 1 (Wu et al., "Large-scale MIMO detection for 3GPP
-/// LTE: algorithms and FPGA implementations", IEEE JSTSP 2014, uses the same series).
+/// LTE: algorithms and FPGA implementations", IEEE JSTSP 2014 (from memory), uses the same series).
 Eigen::MatrixXcd neumann_inverse(const Eigen::MatrixXcd& a, int num_terms);
 
 /// Spectral radius of I - D^-1 A for Hermitian A with positive diagonal, from the eigenvalues of

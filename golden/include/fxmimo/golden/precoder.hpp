@@ -38,7 +38,7 @@ Eigen::VectorXd power_normalization_factors(const Eigen::MatrixXcd& precoder, po
 /// mf   W = conj(H_hat)
 /// zf   W = conj(H_hat G^-1), G = H_hat^H H_hat
 /// rzf  W = conj(H_hat (G + lambda I)^-1), lambda = scenario::rzf_regularizer() (default K / rho_d,
-///      the regularised-inversion choice of Peel, Hochwald & Swindlehurst, IEEE TCOM 53(1), 2005)
+///      the regularised-inversion choice of Peel, Hochwald & Swindlehurst, IEEE TCOM 53(1), 2005 (from memory))
 /// with G^-1 by LDL^H, a Neumann series of T terms, or Eigen's pivoted LDL^T (reference).
 precoder_output compute_precoder(const scenario& scen, const Eigen::MatrixXcd& chan_est);
 

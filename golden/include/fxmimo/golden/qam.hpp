@@ -17,7 +17,7 @@ int bits_per_symbol(modulation mod);
 /// level, the lower half the quadrature level) to a point. Each half is a binary-reflected Gray
 /// code of the PAM level index i (label = i ^ (i >> 1)); level 2i - (sqrt(Q) - 1), scaled by
 /// sqrt(3 / (2 (Q - 1))) so that the mean power over all Q points is 1 (square Q-QAM mean
-/// energy 2 (Q - 1) / 3 for levels +-1, +-3, ...; Proakis, Digital Communications).
+/// energy 2 (Q - 1) / 3 for levels +-1, +-3, ...; Proakis, Digital Communications (from memory)).
 std::complex<double> qam_map(modulation mod, std::uint32_t label);
 
 /// All points, index = label.

@@ -43,7 +43,7 @@ struct trial_data {
   Eigen::MatrixXcd weights;      ///< M x K
   Eigen::MatrixXcd symbols;      ///< K x N unit-power QAM
   label_matrix symbol_bits;      ///< K x N labels of `symbols`
-  Eigen::MatrixXcd tx;           ///< weights * symbols (M x N): golden tx_acc and dac
+  Eigen::MatrixXcd tx;           ///< weights * symbols (M x N): golden tx_acc and dac (Eigen product)
   double digital_power = 0.0;    ///< P_dig = M 10^(-dac_backoff_db/10)
 
   // Evaluation.
