@@ -24,6 +24,8 @@ void run_guarded(const std::string& command, const std::function<int()>& body) {
 
 void register_commands(CLI::App& app) {
   add_quant_command(app);
+  add_run_command(app);
+  add_demo_command(app);
   add_check_command(app);
   add_diff_command(app);
 }

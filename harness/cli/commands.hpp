@@ -24,6 +24,8 @@ int last_exit_code();
 void run_guarded(const std::string& command, const std::function<int()>& body);
 
 void add_quant_command(CLI::App& app);
+void add_run_command(CLI::App& app);
+void add_demo_command(CLI::App& app);
 void add_check_command(CLI::App& app);
 void add_diff_command(CLI::App& app);
 

@@ -1,0 +1,26 @@
+#pragma once
+// A scenario file read once and parsed twice: the golden model's sections and the datapath's
+// [nodes] tables.
+
+#include "fxmimo/golden/scenario.hpp"
+#include "fxmimo/harness/nodes.hpp"
+
+#include <string>
+
+namespace fxmimo::cli {
+
+struct scenario_input {
+  std::string text;
+  golden::scenario scen;
+  harness::datapath_config config;
+};
+
+/// Reads and parses `path`; errors (scenario_error, unreadable file) name the file.
+scenario_input load_scenario_input(const std::string& path);
+/// Parses text given under a name (the embedded demo scenario).
+scenario_input parse_scenario_input(std::string text, const std::string& source_name);
+
+/// The embedded demo scenario (examples/rooftop-64.toml at build time).
+const char* demo_scenario_text();
+
+}  // namespace fxmimo::cli
