@@ -66,6 +66,11 @@ std::vector<std::int64_t> parse_word_lines(std::string_view text, const fp::form
     if (expected_count && words.size() == *expected_count) {
       fail(fmt::format("more lines than the {} words expected", *expected_count));
     }
+    if (line.size() > 2 && line[0] == '0' && (line[1] == 'x' || line[1] == 'X') && is_radix_digit(line[2], radix)) {
+      fail(fmt::format("{} starts with a '0{}' prefix; word files hold bare digits ($readmemh/hread reject "
+                       "prefixes)",
+                       quoted_excerpt(line), line[1]));
+    }
     for (std::size_t i = 0; i < line.size(); ++i) {
       const char ch = line[i];
       if (is_unknown_digit(ch)) {
