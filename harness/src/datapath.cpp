@@ -3,6 +3,7 @@
 #include "fxmimo/fixedpoint/accumulator.hpp"
 #include "fxmimo/fixedpoint/conversions.hpp"
 #include "fxmimo/fixedpoint/divide.hpp"
+#include "fxmimo/fixedpoint/dot_kernel.hpp"
 #include "fxmimo/fixedpoint/width.hpp"
 #include "fxmimo/golden/precoder.hpp"
 
@@ -34,6 +35,13 @@ void put(word_matrix& w, int row, int col, const cw& v) {
   const std::size_t i = w.at(row, col);
   w.re[i] = v.re;
   if (w.is_complex) w.im[i] = v.im;
+}
+
+/// The words as complex pairs, row-major (the layout the dot kernel reads).
+std::vector<cw> interleaved(const word_matrix& w) {
+  std::vector<cw> out(w.size());
+  for (std::size_t i = 0; i < w.size(); ++i) out[i] = {w.re[i], w.is_complex ? w.im[i] : 0};
+  return out;
 }
 
 /// Calls f with the integer type that holds `bits` bits (chosen once per node stage).
@@ -80,23 +88,20 @@ fp::cword<P> scale(const cw& v, word s) {
 }
 
 /// pilot_acc[m,k] = sum over t (index order) of Q(adc[m,t] conj(pilot[t,k])).
-template <class P>
 void correlate(const node_state& adc, const node_state& pilot, node_state& acc_node) {
   const word_matrix& y = *adc.words;
   const word_matrix& phi = *pilot.words;
   const int num_ant = y.rows, num_pilot = y.cols, num_users = phi.cols;
   *acc_node.words = word_matrix(num_ant, num_users, true);
-  const fp::requantizer<P> q(acc_node.spec);
-  const int product_frac = adc.frac() + pilot.frac();
-  fp::complex_accumulator<P> acc(q);
+  const fp::requantizer<word> q(acc_node.spec);
+  const std::vector<cw> ys = interleaved(y), phis = interleaved(phi);
   for (int i_ant = 0; i_ant < num_ant; ++i_ant) {
     for (int i_user = 0; i_user < num_users; ++i_user) {
-      acc.reset();
-      for (int i_pilot = 0; i_pilot < num_pilot; ++i_pilot) {
-        acc.add(fp::cmul_conj<P>(widen<P>(get(y, i_ant, i_pilot)), widen<P>(get(phi, i_pilot, i_user))), product_frac,
-                *acc_node.counters);
-      }
-      put(*acc_node.words, i_ant, i_user, narrow(acc.value()));
+      put(*acc_node.words, i_ant, i_user,
+          fp::dot_accumulate<fp::product_form::conj_second>(
+              &ys[y.at(i_ant, 0)], 1, &phis[phi.at(0, i_user)], static_cast<std::size_t>(num_users),
+              static_cast<std::size_t>(num_pilot), adc.bits(), pilot.bits(), adc.frac() + pilot.frac(), q,
+              *acc_node.counters));
     }
   }
 }
@@ -124,16 +129,15 @@ void gram_stage(const node_state& est, node_state& g, bool loaded, double regula
   const int num_ant = h.rows, num_users = h.cols;
   *g.words = word_matrix(num_users, num_users, true);
   const fp::requantizer<P> q(g.spec);
-  const int product_frac = 2 * est.frac();
-  fp::complex_accumulator<P> acc(q);
+  const fp::requantizer<word> q_acc(g.spec);
+  const std::vector<cw> hs = interleaved(h);
+  const auto stride = static_cast<std::size_t>(num_users);
   for (int i_user = 0; i_user < num_users; ++i_user) {
     for (int j_user = 0; j_user <= i_user; ++j_user) {
-      acc.reset();
-      for (int i_ant = 0; i_ant < num_ant; ++i_ant) {
-        acc.add(fp::cmul_conj<P>(widen<P>(get(h, i_ant, j_user)), widen<P>(get(h, i_ant, i_user))), product_frac,
-                *g.counters);
-      }
-      put(*g.words, i_user, j_user, narrow(acc.value()));
+      put(*g.words, i_user, j_user,
+          fp::dot_accumulate<fp::product_form::conj_second>(&hs[h.at(0, j_user)], stride, &hs[h.at(0, i_user)], stride,
+                                                            static_cast<std::size_t>(num_ant), est.bits(), est.bits(),
+                                                            2 * est.frac(), q_acc, *g.counters));
     }
   }
   const fp::requantizer<word> qw(g.spec);
@@ -320,16 +324,16 @@ void precoder_stage(const node_state& est, const node_state* inverse, node_state
     return;
   }
   const word_matrix& a = *inverse->words;
-  const int product_frac = est.frac() + inverse->frac();
-  fp::complex_accumulator<P> acc(q);
+  const fp::requantizer<word> q_acc(pre.spec);
+  const std::vector<cw> hs = interleaved(h), as = interleaved(a);
   for (int i_ant = 0; i_ant < h.rows; ++i_ant) {
     for (int i_user = 0; i_user < h.cols; ++i_user) {
-      acc.reset();
-      for (int j_user = 0; j_user < h.cols; ++j_user) {
-        const fp::cword<P> p = fp::cmul<P>(widen<P>(get(h, i_ant, j_user)), widen<P>(get(a, j_user, i_user)));
-        acc.add({p.re, P(-p.im)}, product_frac, *pre.counters);
-      }
-      put(*pre.words, i_ant, i_user, narrow(acc.value()));
+      put(*pre.words, i_ant, i_user,
+          fp::dot_accumulate<fp::product_form::conj_both>(&hs[h.at(i_ant, 0)], 1, &as[a.at(0, i_user)],
+                                                          static_cast<std::size_t>(a.cols),
+                                                          static_cast<std::size_t>(h.cols), est.bits(),
+                                                          inverse->bits(), est.frac() + inverse->frac(), q_acc,
+                                                          *pre.counters));
     }
   }
 }
@@ -379,32 +383,20 @@ void weights_stage(const node_state& pre, const node_state& norm, const node_sta
 }
 
 /// tx_acc[m,n] = sum over users k (index order) of Q(weights[m,k] symbols[k,n]); dac = Q(tx_acc).
-template <class P>
 void transmit_stage(const node_state& wts, const node_state& sym, node_state& tx, node_state& dac) {
   const word_matrix& w = *wts.words;
   const word_matrix& s = *sym.words;
   const int num_ant = w.rows, num_users = w.cols, num_sym = s.cols;
   *tx.words = word_matrix(num_ant, num_sym, true);
   *dac.words = word_matrix(num_ant, num_sym, true);
-  const fp::requantizer<P> q_tx(tx.spec);
+  const fp::requantizer<word> q_tx(tx.spec);
   const fp::requantizer<word> q_dac(dac.spec);
-  const int product_frac = wts.frac() + sym.frac();
-  // Symbols by column, so the inner loop over users reads memory in order.
-  std::vector<fp::cword<P>> sym_by_col(static_cast<std::size_t>(num_sym) * static_cast<std::size_t>(num_users));
-  for (int i_sym = 0; i_sym < num_sym; ++i_sym)
-    for (int i_user = 0; i_user < num_users; ++i_user)
-      sym_by_col[static_cast<std::size_t>(i_sym * num_users + i_user)] = widen<P>(get(s, i_user, i_sym));
-  std::vector<fp::cword<P>> row(static_cast<std::size_t>(num_users));
-  fp::complex_accumulator<P> acc(q_tx);
+  const std::vector<cw> ws = interleaved(w), ss = interleaved(s);
   for (int i_ant = 0; i_ant < num_ant; ++i_ant) {
-    for (int i_user = 0; i_user < num_users; ++i_user) row[static_cast<std::size_t>(i_user)] = widen<P>(get(w, i_ant, i_user));
     for (int i_sym = 0; i_sym < num_sym; ++i_sym) {
-      acc.reset();
-      const fp::cword<P>* col = &sym_by_col[static_cast<std::size_t>(i_sym * num_users)];
-      for (int i_user = 0; i_user < num_users; ++i_user) {
-        acc.add(fp::cmul<P>(row[static_cast<std::size_t>(i_user)], col[i_user]), product_frac, *tx.counters);
-      }
-      const cw v = narrow(acc.value());
+      const cw v = fp::dot_accumulate<fp::product_form::plain>(
+          &ws[w.at(i_ant, 0)], 1, &ss[s.at(0, i_sym)], static_cast<std::size_t>(num_sym),
+          static_cast<std::size_t>(num_users), wts.bits(), sym.bits(), wts.frac() + sym.frac(), q_tx, *tx.counters);
       put(*tx.words, i_ant, i_sym, v);
       put(*dac.words, i_ant, i_sym, fp::requantize(v, tx.frac(), q_dac, *dac.counters));
     }
@@ -432,8 +424,7 @@ fixed_trial run_fixed_datapath(const golden::scenario& scen, const datapath_conf
 
   quantize_values(trial.adc, true, adc);
   quantize_values(trial.pilots, true, pilot);
-  with_width(product_bits({adc.bits(), pilot.bits()}, pacc.bits()),
-             [&](auto tag) { correlate<decltype(tag)>(adc, pilot, pacc); });
+  correlate(adc, pilot, pacc);
   quantize_values(trial.est_scale.cast<std::complex<double>>(), false, es);
   if (scen.estimator.kind == golden::estimator_kind::perfect) {
     quantize_values(trial.chan_est, true, est);
@@ -489,18 +480,21 @@ fixed_trial run_fixed_datapath(const golden::scenario& scen, const datapath_conf
 
   node_state sym = node(node_id::symbols), tx = node(node_id::tx_acc), dac = node(node_id::dac);
   quantize_values(trial.symbols, true, sym);
-  with_width(product_bits({wts.bits(), sym.bits()}, tx.bits()),
-             [&](auto tag) { transmit_stage<decltype(tag)>(wts, sym, tx, dac); });
+  transmit_stage(wts, sym, tx, dac);
   out.dac_value = to_values(*dac.words, dac.frac());
   return out;
 }
 
 Eigen::MatrixXcd to_values(const word_matrix& words, int frac_bits) {
+  // Scaling by a power of two is exact in double (no word here comes near its range limits);
+  // the conversion of a word above 2^53 rounds, which only reporting sees.
+  const double lsb = std::ldexp(1.0, -frac_bits);
   Eigen::MatrixXcd out(words.rows, words.cols);
   for (int r = 0; r < words.rows; ++r) {
     for (int c = 0; c < words.cols; ++c) {
       const std::size_t i = words.at(r, c);
-      out(r, c) = {fp::to_double(words.re[i], frac_bits), words.is_complex ? fp::to_double(words.im[i], frac_bits) : 0.0};
+      out(r, c) = {static_cast<double>(words.re[i]) * lsb,
+                   words.is_complex ? static_cast<double>(words.im[i]) * lsb : 0.0};
     }
   }
   return out;

@@ -41,7 +41,7 @@ struct rounded {
 
 /// Rounds q_floor + f by `mode` (rounding.hpp) and returns the integer.
 template <class T>
-T apply_rounding(const T& q_floor, remainder_class f, bool negative, rounding_mode mode) {
+[[gnu::always_inline]] inline T apply_rounding(const T& q_floor, remainder_class f, bool negative, rounding_mode mode) {
   bool q_odd;
   if constexpr (int_traits<T>::native) {
     q_odd = (q_floor & 1) != 0;
@@ -53,7 +53,7 @@ T apply_rounding(const T& q_floor, remainder_class f, bool negative, rounding_mo
 
 /// Rounding stage of a right shift: round(x / 2^s) by `mode`, s >= 1, any s.
 template <class T>
-rounded<T> round_shift(const T& x, int s, rounding_mode mode) {
+[[gnu::always_inline]] inline rounded<T> round_shift(const T& x, int s, rounding_mode mode) {
   constexpr int bits = int_traits<T>::bits;
   const bool negative = x < 0;
   auto classify = [](const auto& rest, const auto& half) {
@@ -115,7 +115,7 @@ class requantizer {
   [[nodiscard]] const T& max_word() const { return hi_; }
 
   /// The exact value x * 2^-from_frac requantised to the target; counts into `c`.
-  T operator()(const T& x, int from_frac, counters& c) const {
+  [[gnu::always_inline]] T operator()(const T& x, int from_frac, counters& c) const {
     ++c.requantized;
     const int s = from_frac - tgt_.fmt.frac_bits;  // fraction bits dropped (< 0: appended)
     if (s == 0) return overflow(x, c);
@@ -130,7 +130,7 @@ class requantizer {
   }
 
   /// Overflow stage alone: q is already an integer in units of the target LSB.
-  T overflow(const T& q, counters& c) const {
+  [[gnu::always_inline]] T overflow(const T& q, counters& c) const {
     if (q > hi_ || q < lo_) {
       ++c.overflowed;
       const double excess = q > hi_ ? to_double_approx(T(q - hi_)) : to_double_approx(lo_) - to_double_approx(q);
