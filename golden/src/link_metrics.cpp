@@ -1,6 +1,9 @@
 #include "fxmimo/golden/link_metrics.hpp"
 
 #include <cmath>
+#include <stdexcept>
+
+#include <fmt/format.h>
 
 #include "fxmimo/golden/precoder.hpp"
 #include "fxmimo/golden/trial.hpp"
@@ -45,6 +48,10 @@ link_metrics measure_link(const Eigen::MatrixXcd& received, const Eigen::MatrixX
 }
 
 Eigen::MatrixXcd received_downlink(const scenario& scen, const trial_data& trial, const Eigen::MatrixXcd& tx_cell0) {
+  if (tx_cell0.rows() != trial.tx.rows() || tx_cell0.cols() != trial.tx.cols()) {
+    throw std::invalid_argument(fmt::format("evaluate_downlink: the block is {} x {}, the trial's tx is {} x {}",
+                                            tx_cell0.rows(), tx_cell0.cols(), trial.tx.rows(), trial.tx.cols()));
+  }
   const double amplitude = std::sqrt(scen.downlink_snr() / trial.digital_power);
   Eigen::MatrixXcd r = trial.channel_to_cell0[0].transpose() * tx_cell0;
   for (std::size_t i_cell = 1; i_cell < trial.channel_to_cell0.size(); ++i_cell) {

@@ -19,7 +19,6 @@ namespace {
 
 using test::make_scenario;
 using test::mean_se;
-using test::trial_count;
 
 // ---------------------------------------------------------------------------------------------
 // Gram node G = H^H H of i.i.d. CN(0,1) channels (perfect CSI, M = 256, K = 64, beta = 1).
@@ -61,7 +60,7 @@ snr_db = 10
   const double sigma_upper = (sm + sk) * std::cbrt(1.0 / sm + 1.0 / sk);
   const double sigma_lower = (sm - sk) * std::cbrt(1.0 / sk - 1.0 / sm);
 
-  const int num_trials = trial_count(60, 20);
+  const int num_trials = 60;
   std::vector<double> first_moment;
   std::vector<double> second_moment;
   std::vector<double> largest;
@@ -120,7 +119,7 @@ snr_db = 0
   const double r = 0.7;
   const std::uint64_t seed = 2001;
   random_stream rng(seed);
-  const int num_draws = trial_count(20000, 5000);
+  const int num_draws = 20000;
   for (const array_layout layout : {array_layout::ula, array_layout::upa}) {
     scen.array.layout = layout;
     scen.array.num_columns = layout == array_layout::upa ? 4 : 12;
@@ -179,7 +178,7 @@ snr_db = 0
   // Steering vector of a ULA: a_m = exp(j 2 pi d m sin theta).
   EXPECT_NEAR(std::arg(a(1) * std::conj(a(0))), std::remainder(std::numbers::pi * std::sin(0.4), 2.0 * std::numbers::pi), 1e-12);
   random_stream rng(77);
-  const int num_draws = trial_count(4000, 1000);
+  const int num_draws = 4000;
   std::vector<double> projection;
   std::vector<double> element_power;
   for (int i_draw = 0; i_draw < num_draws; ++i_draw) {

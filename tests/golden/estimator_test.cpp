@@ -18,7 +18,6 @@ namespace {
 
 using test::make_scenario;
 using test::mean_se;
-using test::trial_count;
 
 // Björnson, Hoydis & Sanguinetti, Massive MIMO Networks (2017), per antenna, uncorrelated fading
 // (eqs. (3.13), (3.20), (3.35)-(3.36), numbers from memory):
@@ -104,7 +103,7 @@ TEST_P(estimation_error, matches_closed_form) {
   const std::vector<double> sharing = c.reuse == 1 ? pattern : std::vector<double>{pattern[0], pattern[3]};
   const double expected = c.estimator == "mmse" ? mmse_error(sharing, 4.0) : ls_error(sharing, 4.0);
 
-  const int num_trials = trial_count(400);
+  const int num_trials = 400;
   std::vector<double> error_power;
   std::vector<double> estimate_power;
   for (int i_trial = 0; i_trial < num_trials; ++i_trial) {
@@ -138,7 +137,7 @@ INSTANTIATE_TEST_SUITE_P(bjornson_2017, estimation_error,
 // power must be 10^(-agc_backoff_db/10) (definition of the AGC set point).
 TEST(agc, expected_power_sits_at_the_backoff) {
   const scenario scen = make_scenario(four_cell_text("ls", 1, 9.0));
-  const int num_trials = trial_count(200);
+  const int num_trials = 200;
   std::vector<double> power;
   for (int i_trial = 0; i_trial < num_trials; ++i_trial) {
     power.push_back(run_trial(scen, static_cast<std::uint64_t>(i_trial)).adc.cwiseAbs2().mean());

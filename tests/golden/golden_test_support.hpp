@@ -13,22 +13,6 @@
 
 namespace fxmimo::golden::test {
 
-#if defined(__SANITIZE_ADDRESS__)
-inline constexpr bool sanitized_build = true;
-#elif defined(__has_feature)
-#if __has_feature(address_sanitizer)
-inline constexpr bool sanitized_build = true;
-#else
-inline constexpr bool sanitized_build = false;
-#endif
-#else
-inline constexpr bool sanitized_build = false;
-#endif
-
-/// Trial count: the nominal one, or a quarter (at least `floor`) under the sanitizers, which run
-/// the same code about 10x slower. Every tolerance is derived from the count actually used.
-inline int trial_count(int nominal, int floor = 40) { return sanitized_build ? std::max(nominal / 4, floor) : nominal; }
-
 inline scenario make_scenario(const std::string& text) { return parse_scenario_text(text, "test.toml"); }
 
 /// Sample mean and its standard error sqrt(s^2 / n).

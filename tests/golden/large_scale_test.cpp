@@ -74,7 +74,7 @@ kind = "mf"
 snr_db = 0
 )");
   random_stream rng(12);
-  const int num_drops = test::trial_count(40, 10);
+  const int num_drops = 40;
   double sum_d2 = 0.0;
   int count = 0;
   for (int i_drop = 0; i_drop < num_drops; ++i_drop) {
