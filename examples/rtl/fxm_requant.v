@@ -47,13 +47,15 @@ module fxm_requant #(
       fxm_requant_needs_IF_minus_OF_below_IW u_unsupported ();
     end else if (S > 0) begin : g_drop
       wire [S-1:0] rest = x[S-1:0];
-      // 2^(S-1); a zero replication inside a concatenation is legal (1364-2005 5.1.14).
-      wire [S-1:0] half = {1'b1, {(S - 1) {1'b0}}};
+      // rest against half = 2^(S-1): its top bit is the half bit; the bits below it (shifted
+      // up, so that S = 1 needs no special case) say whether it lies above half.
+      wire [S-1:0] below = rest << 1;
       wire neg = x[IW-1];
       wire q_odd = x[S];
       wire rest_nz = |rest;
-      wire above = rest > half;
-      wire tie = rest == half;
+      wire below_nz = |below;
+      wire above = rest[S-1] & below_nz;
+      wire tie = rest[S-1] & ~below_nz;
       wire up = (RND == 1) ? rest_nz :
                 (RND == 2) ? (neg & rest_nz) :
                 (RND == 3) ? (above | tie) :

@@ -24,9 +24,12 @@ module tb;
   parameter integer AF = 14;
   parameter integer DW = 12;
   parameter integer DF = 9;
+  // The two rounding parameters go unused when FORCE_TRUNCATE overrides them.
+  // verilator lint_off UNUSEDPARAM
   parameter integer ACC_RND = 7;
-  parameter integer ACC_OVF = 1;
   parameter integer DAC_RND = 7;
+  // verilator lint_on UNUSEDPARAM
+  parameter integer ACC_OVF = 1;
   parameter integer DAC_OVF = 1;
 `ifdef FORCE_TRUNCATE
   localparam integer ACC_RND_RTL = 0;

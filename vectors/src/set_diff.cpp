@@ -136,7 +136,7 @@ set_diff_report diff_vector_sets(const vector_set& a, const vector_set& b, const
 std::string format_diff(const set_diff_report& report) {
   std::string out;
   for (const std::string& note : report.notes) out += "note: " + note + "\n";
-  out += fmt::format("{:<28} {:<10} {:>14} {:>12} {:>10}  {}\n", "record", "status", "changed words", "max |dB-A|", "SQNR dB", "what");
+  out += fmt::format("{:<28} {:<10} {:>14} {:>12} {:>10}  {}\n", "record", "status", "changed words", "max |B-A|", "SQNR dB", "what");
   for (const record_diff& r : report.records) {
     std::string status(to_string(r.status));
     if (r.status != diff_status::identical && r.allowed) status += " (allowed)";
