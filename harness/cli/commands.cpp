@@ -28,6 +28,7 @@ void register_commands(CLI::App& app) {
   add_demo_command(app);
   add_check_command(app);
   add_diff_command(app);
+  add_vectors_command(app);
 }
 
 }  // namespace fxmimo::cli

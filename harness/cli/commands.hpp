@@ -28,5 +28,6 @@ void add_run_command(CLI::App& app);
 void add_demo_command(CLI::App& app);
 void add_check_command(CLI::App& app);
 void add_diff_command(CLI::App& app);
+void add_vectors_command(CLI::App& app);
 
 }  // namespace fxmimo::cli
