@@ -29,6 +29,7 @@ void register_commands(CLI::App& app) {
   add_check_command(app);
   add_diff_command(app);
   add_vectors_command(app);
+  add_report_command(app);
 }
 
 }  // namespace fxmimo::cli

@@ -29,5 +29,6 @@ void add_demo_command(CLI::App& app);
 void add_check_command(CLI::App& app);
 void add_diff_command(CLI::App& app);
 void add_vectors_command(CLI::App& app);
+void add_report_command(CLI::App& app);
 
 }  // namespace fxmimo::cli

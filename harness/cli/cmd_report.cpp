@@ -1,0 +1,78 @@
+// fxmimo report: results files of run, range, sweep and tune drawn into one self-contained HTML page.
+#include "commands.hpp"
+
+#include "fxmimo/harness/report_html.hpp"
+
+#include <fmt/core.h>
+
+#include <filesystem>
+#include <fstream>
+
+namespace fxmimo::cli {
+
+namespace {
+
+struct report_options {
+  std::vector<std::string> inputs;
+  std::string out_path;
+};
+
+/// Writes text through a temporary file beside `path` and a rename: a reader never sees half a
+/// report, and a failed run leaves an earlier report untouched.
+void write_report_atomically(const std::filesystem::path& path, const std::string& text) {
+  const std::filesystem::path temp = path.string() + ".partial";
+  {
+    std::ofstream out(temp, std::ios::binary | std::ios::trunc);
+    if (!out) throw usage_error(path.string() + ": cannot write");
+    out << text;
+    out.flush();
+    if (!out) {
+      out.close();
+      std::filesystem::remove(temp);
+      throw usage_error(path.string() + ": write failed");
+    }
+  }
+  std::error_code ec;
+  std::filesystem::rename(temp, path, ec);
+  if (ec) {
+    std::filesystem::remove(temp);
+    throw usage_error(path.string() + ": cannot write: " + ec.message());
+  }
+}
+
+int run_report(const report_options& opt) {
+  std::vector<std::pair<std::string, nlohmann::json>> inputs;
+  inputs.reserve(opt.inputs.size());
+  try {
+    for (const std::string& file : opt.inputs) inputs.emplace_back(file, harness::read_report_input(file));
+    const std::string html = harness::render_report_html(inputs);
+    write_report_atomically(opt.out_path, html);
+  } catch (const harness::report_input_error& e) {
+    throw usage_error(e.what());
+  }
+  fmt::print("wrote {} ({} results file{})\n", opt.out_path, inputs.size(), inputs.size() == 1 ? "" : "s");
+  return exit_ok;
+}
+
+}  // namespace
+
+void add_report_command(CLI::App& app) {
+  auto opt = std::make_shared<report_options>();
+  CLI::App* cmd =
+      app.add_subcommand("report", "Draw results files (run, range, sweep, tune JSON) into one HTML report");
+  cmd->add_option("results", opt->inputs, "Results files written with --json by run, range, sweep or tune")
+      ->required();
+  cmd->add_option("-o,--out", opt->out_path, "The HTML file to write")->required();
+  cmd->footer(
+      "The page is self-contained (inline SVG, no scripts, no external resources) and prints in black\n"
+      "and white: SINR loss and EVM against the swept width per node, overflow rate against integer\n"
+      "bits, the range histograms with the proposed integer bits, the tuned widths with cost, margins\n"
+      "and the PASS/FAIL of the re-verification, and the tables of a run. Each file's \"kind\" says\n"
+      "what it holds; a file of unknown kind or not JSON stops the command (exit code 2).\n"
+      "Examples:\n"
+      "  fxmimo report sweep.json -o report.html\n"
+      "  fxmimo report range.json sweep-frac.json tune.json run.json -o report.html");
+  cmd->callback([opt] { run_guarded("report", [opt] { return run_report(*opt); }); });
+}
+
+}  // namespace fxmimo::cli
