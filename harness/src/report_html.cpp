@@ -367,13 +367,42 @@ void draw_marker(std::string& out, std::size_t s, double x, double y, bool missi
                        "stroke-width=\"1.2\"><title>{}</title></circle>\n",
                        cls, px(x), px(y), missing ? "#fff" : "#000", esc(title));
   } else {
-    out += fmt::format("<rect class=\"{}\" x=\"{}\" y=\"{}\" width=\"7\" height=\"7\" fill=\"#fff\" stroke=\"#000\" "
+    // Unfilled, so a filled circle of the first series at the same place shows through.
+    out += fmt::format("<rect class=\"{}\" x=\"{}\" y=\"{}\" width=\"7\" height=\"7\" fill=\"none\" stroke=\"#000\" "
                        "stroke-width=\"1.4\"><title>{}</title></rect>\n",
                        cls, px(x - 3.5), px(y - 3.5), esc(title));
   }
 }
 
 std::string dash_of(std::size_t s) { return s == 0 ? "" : " stroke-dasharray=\"5 3\""; }
+
+/// One entry of a chart's legend: a line sample in the series' dash with its marker.
+struct legend_item {
+  std::string name;
+  std::size_t series;           ///< 0: solid, filled circle; 1: dashed, open square
+  double stroke_width;
+  bool with_marker = true;
+};
+
+/// The legend in a row above the plot, starting at x; entries are spaced by an estimate of the
+/// text width (6.2 px per character at 11 px sans-serif).
+void draw_legend(std::string& out, const std::vector<legend_item>& items, double x, double y) {
+  for (const legend_item& item : items) {
+    out += fmt::format("<g class=\"legend-item\"><line x1=\"{0}\" y1=\"{1}\" x2=\"{2}\" y2=\"{1}\" stroke=\"#000\" "
+                       "stroke-width=\"{3}\"{4}/>",
+                       px(x), px(y), px(x + 24), item.stroke_width, dash_of(item.series));
+    if (item.with_marker && item.series == 0) {
+      out += fmt::format("<circle cx=\"{}\" cy=\"{}\" r=\"3.5\" fill=\"#000\" stroke=\"#000\"/>", px(x + 12), px(y));
+    } else if (item.with_marker) {
+      out += fmt::format("<rect x=\"{}\" y=\"{}\" width=\"7\" height=\"7\" fill=\"#fff\" stroke=\"#000\" "
+                         "stroke-width=\"1.4\"/>",
+                         px(x + 8.5), px(y - 3.5));
+    }
+    out += fmt::format("<text x=\"{}\" y=\"{}\" dominant-baseline=\"middle\">{}</text></g>\n", px(x + 29), px(y),
+                       esc(item.name));
+    x += 29 + 6.2 * static_cast<double>(item.name.size()) + 14;
+  }
+}
 
 std::string render_xy_chart(const xy_chart& c) {
   const bool with_legend = c.series.size() > 1;
@@ -466,23 +495,9 @@ std::string render_xy_chart(const xy_chart& c) {
     }
   }
   if (with_legend) {
-    double x = pa.left;
-    const double y = 34.0;
-    for (std::size_t s = 0; s < c.series.size(); ++s) {
-      out += fmt::format("<g class=\"legend-item\"><line x1=\"{0}\" y1=\"{1}\" x2=\"{2}\" y2=\"{1}\" stroke=\"#000\" "
-                         "stroke-width=\"1.4\"{3}/>",
-                         px(x), px(y), px(x + 24), dash_of(s));
-      if (s == 0) {
-        out += fmt::format("<circle cx=\"{}\" cy=\"{}\" r=\"3.5\" fill=\"#000\" stroke=\"#000\"/>", px(x + 12), px(y));
-      } else {
-        out += fmt::format("<rect x=\"{}\" y=\"{}\" width=\"7\" height=\"7\" fill=\"#fff\" stroke=\"#000\" "
-                           "stroke-width=\"1.4\"/>",
-                           px(x + 8.5), px(y - 3.5));
-      }
-      out += fmt::format("<text x=\"{}\" y=\"{}\" dominant-baseline=\"middle\">{}</text></g>\n", px(x + 29), px(y),
-                         esc(c.series[s].name));
-      x += 29 + 6.2 * static_cast<double>(c.series[s].name.size()) + 14;
-    }
+    std::vector<legend_item> items;
+    for (std::size_t i = 0; i < c.series.size(); ++i) items.push_back({c.series[i].name, i, 1.4});
+    draw_legend(out, items, pa.left, 34.0);
   }
   out += "</svg>\n";
   return out;
@@ -502,7 +517,7 @@ struct histogram_chart {
 /// and analytic (dashed) integer bits m as vertical lines at log2 |value| = m: a signed Qm.n holds
 /// |v| < 2^m.
 std::string render_histogram(const histogram_chart& h) {
-  const plot_area pa{66.0, 30.0, chart_width - 14.0, chart_height - 46.0};
+  const plot_area pa{66.0, 46.0, chart_width - 14.0, chart_height - 46.0};
   std::optional<int> first, last;
   double max_count = 0.0, total = 0.0;
   for (std::size_t i = 0; i < h.counts.size(); ++i) {
@@ -541,20 +556,19 @@ std::string render_histogram(const histogram_chart& h) {
         e, px(x0), px(y), px(x1 - x0), px(pa.bottom - y), e, e + 1, num(h.counts[i], 12),
         num(100.0 * h.counts[i] / total, 3));
   }
-  const auto mark = [&](const char* cls, int m, const char* dash, const std::string& label, double label_y) {
+  const auto mark = [&](const char* cls, int m, std::size_t style, const std::string& label) {
     const double x = mx(m);
     out += fmt::format("<line class=\"{}\" data-bits=\"{}\" x1=\"{}\" y1=\"{}\" x2=\"{}\" y2=\"{}\" stroke=\"#000\" "
                        "stroke-width=\"2\"{}><title>{}</title></line>\n",
-                       cls, m, px(x), px(pa.top), px(x), px(pa.bottom), dash, esc(label));
-    const bool right_half = x > (pa.left + pa.right) / 2;
-    out += fmt::format("<text class=\"mark-label\" x=\"{}\" y=\"{}\" text-anchor=\"{}\">{}</text>\n",
-                       px(right_half ? x - 4 : x + 4), px(label_y), right_half ? "end" : "start", esc(label));
+                       cls, m, px(x), px(pa.top), px(x), px(pa.bottom), dash_of(style), esc(label));
   };
-  mark("mark-proposed", h.proposed_int_bits, "", fmt::format("proposed m = {}", h.proposed_int_bits), pa.top + 13);
+  std::vector<legend_item> legend{{fmt::format("proposed m = {}", h.proposed_int_bits), 0, 2.0, false}};
+  mark("mark-proposed", h.proposed_int_bits, 0, legend[0].name);
   if (h.analytic_int_bits) {
-    mark("mark-analytic", *h.analytic_int_bits, " stroke-dasharray=\"4 3\"",
-         fmt::format("analytic m = {}", *h.analytic_int_bits), pa.top + 27);
+    legend.push_back({fmt::format("analytic m = {}", *h.analytic_int_bits), 1, 2.0, false});
+    mark("mark-analytic", *h.analytic_int_bits, 1, legend[1].name);
   }
+  draw_legend(out, legend, pa.left, 34.0);
   out += "</svg>\n";
   return out;
 }
@@ -594,11 +608,14 @@ class page {
 
   std::string next_id(std::string_view what) { return fmt::format("c{}-{}", ++num_ids_, what); }
 
-  void row(const std::vector<std::string>& cells, bool header = false) {
+  /// One table row of ready markup; `align` has an 'l' for each left-aligned (text) column, the
+  /// others are right-aligned numbers.
+  void row(const std::vector<std::string>& cells, bool header = false, std::string_view align = "l") {
     out += "<tr>";
     for (std::size_t i = 0; i < cells.size(); ++i) {
       const char* tag = header ? "th" : "td";
-      out += fmt::format("<{0}{1}>{2}</{0}>", tag, i == 0 ? " class=\"l\"" : "", cells[i]);
+      const bool left = i < align.size() && align[i] == 'l';
+      out += fmt::format("<{0}{1}>{2}</{0}>", tag, left ? " class=\"l\"" : "", cells[i]);
     }
     out += "</tr>\n";
   }
@@ -672,7 +689,7 @@ void render_sweep(page& pg, const input_view& in) {
     xy_chart sinr{pg.next_id("sinr"), "sweep-sinr", node, node + ": SINR loss", vary_axis_label(vary),
                   "SINR loss (dB)", false, {{"SINR loss", {}}}};
     xy_chart evm{pg.next_id("evm"), "sweep-evm", node, node + ": EVM", vary_axis_label(vary), "EVM (%)", false,
-                 {{"implementation EVM", {}}, {"EVM at users (fixed)", {}}}};
+                 {{"implementation", {}}, {"fixed, at users", {}}}};
     xy_chart ovf{pg.next_id("overflow"), "sweep-overflow", node, node + ": overflow rate", vary_axis_label(vary),
                  "overflows per value (log)", true, {{"this node", {}}}};
     bool all_have_max = true;
@@ -746,7 +763,7 @@ void render_range(page& pg, const input_view& in) {
     const auto cell = [&](std::string_view key) { return num_or_dash(optional_number(n, wn, key)); };
     table += "<tr>";
     for (const std::string& c :
-         {fmt::format("<td class=\"l\">{}</td>", esc(name)), fmt::format("<td>{}</td>", cell("values")),
+         {fmt::format("<td class=\"l\">{}</td>", esc(name)), fmt::format("<td>{}</td>", num_or_dash(optional_number(n, wn, "values"), 15)),
           fmt::format("<td>{}</td>", cell("max_abs")), fmt::format("<td>{}</td>", cell("p99")),
           fmt::format("<td>{}</td>", cell("p99_99")), fmt::format("<td>{}</td>", cell("p99_9999")),
           fmt::format("<td><b>{}</b></td>", h.proposed_int_bits),
@@ -760,7 +777,7 @@ void render_range(page& pg, const input_view& in) {
   pg.out += "</div>\n<table>\n";
   pg.row({"node", "values", "max |v|", "p99 |v|", "p99.99 |v|", "p99.9999 |v|", "proposed m", "basis", "analytic m",
           "analytic rule"},
-         true);
+         true, "lrrrrrrlrl");
   pg.out += table + "</table>\n";
 }
 
@@ -796,18 +813,19 @@ void render_tune(page& pg, const input_view& in) {
     pg.out += "<p class=\"verdict fail\"><b>FAIL</b> — the search itself found no widths that meet every limit.</p>\n";
   }
   pg.out += "<table>\n";
-  pg.row({"node", "format", "word W", "fraction F", "integer m", "cost"}, true);
+  pg.row({"node", "format", "word W", "fraction F", "integer m", "cost"}, true, "ll");
   for (const std::string& name : object_keys(nodes)) {
     const json& n = nodes[name];
     const where wn = w.at("nodes").at(name);
     pg.row({esc(name), esc(optional_text(n, "format", "—")), num(number(n, wn, "word_bits")),
             num(number(n, wn, "frac_bits")), num_or_dash(optional_number(n, wn, "int_bits")),
-            num_or_dash(optional_number(n, wn, "cost"), 10)});
+            num_or_dash(optional_number(n, wn, "cost"), 10)},
+           false, "ll");
   }
   pg.out += fmt::format("<tr><th class=\"l\">total</th><td></td><td></td><td></td><td></td><th>{}</th></tr>\n",
                         num(cost, 10));
   pg.out += "</table>\n<table>\n";
-  pg.row({"limit", "limit", "re-verified", "margin (limit − value)", "verdict"}, true);
+  pg.row({"limit", "limit", "re-verified", "margin (limit − value)", "verdict"}, true, "l");
   const auto limit_row = [&](const std::string& label, std::string_view limit_key, std::string_view value_key,
                              std::string_view margin_key, int sig) {
     const auto limit = number_or_null(limits, wl, limit_key);
@@ -844,7 +862,7 @@ void render_run(page& pg, const input_view& in) {
   if (const json* nodes = find_member(doc, "nodes"); nodes != nullptr && nodes->is_object()) {
     pg.out += "<table>\n";
     pg.row({"node", "format", "rounding", "overflow", "SQNR (dB)", "max error (LSB)", "overflows", "overflow rate"},
-           true);
+           true, "llll");
     for (const std::string& name : object_keys(*nodes)) {
       const json& n = (*nodes)[name];
       const where wn = w.at("nodes").at(name);
@@ -853,7 +871,8 @@ void render_run(page& pg, const input_view& in) {
               esc(optional_text(n, "overflow", "—")),
               sqnr == nullptr ? "—" : sqnr->is_null() ? "exact" : num_or_dash(optional_number(n, wn, "sqnr_db")),
               num_or_dash(optional_number(n, wn, "max_err_lsb")), num_or_dash(optional_number(n, wn, "overflows"), 12),
-              num_or_dash(optional_number(n, wn, "overflow_rate"), 3)});
+              num_or_dash(optional_number(n, wn, "overflow_rate"), 3)},
+             false, "llll");
     }
     pg.out += "</table>\n";
   }
@@ -885,6 +904,9 @@ input_view view_of(const std::string& file, const json& doc) {
   const where w{file, ""};
   v.scenario = scenario_name(doc, w);
   v.trials = optional_number(doc, w, "trials");
+  if (const json* ver = find_member(doc, "verification"); !v.trials && ver != nullptr) {
+    v.trials = optional_number(*ver, w.at("verification"), "trials");
+  }
   switch (v.kind) {
     case report_kind::run: {
       const json& s = object_member(doc, w, "summary");
@@ -1012,7 +1034,7 @@ std::string render_report_html(const std::vector<std::pair<std::string, json>>& 
             "Sign-off belongs to RTL or gate-level verification and the applicable conformance tests.</p>\n";
 
   pg.out += "<h2 id=\"summary\">Scenario summary</h2>\n<table>\n";
-  pg.row({"file", "kind", "scenario", "trials", "result"}, true);
+  pg.row({"file", "kind", "scenario", "trials", "result"}, true, "lllrl");
   std::set<std::string> scenarios;
   for (std::size_t i = 0; i < views.size(); ++i) {
     const input_view& v = views[i];

@@ -219,6 +219,8 @@ struct sweep_case {
   const char* file;
 };
 
+void PrintTo(const sweep_case& c, std::ostream* os) { *os << c.name; }
+
 class sweep_charts : public report_page, public ::testing::WithParamInterface<sweep_case> {};
 
 TEST_P(sweep_charts, one_marker_per_swept_width_in_every_chart_of_every_node) {
@@ -399,6 +401,8 @@ struct tune_case {
   const char* verdict;
   const char* not_verdict;
 };
+
+void PrintTo(const tune_case& c, std::ostream* os) { *os << c.name; }
 
 class tune_section : public report_page, public ::testing::WithParamInterface<tune_case> {};
 
@@ -600,6 +604,8 @@ struct bad_input_case {
   const char* file;      ///< fixture, or "" for a file that does not exist
   const char* expected;  ///< part of the one-line message after the file name
 };
+
+void PrintTo(const bad_input_case& c, std::ostream* os) { *os << c.name; }
 
 class report_command_errors : public ::testing::TestWithParam<bad_input_case> {};
 
