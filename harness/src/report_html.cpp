@@ -69,6 +69,11 @@ std::string num(double v, int sig = 4) {
   return mantissa + "e" + (negative ? "-" : "") + digits;
 }
 
+/// "1 node", "3 nodes".
+std::string count_of(std::size_t n, std::string_view noun) {
+  return fmt::format("{} {}{}", n, noun, n == 1 ? "" : "s");
+}
+
 std::string num_or_dash(const std::optional<double>& v, int sig = 4) { return v ? num(*v, sig) : "—"; }
 
 /// A pixel coordinate with two decimals (never "-0.00").
@@ -809,6 +814,9 @@ void render_tune(page& pg, const input_view& in) {
       "<p class=\"verdict {}\">Re-verification on {} fresh trials: <b>{}</b> — {}</p>\n", meets ? "pass" : "fail",
       verify_trials ? num(*verify_trials, 10) : "?", meets ? "PASS" : "FAIL",
       meets ? "the widths meet every limit." : "the widths do NOT meet every limit; see the margins below.");
+  if (const std::string note = optional_text(doc, "note"); !note.empty()) {
+    pg.out += fmt::format("<p class=\"note\">{}</p>\n", esc(note));
+  }
   if (!search_met) {
     pg.out += "<p class=\"verdict fail\"><b>FAIL</b> — the search itself found no widths that meet every limit.</p>\n";
   }
@@ -919,15 +927,16 @@ input_view view_of(const std::string& file, const json& doc) {
     }
     case report_kind::range: {
       const auto prob = optional_number(doc, w, "overflow_prob");
-      v.headline = fmt::format("integer bits of {} nodes for overflow probability {}",
-                               object_member(doc, w, "nodes").size(), prob ? num(*prob, 3) : "?");
+      v.headline = fmt::format("integer bits of {} for overflow probability {}",
+                               count_of(object_member(doc, w, "nodes").size(), "node"), prob ? num(*prob, 3) : "?");
       break;
     }
     case report_kind::sweep: {
       std::set<std::string> nodes;
       const json& pts = array_member(doc, w, "points");
       for (std::size_t i = 0; i < pts.size(); ++i) nodes.insert(text(pts[i], w.at("points").at(i), "node"));
-      v.headline = fmt::format("{} of {} nodes, {} points", vary_words(text(doc, w, "vary")), nodes.size(), pts.size());
+      v.headline = fmt::format("{} of {}, {}", vary_words(text(doc, w, "vary")), count_of(nodes.size(), "node"),
+                               count_of(pts.size(), "point"));
       break;
     }
     case report_kind::tune: {
