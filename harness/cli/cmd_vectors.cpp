@@ -1,13 +1,5 @@
 // fxmimo vectors: the bit-true words of a scenario's datapath nodes, for chosen trials, written
 // as a vector set (DESIGN §7) that an RTL testbench reads with $readmemh / hread / numpy.
-#include "commands.hpp"
-#include "progress.hpp"
-#include "scenario_input.hpp"
-
-#include "fxmimo/golden/trial.hpp"
-#include "fxmimo/harness/datapath.hpp"
-#include "fxmimo/vectors/vector_set.hpp"
-
 #include <fmt/core.h>
 
 #include <algorithm>
@@ -23,6 +15,13 @@
 #include <string_view>
 #include <utility>
 #include <vector>
+
+#include "commands.hpp"
+#include "fxmimo/golden/trial.hpp"
+#include "fxmimo/harness/datapath.hpp"
+#include "fxmimo/vectors/vector_set.hpp"
+#include "progress.hpp"
+#include "scenario_input.hpp"
 
 namespace fxmimo::cli {
 
@@ -71,8 +70,8 @@ std::vector<std::uint64_t> parse_trial_list(std::string_view text, int num_trial
     const std::optional<std::uint64_t> last =
         dash == std::string_view::npos ? first : parse_index(item.substr(dash + 1));
     if (!first || !last) {
-      throw usage_error(fmt::format("--trials '{}': '{}' is not a trial index or a range FIRST-LAST (e.g. 0,3,5-7)",
-                                    text, item));
+      throw usage_error(
+          fmt::format("--trials '{}': '{}' is not a trial index or a range FIRST-LAST (e.g. 0,3,5-7)", text, item));
     }
     if (*last < *first) throw usage_error(fmt::format("--trials '{}': range '{}' runs backwards", text, item));
     if (*last >= limit) {
@@ -240,7 +239,8 @@ int run_vectors(const vectors_options& opt) {
       const golden::trial_data trial = golden::run_trial(in.scen, trials[i]);
       const harness::fixed_trial fixed = harness::run_fixed_datapath(in.scen, in.config, trial);
       for (node_id id : harness::all_nodes) {
-        if (words[harness::index_of(id)]) append_trial(*words[harness::index_of(id)], fixed.words[harness::index_of(id)]);
+        if (words[harness::index_of(id)])
+          append_trial(*words[harness::index_of(id)], fixed.words[harness::index_of(id)]);
       }
       progress.update(i + 1, trials.size());
     }
@@ -292,15 +292,18 @@ int run_vectors(const vectors_options& opt) {
 
 void add_vectors_command(CLI::App& app) {
   auto opt = std::make_shared<vectors_options>();
-  CLI::App* cmd = app.add_subcommand("vectors", "Write a scenario's datapath words as a vector set for an RTL testbench");
+  CLI::App* cmd =
+      app.add_subcommand("vectors", "Write a scenario's datapath words as a vector set for an RTL testbench");
   cmd->add_option("-c,--scenario", opt->scenario_path, "Scenario file (TOML)")->required();
-  cmd->add_option("-o,--out", opt->out_dir, "Directory of the vector set (absent, empty or an earlier set)")->required();
+  cmd->add_option("-o,--out", opt->out_dir, "Directory of the vector set (absent, empty or an earlier set)")
+      ->required();
   cmd->add_option("--trials", opt->trials, "Trial indices, e.g. 0,3,5-7 (each below the scenario's trial count)")
       ->capture_default_str();
   cmd->add_option("--nodes", opt->nodes, "Nodes, comma-separated, e.g. tx_acc,dac (default: every active node)");
   cmd->add_option("--form", opt->form, "Word files: hex ($readmemh, hread), bin ($readmemb) or npy")
       ->capture_default_str();
-  cmd->add_option("--layout", opt->layout, "Complex words: split (.re/.im files) or interleaved")->capture_default_str();
+  cmd->add_option("--layout", opt->layout, "Complex words: split (.re/.im files) or interleaved")
+      ->capture_default_str();
   cmd->footer(
       "Runs the golden model and the bit-true datapath for each chosen trial and writes, per chosen\n"
       "node, the words it must produce (direction \"out\") and the words it consumes from other nodes\n"

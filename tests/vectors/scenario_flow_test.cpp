@@ -9,16 +9,16 @@
 // Also: repeatability (SHA-256 per FIPS 180-4, cross-checked with coreutils sha256sum), the
 // regression diff after a one-bit-narrower weights format, trial order, input ports, dimension
 // names, and the one-line errors with exit code 2.
-#include "fxmimo/vectors/vector_set.hpp"
-#include "test_support.hpp"
-
 #include <fmt/core.h>
 #include <gtest/gtest.h>
-#include <nlohmann/json.hpp>
 
 #include <map>
+#include <nlohmann/json.hpp>
 #include <regex>
 #include <sstream>
+
+#include "fxmimo/vectors/vector_set.hpp"
+#include "test_support.hpp"
 
 #ifndef FXMIMO_EXE
 #error "FXMIMO_EXE (path of the fxmimo program) must be defined by tests/CMakeLists.txt"
@@ -318,7 +318,8 @@ void run_rtl_flow(simulator sim) {
                                         diffs.front().first, coords[0], coords[1], coords[2], diffs.front().second);
   EXPECT_NE(bad.output.find("tx_acc/out: MISMATCH"), std::string::npos) << bad.output;
   EXPECT_NE(bad.output.find(where), std::string::npos) << "expected \"" << where << "\" in:\n" << bad.output;
-  EXPECT_NE(bad.output.find(fmt::format("{} of {} words differ", diffs.size(), 2 * expected.re.size())), std::string::npos)
+  EXPECT_NE(bad.output.find(fmt::format("{} of {} words differ", diffs.size(), 2 * expected.re.size())),
+            std::string::npos)
       << bad.output;
   // Every failing word, with its coordinates, is the one the floor datapath predicts.
   std::vector<std::string> predicted;
@@ -402,7 +403,8 @@ TEST(ScenarioFlow, DiffNamesNarrowerWeights) {
   make_set(write_scenario(work, "bench.toml"), work / "wide", "--nodes tx_acc,dac", work / "wide.log");
   scenario_knobs narrow;
   narrow.weights_format = "Q1.9";  // one fraction bit fewer: 11 bits
-  make_set(write_scenario(work, "bench_narrow.toml", narrow), work / "narrow", "--nodes tx_acc,dac", work / "narrow.log");
+  make_set(write_scenario(work, "bench_narrow.toml", narrow), work / "narrow", "--nodes tx_acc,dac",
+           work / "narrow.log");
   const auto same = fxmimo(fmt::format("diff {} {}", quote(work / "wide"), quote(work / "wide")), work / "same.log");
   EXPECT_EQ(same.exit_code, 0) << same.output;
   const auto r = fxmimo(fmt::format("diff {} {}", quote(work / "wide"), quote(work / "narrow")), work / "diff.log");
@@ -414,9 +416,9 @@ TEST(ScenarioFlow, DiffNamesNarrowerWeights) {
   EXPECT_NE(lines.at("tx_acc/in/weights").find("changed"), std::string::npos) << r.output;
   EXPECT_NE(lines.at("tx_acc/out").find("changed"), std::string::npos) << r.output;
   EXPECT_NE(lines.at("tx_acc/in/symbols").find("identical"), std::string::npos) << r.output;
-  const auto allowed = fxmimo(fmt::format("diff {} {} --allow tx_acc --allow dac", quote(work / "wide"),
-                                          quote(work / "narrow")),
-                              work / "allowed.log");
+  const auto allowed =
+      fxmimo(fmt::format("diff {} {} --allow tx_acc --allow dac", quote(work / "wide"), quote(work / "narrow")),
+             work / "allowed.log");
   EXPECT_EQ(allowed.exit_code, 0) << allowed.output;
 }
 
@@ -467,17 +469,25 @@ TEST(ScenarioFlow, DimensionNamesPerNode) {
   make_set(write_scenario(work, "bench.toml"), work / "vec", "--form npy --layout interleaved", work / "vec.log");
   const vector_set set = read_vector_set(work / "vec");
   using names = std::vector<std::string>;
-  const std::map<std::string, names> expected{
-      {"adc", {"trial", "antenna", "pilot_symbol"}}, {"pilot_rom", {"trial", "pilot_symbol", "user"}},
-      {"pilot_acc", {"trial", "antenna", "user"}},   {"est_scale", {"trial", "user"}},
-      {"chan_est", {"trial", "antenna", "user"}},    {"gram", {"trial", "user", "user"}},
-      {"ldl_acc", {"trial", "user", "user"}},        {"inv_diag_recip", {"trial", "user"}},
-      {"inv_factor", {"trial", "user", "user"}},     {"inv_fwd", {"trial", "user", "user"}},
-      {"inv_out", {"trial", "user", "user"}},        {"precoder", {"trial", "antenna", "user"}},
-      {"power_acc", {"trial", "one"}},               {"norm", {"trial", "one"}},
-      {"tx_gain", {"trial", "one"}},                 {"weights", {"trial", "antenna", "user"}},
-      {"symbols", {"trial", "user", "symbol"}},      {"tx_acc", {"trial", "antenna", "symbol"}},
-      {"dac", {"trial", "antenna", "symbol"}}};
+  const std::map<std::string, names> expected{{"adc", {"trial", "antenna", "pilot_symbol"}},
+                                              {"pilot_rom", {"trial", "pilot_symbol", "user"}},
+                                              {"pilot_acc", {"trial", "antenna", "user"}},
+                                              {"est_scale", {"trial", "user"}},
+                                              {"chan_est", {"trial", "antenna", "user"}},
+                                              {"gram", {"trial", "user", "user"}},
+                                              {"ldl_acc", {"trial", "user", "user"}},
+                                              {"inv_diag_recip", {"trial", "user"}},
+                                              {"inv_factor", {"trial", "user", "user"}},
+                                              {"inv_fwd", {"trial", "user", "user"}},
+                                              {"inv_out", {"trial", "user", "user"}},
+                                              {"precoder", {"trial", "antenna", "user"}},
+                                              {"power_acc", {"trial", "one"}},
+                                              {"norm", {"trial", "one"}},
+                                              {"tx_gain", {"trial", "one"}},
+                                              {"weights", {"trial", "antenna", "user"}},
+                                              {"symbols", {"trial", "user", "symbol"}},
+                                              {"tx_acc", {"trial", "antenna", "symbol"}},
+                                              {"dac", {"trial", "antenna", "symbol"}}};
   std::size_t num_out = 0;
   for (const node_words& r : set.records) {
     const std::string source = r.direction == "out" ? r.node : r.port;
@@ -512,7 +522,8 @@ TEST_P(ScenarioFlowErrors, OneLineAndExitTwo) {
   const fs::path work = scratch_dir();
   const fs::path scen = write_scenario(work, "bench.toml");
   const fs::path out = work / "vec";
-  const auto r = fxmimo(fmt::format("vectors -c {} -o {} {}", quote(scen), quote(out), GetParam().args), work / "run.log");
+  const auto r =
+      fxmimo(fmt::format("vectors -c {} -o {} {}", quote(scen), quote(out), GetParam().args), work / "run.log");
   EXPECT_EQ(r.exit_code, 2) << r.output;
   EXPECT_EQ(std::count(r.output.begin(), r.output.end(), '\n'), 1) << r.output;
   EXPECT_EQ(r.output.rfind("fxmimo vectors: ", 0), 0U) << r.output;
@@ -520,20 +531,19 @@ TEST_P(ScenarioFlowErrors, OneLineAndExitTwo) {
   EXPECT_FALSE(fs::exists(out / "manifest.json"));
 }
 
-INSTANTIATE_TEST_SUITE_P(
-    Cases, ScenarioFlowErrors,
-    ::testing::Values(bad_call{"empty_item", "--trials 0,,2", "'' is not a trial index"},
-                      bad_call{"not_a_number", "--trials 1,x", "'x' is not a trial index"},
-                      bad_call{"backwards_range", "--trials 3-1", "range '3-1' runs backwards"},
-                      bad_call{"repeated_trial", "--trials 0-2,1", "trial 1 is listed twice"},
-                      // The scenario has trials = 4: indices 0..3.
-                      bad_call{"out_of_range", "--trials 2-4", "trial 4 is out of range"},
-                      bad_call{"unknown_node", "--nodes tx_acc,txacc", "unknown node 'txacc'"},
-                      // ZF with LDL^H: the Neumann nodes are not in this datapath.
-                      bad_call{"inactive_node", "--nodes inv_iter", "node 'inv_iter' is not used"},
-                      bad_call{"bad_form", "--form csv", "--form 'csv'"},
-                      bad_call{"bad_layout", "--layout planar", "--layout 'planar'"}),
-    [](const auto& param_info) { return std::string(param_info.param.name); });
+INSTANTIATE_TEST_SUITE_P(Cases, ScenarioFlowErrors,
+                         ::testing::Values(bad_call{"empty_item", "--trials 0,,2", "'' is not a trial index"},
+                                           bad_call{"not_a_number", "--trials 1,x", "'x' is not a trial index"},
+                                           bad_call{"backwards_range", "--trials 3-1", "range '3-1' runs backwards"},
+                                           bad_call{"repeated_trial", "--trials 0-2,1", "trial 1 is listed twice"},
+                                           // The scenario has trials = 4: indices 0..3.
+                                           bad_call{"out_of_range", "--trials 2-4", "trial 4 is out of range"},
+                                           bad_call{"unknown_node", "--nodes tx_acc,txacc", "unknown node 'txacc'"},
+                                           // ZF with LDL^H: the Neumann nodes are not in this datapath.
+                                           bad_call{"inactive_node", "--nodes inv_iter", "node 'inv_iter' is not used"},
+                                           bad_call{"bad_form", "--form csv", "--form 'csv'"},
+                                           bad_call{"bad_layout", "--layout planar", "--layout 'planar'"}),
+                         [](const auto& param_info) { return std::string(param_info.param.name); });
 
 }  // namespace
 }  // namespace fxmimo::vectors
