@@ -65,7 +65,10 @@ link_metrics evaluate_downlink(const scenario& scen, const trial_data& trial, co
 }
 
 double implementation_evm(const Eigen::MatrixXcd& x_fixed, const Eigen::MatrixXcd& x_golden) {
-  return (x_fixed - x_golden).norm() / x_golden.norm();
+  const double fixed_power = x_fixed.squaredNorm();
+  if (fixed_power == 0.0) return 1.0;  // nothing transmitted: the whole reference is error
+  const std::complex<double> a = (x_fixed.array().conjugate() * x_golden.array()).sum() / fixed_power;
+  return (a * x_fixed - x_golden).norm() / x_golden.norm();
 }
 
 } // namespace fxmimo::golden

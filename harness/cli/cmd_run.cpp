@@ -1,5 +1,6 @@
 // fxmimo run and fxmimo demo: the side-by-side model of a scenario, as a table and JSON.
 #include "commands.hpp"
+#include "output_files.hpp"
 #include "progress.hpp"
 #include "scenario_input.hpp"
 
@@ -21,22 +22,6 @@ struct run_options {
   unsigned num_threads = 0;
   std::string json_path;
 };
-
-/// Writes text to path through a temporary file and a rename: never a half-written file.
-void write_file_atomically(const std::filesystem::path& path, const std::string& text) {
-  const std::filesystem::path temp = path.string() + ".partial";
-  {
-    std::ofstream out(temp, std::ios::binary | std::ios::trunc);
-    if (!out) throw usage_error(path.string() + ": cannot write");
-    out << text;
-    out.flush();
-    if (!out) {
-      std::filesystem::remove(temp);
-      throw usage_error(path.string() + ": write failed");
-    }
-  }
-  std::filesystem::rename(temp, path);
-}
 
 harness::run_results run_scenario(const scenario_input& in, int num_trials, unsigned num_threads) {
   const int trials = num_trials > 0 ? num_trials : in.scen.num_trials;

@@ -26,6 +26,9 @@ void register_commands(CLI::App& app) {
   add_quant_command(app);
   add_run_command(app);
   add_demo_command(app);
+  add_range_command(app);
+  add_sweep_command(app);
+  add_tune_command(app);
   add_check_command(app);
   add_diff_command(app);
   add_vectors_command(app);

@@ -35,6 +35,17 @@ std::string list_node_names() {
   return out;
 }
 
+bool node_is_complex(node_id id) {
+  switch (id) {
+    case node_id::est_scale:
+    case node_id::inv_diag_recip:
+    case node_id::power_acc:
+    case node_id::norm:
+    case node_id::tx_gain: return false;
+    default: return true;
+  }
+}
+
 std::vector<node_id> active_nodes(const golden::scenario& scen) {
   std::vector<node_id> out{node_id::adc, node_id::pilot_rom, node_id::pilot_acc, node_id::est_scale,
                            node_id::chan_est};

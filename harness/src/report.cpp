@@ -40,6 +40,8 @@ std::string format_run_table(const run_results& r) {
   const run_summary& s = r.summary;
   out += fmt::format("{:<6} {:>12.2f} {:>13.2f} {:>9.3f} {:>10.3f} {:>11.3f}\n\n", "mean", s.sinr_golden_db,
                      s.sinr_fixed_db, s.sinr_loss_db, s.evm_golden_pct, s.evm_fixed_pct);
+  out += fmt::format("transmit power of the fixed block against the golden: {:+.4f} dB mean, {:.4f} dB worst trial\n",
+                     s.tx_power_error_db, s.max_abs_tx_power_error_db);
   out += fmt::format("implementation EVM at the DAC: {:.4f} %", s.evm_impl_pct);
   if (s.evm_limit_pct) {
     out += fmt::format("   (3GPP TS 38.104 base-station limit for this modulation: {} %)", *s.evm_limit_pct);
@@ -90,6 +92,8 @@ nlohmann::json to_json(const run_results& r) {
   out["summary"] = {{"sinr_golden_db", s.sinr_golden_db}, {"sinr_fixed_db", s.sinr_fixed_db},
                     {"sinr_loss_db", s.sinr_loss_db},     {"evm_golden_pct", s.evm_golden_pct},
                     {"evm_fixed_pct", s.evm_fixed_pct},   {"evm_impl_pct", s.evm_impl_pct},
+                    {"tx_power_error_db", s.tx_power_error_db},
+                    {"max_abs_tx_power_error_db", s.max_abs_tx_power_error_db},
                     {"evm_limit_pct", s.evm_limit_pct ? nlohmann::json(*s.evm_limit_pct) : nlohmann::json(nullptr)}};
   out["warnings"] = r.warnings;
   return out;

@@ -67,7 +67,12 @@ trial_summary evaluate_trial(const golden::scenario& scen, const datapath_config
     r.max_err_lsb = max_abs / r.spec.fmt.lsb();
     r.max_abs_golden = std::max(g.real().cwiseAbs().maxCoeff(), g.imag().cwiseAbs().maxCoeff());
   }
-  const golden::link_metrics fixed_metrics = golden::evaluate_downlink(scen, trial, fixed.dac_value);
+  // The fixed block is evaluated at the golden block's transmitted power (a calibrated power
+  // amplifier), so the SINR loss measures distortion; the power error is reported on its own.
+  const double golden_power = trial.tx.squaredNorm(), fixed_power = fixed.dac_value.squaredNorm();
+  const double power_scale = fixed_power > 0 ? std::sqrt(golden_power / fixed_power) : 1.0;
+  out.tx_power_error_db = fixed_power > 0 ? 10 * std::log10(fixed_power / golden_power) : -300.0;
+  const golden::link_metrics fixed_metrics = golden::evaluate_downlink(scen, trial, power_scale * fixed.dac_value);
   out.sinr_golden = trial.metrics.sinr;
   out.sinr_fixed = fixed_metrics.sinr;
   out.evm_golden_pct = trial.metrics.evm_pct;
@@ -120,7 +125,7 @@ run_results run_trials(const golden::scenario& scen, const datapath_config& conf
   const std::vector<node_id> active = active_nodes(scen);
   const std::size_t num_users = per_trial.front().sinr_golden.size();
   std::vector<double> sinr_g(num_users, 0.0), sinr_f(num_users, 0.0), evm_g2(num_users, 0.0), evm_f2(num_users, 0.0);
-  double impl2 = 0.0;
+  double impl2 = 0.0, power_error_sum = 0.0, power_error_max = 0.0;
   std::size_t outside_convergence = 0;
   std::array<node_result, num_nodes> totals;
   for (const trial_summary& t : per_trial) {
@@ -144,6 +149,8 @@ run_results run_trials(const golden::scenario& scen, const datapath_config& conf
       evm_f2[k] += t.evm_fixed_pct[k] * t.evm_fixed_pct[k];
     }
     impl2 += t.evm_impl * t.evm_impl;
+    power_error_sum += t.tx_power_error_db;
+    power_error_max = std::max(power_error_max, std::abs(t.tx_power_error_db));
     if (t.neumann_radius >= 1.0) ++outside_convergence;
   }
   for (node_id id : active) out.nodes.push_back(totals[index_of(id)]);
@@ -170,6 +177,8 @@ run_results run_trials(const golden::scenario& scen, const datapath_config& conf
   out.summary.evm_fixed_pct = std::sqrt(evm_f_sum2 / nu);
   out.summary.evm_impl_pct = 100.0 * std::sqrt(impl2 / n);
   out.summary.evm_limit_pct = bs_evm_limit_pct(scen.data.mod);
+  out.summary.tx_power_error_db = power_error_sum / n;
+  out.summary.max_abs_tx_power_error_db = power_error_max;
   if (outside_convergence > 0) {
     out.warnings.push_back(fmt::format(
         "Neumann series outside its convergence region (spectral radius of I - D^-1 G >= 1) in {} of {} trials: "

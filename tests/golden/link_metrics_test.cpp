@@ -67,7 +67,12 @@ TEST(link_metrics, implementation_evm_definition) {
   golden << 3.0, 0.0, 0.0, 4.0;
   Eigen::MatrixXcd fixed = golden;
   fixed(0, 1) = std::complex<double>(0.0, 0.5);
-  EXPECT_DOUBLE_EQ(implementation_evm(fixed, golden), 0.5 / 5.0);
+  // After the least-squares gain a = <f, g> / |f|^2 = 25 / 25.25 the residual energy is
+  // |g|^2 (1 - |<f,g>|^2 / (|f|^2 |g|^2)) = 25 (1 - 25 / 25.25), so EVM = sqrt(0.25 / 25.25)
+  // (worked by hand).
+  EXPECT_NEAR(implementation_evm(fixed, golden), std::sqrt(0.25 / 25.25), 1e-15);
+  // A pure complex gain is no error.
+  EXPECT_NEAR(implementation_evm(std::complex<double>(0.5, -0.2) * golden, golden), 0.0, 1e-15);
 }
 
 } // namespace

@@ -240,7 +240,7 @@ symbols = 50
   const link_metrics again = evaluate_downlink(scen, td, td.tx);
   EXPECT_EQ(again.sinr, td.metrics.sinr);
   EXPECT_DOUBLE_EQ(implementation_evm(td.tx, td.tx), 0.0);
-  EXPECT_NEAR(implementation_evm(1.01 * td.tx, td.tx), 0.01, 1e-14);
+  EXPECT_NEAR(implementation_evm(1.01 * td.tx, td.tx), 0.0, 1e-14);  // a gain is aligned away
 }
 
 } // namespace

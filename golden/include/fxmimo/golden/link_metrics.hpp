@@ -42,7 +42,10 @@ Eigen::MatrixXcd received_downlink(const scenario& scen, const trial_data& trial
 /// by cell 0 (e.g. the fixed-point DAC output converted to double) through the true channels.
 link_metrics evaluate_downlink(const scenario& scen, const trial_data& trial, const Eigen::MatrixXcd& tx_cell0);
 
-/// Implementation EVM at the DAC: ||x_fixed - x_golden||_F / ||x_golden||_F.
+/// Implementation EVM at the DAC after a least-squares complex gain alignment, as an EVM
+/// measurement removes gain and phase (3GPP TS 38.104 Annex B, equalisation before the error):
+/// min over a of ||a x_fixed - x_golden||_F / ||x_golden||_F, a = <x_fixed, x_golden> / ||x_fixed||^2.
+/// A pure scaling of the block (e.g. a rounded gain constant) is therefore no error.
 double implementation_evm(const Eigen::MatrixXcd& x_fixed, const Eigen::MatrixXcd& x_golden);
 
 } // namespace fxmimo::golden

@@ -52,6 +52,9 @@ std::optional<node_id> parse_node_name(std::string_view name);
 /// "adc, pilot_rom, ..." for messages and help.
 std::string list_node_names();
 
+/// False for the real-valued nodes (est_scale, inv_diag_recip, power_acc, norm, tx_gain).
+bool node_is_complex(node_id id);
+
 /// Nodes the scenario's algorithm uses (MF skips the Gram and inverse nodes; LDL and Neumann
 /// use different inverse nodes; Neumann with one term has no inv_term).
 std::vector<node_id> active_nodes(const golden::scenario& scen);

@@ -49,7 +49,9 @@ struct run_summary {
   double sinr_loss_db = 0.0;    ///< mean over users of the per-user loss
   double evm_golden_pct = 0.0;  ///< RMS over users
   double evm_fixed_pct = 0.0;   ///< RMS over users
-  double evm_impl_pct = 0.0;    ///< RMS over trials of ||dac - golden tx|| / ||golden tx||
+  double evm_impl_pct = 0.0;    ///< RMS over trials of the gain-aligned ||dac - golden tx|| / ||golden tx||
+  double tx_power_error_db = 0.0;          ///< mean over trials of 10 log10(|dac|^2 / |golden tx|^2)
+  double max_abs_tx_power_error_db = 0.0;  ///< largest |power error| of a trial
   std::optional<double> evm_limit_pct;  ///< 3GPP base-station limit for the modulation
 };
 
@@ -70,6 +72,7 @@ struct trial_summary {
   std::vector<double> sinr_golden, sinr_fixed;  ///< linear, per user
   std::vector<double> evm_golden_pct, evm_fixed_pct;
   double evm_impl = 0.0;      ///< fraction, not %
+  double tx_power_error_db = 0.0;
   double neumann_radius = 0.0;
 };
 

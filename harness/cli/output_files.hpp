@@ -1,0 +1,29 @@
+#pragma once
+// Files the commands write: through a temporary name and a rename, so a failure never leaves a
+// file that looks complete.
+
+#include "commands.hpp"
+
+#include <filesystem>
+#include <fstream>
+#include <string>
+
+namespace fxmimo::cli {
+
+inline void write_file_atomically(const std::filesystem::path& path, const std::string& text) {
+  const std::filesystem::path temp = path.string() + ".partial";
+  {
+    std::ofstream out(temp, std::ios::binary | std::ios::trunc);
+    if (!out) throw usage_error(path.string() + ": cannot write");
+    out << text;
+    out.flush();
+    if (!out) {
+      out.close();
+      std::filesystem::remove(temp);
+      throw usage_error(path.string() + ": write failed");
+    }
+  }
+  std::filesystem::rename(temp, path);
+}
+
+}  // namespace fxmimo::cli

@@ -1,0 +1,307 @@
+#include "fxmimo/harness/tune.hpp"
+
+#include <fmt/core.h>
+
+#include <algorithm>
+#include <cmath>
+#include <sstream>
+
+namespace fxmimo::harness {
+
+namespace fp = fxmimo::fixedpoint;
+
+double tune_figures::worst_ratio(const tune_limits& l) const {
+  auto ratio = [](double value, double limit) { return limit > 0 ? value / limit : (value > 0 ? 1e300 : 0.0); };
+  return std::max({ratio(sinr_loss_db, l.max_sinr_loss_db), ratio(evm_pct, l.max_evm_pct),
+                   ratio(max_overflow_rate, l.max_overflow_rate)});
+}
+
+tune_figures figures_of(const run_results& r) {
+  tune_figures f;
+  f.sinr_loss_db = r.summary.sinr_loss_db;
+  f.evm_pct = r.summary.evm_impl_pct;
+  for (const node_result& n : r.nodes) f.max_overflow_rate = std::max(f.max_overflow_rate, n.overflow_rate());
+  return f;
+}
+
+std::string_view to_string(cost_model m) { return m == cost_model::bits ? "bits" : "area"; }
+
+double node_storage_words(const golden::scenario& scen, node_id id) {
+  const double m = scen.array.num_antennas, k = scen.cells.num_users, tau = scen.pilots.length,
+               n = scen.data.num_symbols;
+  const bool per_antenna = scen.precoder.normalization == golden::power_normalization::per_antenna;
+  switch (id) {
+    case node_id::adc: return 2 * m * tau;
+    case node_id::pilot_rom: return 2 * tau * k;
+    case node_id::pilot_acc: return 2 * m * k;
+    case node_id::est_scale: return k;
+    case node_id::chan_est: return 2 * m * k;
+    case node_id::gram:
+    case node_id::ldl_acc:
+    case node_id::inv_factor:
+    case node_id::inv_fwd:
+    case node_id::inv_iter:
+    case node_id::inv_term:
+    case node_id::inv_out: return 2 * k * k;
+    case node_id::inv_diag_recip: return k;
+    case node_id::precoder: return 2 * m * k;
+    case node_id::power_acc:
+    case node_id::norm: return per_antenna ? m : 1;
+    case node_id::tx_gain: return 1;
+    case node_id::weights: return 2 * m * k;
+    case node_id::symbols: return 2 * k * n;
+    case node_id::tx_acc:
+    case node_id::dac: return 2 * m;  // one accumulator / output register pair per antenna lane
+  }
+  return 0;
+}
+
+double datapath_cost(const golden::scenario& scen, const datapath_config& config, cost_model model) {
+  const std::vector<node_id> active = active_nodes(scen);
+  auto w = [&](node_id id) { return static_cast<double>(config[id].spec.fmt.word_bits); };
+  double cost = 0;
+  for (node_id id : active) cost += model == cost_model::bits ? w(id) : w(id) * node_storage_words(scen, id);
+  if (model == cost_model::bits) return cost;
+  auto is_active = [&](node_id id) { return std::find(active.begin(), active.end(), id) != active.end(); };
+  // Multipliers: real multipliers x operand widths.
+  const double lanes = scen.array.num_antennas;
+  cost += 4 * w(node_id::adc) * w(node_id::pilot_rom);
+  cost += 2 * w(node_id::pilot_acc) * w(node_id::est_scale);
+  if (is_active(node_id::gram)) {
+    cost += 4 * w(node_id::chan_est) * w(node_id::chan_est);
+    cost += 4 * w(node_id::chan_est) * w(node_id::inv_out);
+    if (is_active(node_id::inv_factor)) {
+      cost += 4 * w(node_id::inv_factor) * w(node_id::inv_factor) + 4 * w(node_id::inv_factor) * w(node_id::inv_fwd);
+    } else {
+      cost += 4 * w(node_id::inv_iter) * w(node_id::inv_term);
+    }
+  }
+  cost += 2 * w(node_id::precoder) * w(node_id::precoder);
+  cost += 2 * w(node_id::precoder) * w(node_id::norm);
+  cost += 4 * lanes * w(node_id::weights) * w(node_id::symbols);
+  return cost;
+}
+
+std::vector<int> greedy_search(const std::vector<int>& lo, const std::vector<int>& hi,
+                               const std::function<tune_figures(const std::vector<int>&)>& evaluate,
+                               const std::function<double(const std::vector<int>&)>& cost, const tune_limits& limits,
+                               int& evaluations) {
+  const std::size_t n = lo.size();
+  auto eval = [&](const std::vector<int>& x) {
+    ++evaluations;
+    return evaluate(x);
+  };
+  // 1. Each variable's minimum with all others at their widest (binary search: the figures
+  //    fall as bits are added, the usual behaviour in the granular region).
+  std::vector<int> x = hi;
+  if (!eval(x).meets(limits)) return x;  // even the widest setting fails: report it as is
+  std::vector<int> minimum(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    int a = lo[i], b = hi[i];  // b meets
+    while (a < b) {
+      const int mid = a + (b - a) / 2;
+      std::vector<int> probe = hi;
+      probe[i] = mid;
+      if (eval(probe).meets(limits)) b = mid; else a = mid + 1;
+    }
+    minimum[i] = b;
+  }
+  // 2. All at their minima; add bits where they buy the most budget per unit cost.
+  x = minimum;
+  tune_figures fx = eval(x);
+  while (!fx.meets(limits)) {
+    std::size_t best = n;
+    double best_gain = -1e300;
+    tune_figures best_fig;
+    for (std::size_t i = 0; i < n; ++i) {
+      if (x[i] >= hi[i]) continue;
+      std::vector<int> y = x;
+      ++y[i];
+      const tune_figures fy = eval(y);
+      const double gain = (fx.worst_ratio(limits) - fy.worst_ratio(limits)) / std::max(1e-12, cost(y) - cost(x));
+      if (gain > best_gain) {
+        best_gain = gain;
+        best = i;
+        best_fig = fy;
+      }
+    }
+    if (best == n) break;  // everything at its widest
+    ++x[best];
+    fx = best_fig;
+  }
+  if (!fx.meets(limits)) return hi;
+  // 3. Remove bits while the limits hold, the most expensive bit first; a variable whose removal
+  //    once broke a limit is left alone from then on (each removal only tightens the others).
+  std::vector<double> saving(n, 0.0);
+  for (std::size_t i = 0; i < n; ++i) {
+    std::vector<int> y = x;
+    --y[i];
+    saving[i] = cost(x) - cost(y);
+  }
+  std::vector<std::size_t> order(n);
+  for (std::size_t i = 0; i < n; ++i) order[i] = i;
+  std::stable_sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return saving[a] > saving[b]; });
+  for (std::size_t i : order) {
+    while (x[i] > lo[i]) {
+      std::vector<int> y = x;
+      --y[i];
+      if (!eval(y).meets(limits)) break;
+      x = y;
+    }
+  }
+  return x;
+}
+
+tune_results tune_widths(const golden::scenario& scen, const datapath_config& start, const tune_limits& limits,
+                         cost_model model, int num_trials, unsigned num_threads, double overflow_prob,
+                         double search_margin, const std::function<void(const std::string&)>& status) {
+  auto say = [&](const std::string& s) {
+    if (status) status(s);
+  };
+  tune_results out;
+  out.scenario_name = scen.name;
+  out.limits = limits;
+  out.model = model;
+  out.nodes = active_nodes(scen);
+  out.search_trials = first_trials(num_trials);
+  for (int t = 0; t < num_trials; ++t) out.verify_trials.push_back(static_cast<std::uint64_t>(num_trials + t));
+
+  say("range profiling for integer bits");
+  const range_results ranges = profile_ranges(scen, start, num_trials, num_threads, overflow_prob);
+  std::vector<int> int_bits;
+  for (const node_range& r : ranges.nodes) int_bits.push_back(r.proposed_int_bits);
+
+  // Fraction bits between 0 (or what keeps the word at 2 bits) and what fills 40 bits of word
+  // (at most 64).
+  const std::size_t n = out.nodes.size();
+  std::vector<int> lo(n), hi(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    lo[i] = std::max(0, 1 - int_bits[i]);
+    hi[i] = std::max(lo[i], std::min(40, 63 - int_bits[i]));
+  }
+  auto config_of = [&](const std::vector<int>& frac) {
+    datapath_config c = start;
+    for (std::size_t i = 0; i < n; ++i) {
+      node_setting& s = c[out.nodes[i]];
+      s.spec.fmt = {true, 1 + int_bits[i] + frac[i], frac[i]};
+      s.is_default = false;
+    }
+    return c;
+  };
+  int step = 0;
+  auto evaluate = [&](const std::vector<int>& frac) {
+    if (++step % 10 == 0) say(fmt::format("search: {} evaluations", step));
+    return figures_of(run_trials(scen, config_of(frac), out.search_trials, num_threads));
+  };
+  auto cost = [&](const std::vector<int>& frac) { return datapath_cost(scen, config_of(frac), model); };
+  say("searching fraction bits");
+  // The search aims below the limits by the margin, so that the fresh trials of the
+  // verification (a different sample) still meet them.
+  tune_limits search_limits = limits;
+  search_limits.max_sinr_loss_db *= 1.0 - search_margin;
+  search_limits.max_evm_pct *= 1.0 - search_margin;
+  const std::vector<int> best = greedy_search(lo, hi, evaluate, cost, search_limits, out.evaluations);
+  out.config = config_of(best);
+  out.cost = datapath_cost(scen, out.config, model);
+  out.search = figures_of(run_trials(scen, out.config, out.search_trials, num_threads));
+  say("verifying on fresh trials");
+  out.verification = figures_of(run_trials(scen, out.config, out.verify_trials, num_threads));
+  out.met = out.verification.meets(limits);
+  if (!out.search.meets(limits)) {
+    out.note = "no setting of at most 64 bits per node meets the limits on the search trials";
+  } else if (!out.met) {
+    out.note = "the choice meets the limits on the search trials but not on the fresh trials: "
+               "use more trials or tighter margins";
+  }
+  return out;
+}
+
+std::string format_tune_table(const golden::scenario& scen, const tune_results& r) {
+  std::string out = fmt::format("scenario {}: cost model {}, {} evaluations of {} trials\n\n", r.scenario_name,
+                                to_string(r.model), r.evaluations, r.search_trials.size());
+  out += fmt::format("{:<15} {:<10} {:>5} {:>9} {:>9}\n", "node", "format", "bits", "int bits", "frac bits");
+  for (node_id id : r.nodes) {
+    const fp::format& f = r.config[id].spec.fmt;
+    out += fmt::format("{:<15} {:<10} {:>5} {:>9} {:>9}\n", node_name(id), fp::to_q_string(f), f.word_bits,
+                       f.int_bits(), f.frac_bits);
+  }
+  out += fmt::format("\ncost: {:.0f} ({})\n", r.cost, r.model == cost_model::bits ? "total word bits" : "area proxy");
+  out += fmt::format("{:<22} {:>12} {:>12} {:>12} {:>12}\n", "", "limit", "search", "fresh trials", "margin");
+  out += fmt::format("{:<22} {:>12.4f} {:>12.4f} {:>12.4f} {:>12.4f}\n", "SINR loss dB", r.limits.max_sinr_loss_db,
+                     r.search.sinr_loss_db, r.verification.sinr_loss_db,
+                     r.limits.max_sinr_loss_db - r.verification.sinr_loss_db);
+  out += fmt::format("{:<22} {:>12.4f} {:>12.4f} {:>12.4f} {:>12.4f}\n", "implementation EVM %", r.limits.max_evm_pct,
+                     r.search.evm_pct, r.verification.evm_pct, r.limits.max_evm_pct - r.verification.evm_pct);
+  out += fmt::format("{:<22} {:>12.3g} {:>12.3g} {:>12.3g} {:>12.3g}\n", "max overflow rate", r.limits.max_overflow_rate,
+                     r.search.max_overflow_rate, r.verification.max_overflow_rate,
+                     r.limits.max_overflow_rate - r.verification.max_overflow_rate);
+  out += r.met ? "verification on fresh trials: PASS (every limit met)\n"
+               : "verification on fresh trials: FAIL - " + r.note + "\n";
+  (void)scen;
+  return out;
+}
+
+nlohmann::json to_json(const golden::scenario& scen, const tune_results& r) {
+  nlohmann::json out;
+  out["kind"] = "tune";
+  out["scenario"] = {{"name", r.scenario_name}};
+  out["cost_model"] = std::string(to_string(r.model));
+  out["cost"] = r.cost;
+  out["limits"] = {{"max_sinr_loss_db", r.limits.max_sinr_loss_db},
+                   {"max_evm_pct", r.limits.max_evm_pct},
+                   {"max_overflow_rate", r.limits.max_overflow_rate}};
+  out["nodes"] = nlohmann::json::object();
+  for (node_id id : r.nodes) {
+    const fp::format& f = r.config[id].spec.fmt;
+    out["nodes"][std::string(node_name(id))] = {
+        {"format", fp::to_q_string(f)},
+        {"word_bits", f.word_bits},
+        {"frac_bits", f.frac_bits},
+        {"int_bits", f.int_bits()},
+        {"rounding", std::string(fp::to_string(r.config[id].spec.rounding))},
+        {"overflow", std::string(fp::to_string(r.config[id].spec.overflow))},
+        {"cost", r.model == cost_model::bits ? static_cast<double>(f.word_bits)
+                                             : f.word_bits * node_storage_words(scen, id)}};
+  }
+  out["search"] = {{"trials", r.search_trials.size()},
+                   {"sinr_loss_db", r.search.sinr_loss_db},
+                   {"evm_impl_pct", r.search.evm_pct},
+                   {"max_overflow_rate", r.search.max_overflow_rate},
+                   {"evaluations", r.evaluations}};
+  out["verification"] = {{"trials", r.verify_trials},
+                         {"sinr_loss_db", r.verification.sinr_loss_db},
+                         {"evm_impl_pct", r.verification.evm_pct},
+                         {"max_overflow_rate", r.verification.max_overflow_rate},
+                         {"meets_limits", r.met}};
+  out["margins"] = {{"sinr_loss_db", r.limits.max_sinr_loss_db - r.verification.sinr_loss_db},
+                    {"evm_pct", r.limits.max_evm_pct - r.verification.evm_pct},
+                    {"overflow_rate", r.limits.max_overflow_rate - r.verification.max_overflow_rate}};
+  out["met"] = r.met;
+  out["note"] = r.note;
+  return out;
+}
+
+std::string scenario_with_nodes(const std::string& scenario_text, const datapath_config& config,
+                                const std::vector<node_id>& nodes, const std::string& comment) {
+  std::istringstream in(scenario_text);
+  std::string line, out;
+  bool in_nodes = false;
+  while (std::getline(in, line)) {
+    const auto first = line.find_first_not_of(" \t");
+    if (first != std::string::npos && line[first] == '[') {
+      const std::string header = line.substr(first);
+      in_nodes = header.rfind("[nodes.", 0) == 0 || header.rfind("[nodes]", 0) == 0;
+    }
+    if (!in_nodes) out += line + "\n";
+  }
+  while (out.size() >= 2 && out[out.size() - 1] == '\n' && out[out.size() - 2] == '\n') out.pop_back();
+  out += "\n# " + comment + "\n";
+  for (node_id id : nodes) {
+    const node_setting& s = config[id];
+    out += fmt::format("[nodes.{}]\nformat = \"{}\"\nrounding = \"{}\"\noverflow = \"{}\"\n\n", node_name(id),
+                       fp::to_q_string(s.spec.fmt), fp::to_string(s.spec.rounding), fp::to_string(s.spec.overflow));
+  }
+  return out;
+}
+
+}  // namespace fxmimo::harness
