@@ -4,7 +4,11 @@
 #include "progress.hpp"
 #include "scenario_input.hpp"
 
+#include "fxmimo/harness/range.hpp"
 #include "fxmimo/harness/report.hpp"
+#include "fxmimo/harness/report_html.hpp"
+#include "fxmimo/harness/sweep.hpp"
+#include "fxmimo/harness/tune.hpp"
 #include "fxmimo/harness/runner.hpp"
 
 #include <fmt/core.h>
@@ -44,16 +48,69 @@ struct demo_options {
 };
 
 int run_demo(const demo_options& opt) {
+  namespace fs = std::filesystem;
   const scenario_input in = parse_scenario_input(demo_scenario_text(), "rooftop-64.toml (embedded demo)");
-  std::filesystem::create_directories(opt.out_dir);
-  write_file_atomically(std::filesystem::path(opt.out_dir) / "scenario.toml", in.text);
-  fmt::print("fxmimo demo: {} antennas, {} users per cell, {} cells, {}, {} precoding\n\n", in.scen.array.num_antennas,
-             in.scen.cells.num_users, in.scen.cells.num_cells, golden::modulation_name(in.scen.data.mod), "ZF/LDL");
+  fs::create_directories(opt.out_dir);
+  const fs::path dir(opt.out_dir);
+  write_file_atomically(dir / "scenario.toml", in.text);
+  fmt::print("fxmimo demo: {} antennas, {} users per cell, {} cells, {}, ZF/LDL precoding\n\n", in.scen.array.num_antennas,
+             in.scen.cells.num_users, in.scen.cells.num_cells, golden::modulation_name(in.scen.data.mod));
+
+  // 1. The scenario's own widths, side by side with the golden model.
   const harness::run_results results = run_scenario(in, 0, opt.num_threads);
   fmt::print("{}", harness::format_run_table(results));
-  const std::filesystem::path json = std::filesystem::path(opt.out_dir) / "run.json";
-  write_file_atomically(json, harness::to_json(results).dump(2) + "\n");
-  fmt::print("\nwrote {} and {}\n", (std::filesystem::path(opt.out_dir) / "scenario.toml").string(), json.string());
+  const nlohmann::json run_json = harness::to_json(results);
+  write_file_atomically(dir / "run.json", run_json.dump(2) + "\n");
+
+  // 2. Where the values live: integer bits per node.
+  fmt::print("\n== range: golden values per node ==\n");
+  const harness::range_results ranges =
+      harness::profile_ranges(in.scen, in.config, in.scen.num_trials, opt.num_threads, 1e-6);
+  fmt::print("{}", harness::format_range_table(ranges));
+  const nlohmann::json range_json = harness::to_json(ranges);
+  write_file_atomically(dir / "range.json", range_json.dump(2) + "\n");
+
+  // 3. What the last stages' fraction bits buy.
+  const int sweep_trials = 8;
+  fmt::print("\n== sweep: fraction bits of weights and dac, {} trials per point ==\n", sweep_trials);
+  progress_line sweep_progress("sweep trials");
+  const harness::sweep_results sweep = harness::run_sweep(
+      in.scen, in.config, {harness::node_id::weights, harness::node_id::dac}, 8, 14, harness::sweep_axis::frac,
+      harness::first_trials(sweep_trials), opt.num_threads,
+      [&](std::size_t d, std::size_t t) { sweep_progress.update(d, t); });
+  fmt::print("{}", harness::format_sweep_table(sweep));
+  const nlohmann::json sweep_json = harness::to_json(sweep);
+  write_file_atomically(dir / "sweep.json", sweep_json.dump(2) + "\n");
+
+  // 4. The cheapest widths for a budget: 0.05 dB SINR loss, a tenth of the 64-QAM EVM limit.
+  harness::tune_limits limits;
+  limits.max_sinr_loss_db = 0.05;
+  limits.max_evm_pct = 0.1 * *harness::bs_evm_limit_pct(in.scen.data.mod);
+  limits.max_overflow_rate = 1e-6;
+  const int tune_trials = 12;
+  fmt::print("\n== tune: SINR loss <= {} dB, implementation EVM <= {} % (a tenth of the TS 38.104 limit), "
+             "{} trials, verified on {} fresh ones ==\n",
+             limits.max_sinr_loss_db, limits.max_evm_pct, tune_trials, tune_trials);
+  const harness::tune_results tuned =
+      harness::tune_widths(in.scen, in.config, limits, harness::cost_model::bits, tune_trials, opt.num_threads, 1e-6, 0.1,
+                           [](const std::string& st) {
+                             if (isatty(2)) fmt::print(stderr, "\r{:<60}\r", st);
+                           });
+  if (isatty(2)) fmt::print(stderr, "\r{:<60}\r", "");
+  fmt::print("{}", harness::format_tune_table(in.scen, tuned));
+  const nlohmann::json tune_json = harness::to_json(in.scen, tuned);
+  write_file_atomically(dir / "tune.json", tune_json.dump(2) + "\n");
+  write_file_atomically(dir / "tuned.toml",
+                        harness::scenario_with_nodes(in.text, tuned.config, tuned.nodes,
+                                                     fmt::format("Widths chosen by fxmimo tune in the demo: cost {:.0f} bits",
+                                                                 tuned.cost)));
+
+  // 5. One page with all of it.
+  const std::string html = harness::render_report_html(
+      {{"run.json", run_json}, {"range.json", range_json}, {"sweep.json", sweep_json}, {"tune.json", tune_json}});
+  write_file_atomically(dir / "report.html", html);
+  fmt::print("\nwrote {}: scenario.toml, run.json, range.json, sweep.json, tune.json, tuned.toml\n", dir.string());
+  fmt::print("report: {}\n", (dir / "report.html").string());
   fmt::print("Results are simulations: sign-off belongs to RTL/gate-level verification and the applicable "
              "conformance tests.\n");
   return exit_ok;
@@ -86,6 +143,8 @@ void add_demo_command(CLI::App& app) {
   cmd->footer(
       "The demo scenario is examples/rooftop-64.toml: a 64-antenna rooftop array, 8 users per cell,\n"
       "two neighbouring cells reusing its pilots, 64-QAM, zero-forcing with an LDL^H inverter.\n"
+      "It runs the scenario side by side with the golden model, profiles the node ranges, sweeps the\n"
+      "last stages, tunes all widths for a budget, and writes report.html with everything.\n"
       "Examples:\n"
       "  fxmimo demo\n"
       "  fxmimo demo --out /tmp/demo");

@@ -129,6 +129,7 @@ struct tune_options {
   std::string modulation;
   double evm_budget = 0.25;
   double max_overflow_rate = 1e-6;
+  double max_power_error_db = 0.1;
   std::string cost = "bits";
   int num_trials = 0;
   unsigned num_threads = 0;
@@ -143,6 +144,7 @@ int run_tune(const tune_options& opt) {
   harness::tune_limits limits;
   limits.max_sinr_loss_db = opt.max_sinr_loss_db;
   limits.max_overflow_rate = opt.max_overflow_rate;
+  limits.max_power_error_db = opt.max_power_error_db;
   if (opt.max_evm_pct > 0) {
     limits.max_evm_pct = opt.max_evm_pct;
   } else if (!opt.modulation.empty()) {
@@ -238,12 +240,15 @@ void add_tune_command(CLI::App& app) {
   cmd->add_option("--evm-budget", opt->evm_budget, "Fraction of the 3GPP EVM limit given to the datapath")
       ->capture_default_str()->check(CLI::Range(1e-6, 1.0));
   cmd->add_option("--max-overflow-rate", opt->max_overflow_rate, "Largest overflow rate of any node")->capture_default_str();
+  cmd->add_option("--max-power-error", opt->max_power_error_db,
+                  "Largest transmit-power error of the fixed block against the golden one, dB (worst trial)")
+      ->capture_default_str();
   cmd->add_option("--cost", opt->cost, "bits (total word bits) or area (a stated proxy, README)")->capture_default_str();
   cmd->add_option("--trials", opt->num_trials, "Trials per evaluation (default: the scenario's); the verification uses as many fresh ones")
       ->check(CLI::PositiveNumber);
   cmd->add_option("--threads", opt->num_threads, "Worker threads (default: all cores)");
   cmd->add_option("--overflow-prob", opt->overflow_prob, "Overflow probability for the integer bits")->capture_default_str();
-  cmd->add_option("--margin", opt->margin, "The search aims this fraction below the SINR-loss and EVM limits")
+  cmd->add_option("--margin", opt->margin, "The search aims this fraction below the SINR-loss, EVM and power-error limits")
       ->capture_default_str()->check(CLI::Range(0.0, 0.9));
   cmd->add_option("-o,--out", opt->out_path, "Write the tuned scenario here")->required();
   cmd->add_option("--json", opt->json_path, "Write the result as JSON (input of fxmimo report)");

@@ -94,6 +94,7 @@ nlohmann::json to_json(const run_results& r) {
                     {"evm_fixed_pct", s.evm_fixed_pct},   {"evm_impl_pct", s.evm_impl_pct},
                     {"tx_power_error_db", s.tx_power_error_db},
                     {"max_abs_tx_power_error_db", s.max_abs_tx_power_error_db},
+                    {"rms_tx_power_error_db", s.rms_tx_power_error_db},
                     {"evm_limit_pct", s.evm_limit_pct ? nlohmann::json(*s.evm_limit_pct) : nlohmann::json(nullptr)}};
   out["warnings"] = r.warnings;
   return out;

@@ -125,7 +125,7 @@ run_results run_trials(const golden::scenario& scen, const datapath_config& conf
   const std::vector<node_id> active = active_nodes(scen);
   const std::size_t num_users = per_trial.front().sinr_golden.size();
   std::vector<double> sinr_g(num_users, 0.0), sinr_f(num_users, 0.0), evm_g2(num_users, 0.0), evm_f2(num_users, 0.0);
-  double impl2 = 0.0, power_error_sum = 0.0, power_error_max = 0.0;
+  double impl2 = 0.0, power_error_sum = 0.0, power_error_max = 0.0, power_error2 = 0.0;
   std::size_t outside_convergence = 0;
   std::array<node_result, num_nodes> totals;
   for (const trial_summary& t : per_trial) {
@@ -150,6 +150,7 @@ run_results run_trials(const golden::scenario& scen, const datapath_config& conf
     }
     impl2 += t.evm_impl * t.evm_impl;
     power_error_sum += t.tx_power_error_db;
+    power_error2 += t.tx_power_error_db * t.tx_power_error_db;
     power_error_max = std::max(power_error_max, std::abs(t.tx_power_error_db));
     if (t.neumann_radius >= 1.0) ++outside_convergence;
   }
@@ -179,6 +180,7 @@ run_results run_trials(const golden::scenario& scen, const datapath_config& conf
   out.summary.evm_limit_pct = bs_evm_limit_pct(scen.data.mod);
   out.summary.tx_power_error_db = power_error_sum / n;
   out.summary.max_abs_tx_power_error_db = power_error_max;
+  out.summary.rms_tx_power_error_db = std::sqrt(power_error2 / n);
   if (outside_convergence > 0) {
     out.warnings.push_back(fmt::format(
         "Neumann series outside its convergence region (spectral radius of I - D^-1 G >= 1) in {} of {} trials: "

@@ -13,13 +13,14 @@ namespace fp = fxmimo::fixedpoint;
 double tune_figures::worst_ratio(const tune_limits& l) const {
   auto ratio = [](double value, double limit) { return limit > 0 ? value / limit : (value > 0 ? 1e300 : 0.0); };
   return std::max({ratio(sinr_loss_db, l.max_sinr_loss_db), ratio(evm_pct, l.max_evm_pct),
-                   ratio(max_overflow_rate, l.max_overflow_rate)});
+                   ratio(max_overflow_rate, l.max_overflow_rate), ratio(abs_power_error_db, l.max_power_error_db)});
 }
 
 tune_figures figures_of(const run_results& r) {
   tune_figures f;
   f.sinr_loss_db = r.summary.sinr_loss_db;
   f.evm_pct = r.summary.evm_impl_pct;
+  f.abs_power_error_db = r.summary.rms_tx_power_error_db;
   for (const node_result& n : r.nodes) f.max_overflow_rate = std::max(f.max_overflow_rate, n.overflow_rate());
   return f;
 }
@@ -106,28 +107,38 @@ std::vector<int> greedy_search(const std::vector<int>& lo, const std::vector<int
     }
     minimum[i] = b;
   }
-  // 2. All at their minima; add bits where they buy the most budget per unit cost.
+  // 2. All at their minima; add bits where they buy the most budget per unit cost. Each round
+  //    ranks every one-bit addition by (gain in the worst limit ratio) / (added cost), then takes
+  //    the additions in that order while each still improves the combined state.
   x = minimum;
   tune_figures fx = eval(x);
   while (!fx.meets(limits)) {
-    std::size_t best = n;
-    double best_gain = -1e300;
-    tune_figures best_fig;
+    struct candidate {
+      std::size_t var;
+      double gain_per_cost;
+    };
+    std::vector<candidate> ranked;
     for (std::size_t i = 0; i < n; ++i) {
       if (x[i] >= hi[i]) continue;
       std::vector<int> y = x;
       ++y[i];
-      const tune_figures fy = eval(y);
-      const double gain = (fx.worst_ratio(limits) - fy.worst_ratio(limits)) / std::max(1e-12, cost(y) - cost(x));
-      if (gain > best_gain) {
-        best_gain = gain;
-        best = i;
-        best_fig = fy;
-      }
+      const double gain = fx.worst_ratio(limits) - eval(y).worst_ratio(limits);
+      ranked.push_back({i, gain / std::max(1e-12, cost(y) - cost(x))});
     }
-    if (best == n) break;  // everything at its widest
-    ++x[best];
-    fx = best_fig;
+    if (ranked.empty()) break;  // everything at its widest
+    std::stable_sort(ranked.begin(), ranked.end(),
+                     [](const candidate& a, const candidate& b) { return a.gain_per_cost > b.gain_per_cost; });
+    bool first = true;
+    for (const candidate& c : ranked) {
+      std::vector<int> y = x;
+      ++y[c.var];
+      const tune_figures fy = eval(y);
+      if (!first && fy.worst_ratio(limits) >= fx.worst_ratio(limits)) break;
+      x = y;
+      fx = fy;
+      first = false;
+      if (fx.meets(limits)) break;
+    }
   }
   if (!fx.meets(limits)) return hi;
   // 3. Remove bits while the limits hold, the most expensive bit first; a variable whose removal
@@ -200,6 +211,7 @@ tune_results tune_widths(const golden::scenario& scen, const datapath_config& st
   tune_limits search_limits = limits;
   search_limits.max_sinr_loss_db *= 1.0 - search_margin;
   search_limits.max_evm_pct *= 1.0 - search_margin;
+  search_limits.max_power_error_db *= 1.0 - search_margin;
   const std::vector<int> best = greedy_search(lo, hi, evaluate, cost, search_limits, out.evaluations);
   out.config = config_of(best);
   out.cost = datapath_cost(scen, out.config, model);
@@ -232,6 +244,9 @@ std::string format_tune_table(const golden::scenario& scen, const tune_results& 
                      r.limits.max_sinr_loss_db - r.verification.sinr_loss_db);
   out += fmt::format("{:<22} {:>12.4f} {:>12.4f} {:>12.4f} {:>12.4f}\n", "implementation EVM %", r.limits.max_evm_pct,
                      r.search.evm_pct, r.verification.evm_pct, r.limits.max_evm_pct - r.verification.evm_pct);
+  out += fmt::format("{:<22} {:>12.4f} {:>12.4f} {:>12.4f} {:>12.4f}\n", "RMS tx power error dB", r.limits.max_power_error_db,
+                     r.search.abs_power_error_db, r.verification.abs_power_error_db,
+                     r.limits.max_power_error_db - r.verification.abs_power_error_db);
   out += fmt::format("{:<22} {:>12.3g} {:>12.3g} {:>12.3g} {:>12.3g}\n", "max overflow rate", r.limits.max_overflow_rate,
                      r.search.max_overflow_rate, r.verification.max_overflow_rate,
                      r.limits.max_overflow_rate - r.verification.max_overflow_rate);
@@ -249,6 +264,7 @@ nlohmann::json to_json(const golden::scenario& scen, const tune_results& r) {
   out["cost"] = r.cost;
   out["limits"] = {{"max_sinr_loss_db", r.limits.max_sinr_loss_db},
                    {"max_evm_pct", r.limits.max_evm_pct},
+                   {"max_tx_power_error_db", r.limits.max_power_error_db},
                    {"max_overflow_rate", r.limits.max_overflow_rate}};
   out["nodes"] = nlohmann::json::object();
   for (node_id id : r.nodes) {
@@ -264,17 +280,21 @@ nlohmann::json to_json(const golden::scenario& scen, const tune_results& r) {
                                              : f.word_bits * node_storage_words(scen, id)}};
   }
   out["search"] = {{"trials", r.search_trials.size()},
+                   {"abs_tx_power_error_db", r.search.abs_power_error_db},
                    {"sinr_loss_db", r.search.sinr_loss_db},
                    {"evm_impl_pct", r.search.evm_pct},
                    {"max_overflow_rate", r.search.max_overflow_rate},
                    {"evaluations", r.evaluations}};
-  out["verification"] = {{"trials", r.verify_trials},
+  out["verification"] = {{"trials", r.verify_trials.size()},
+                         {"trial_indices", r.verify_trials},
+                         {"abs_tx_power_error_db", r.verification.abs_power_error_db},
                          {"sinr_loss_db", r.verification.sinr_loss_db},
                          {"evm_impl_pct", r.verification.evm_pct},
                          {"max_overflow_rate", r.verification.max_overflow_rate},
                          {"meets_limits", r.met}};
   out["margins"] = {{"sinr_loss_db", r.limits.max_sinr_loss_db - r.verification.sinr_loss_db},
                     {"evm_pct", r.limits.max_evm_pct - r.verification.evm_pct},
+                    {"tx_power_error_db", r.limits.max_power_error_db - r.verification.abs_power_error_db},
                     {"overflow_rate", r.limits.max_overflow_rate - r.verification.max_overflow_rate}};
   out["met"] = r.met;
   out["note"] = r.note;

@@ -52,6 +52,7 @@ struct run_summary {
   double evm_impl_pct = 0.0;    ///< RMS over trials of the gain-aligned ||dac - golden tx|| / ||golden tx||
   double tx_power_error_db = 0.0;          ///< mean over trials of 10 log10(|dac|^2 / |golden tx|^2)
   double max_abs_tx_power_error_db = 0.0;  ///< largest |power error| of a trial
+  double rms_tx_power_error_db = 0.0;      ///< RMS over trials of the power error
   std::optional<double> evm_limit_pct;  ///< 3GPP base-station limit for the modulation
 };
 

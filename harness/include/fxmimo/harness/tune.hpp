@@ -4,7 +4,8 @@
 /// proposal. Method (a sequential search of the kind compared by Cantin, Savaria & Lavoie,
 /// "A comparison of automatic word length optimization procedures", ISCAS 2002): each node's
 /// minimum with all others wide, then greedy passes that add a bit where it buys the most budget
-/// per unit cost and remove bits while the limits hold; finally a re-verification on fresh trials.
+/// per unit cost (ranked once per round, taken in rank order while each still helps) and remove
+/// bits while the limits hold; finally a re-verification on fresh trials.
 
 #include "fxmimo/harness/range.hpp"
 #include "fxmimo/harness/runner.hpp"
@@ -21,6 +22,7 @@ struct tune_limits {
   double max_sinr_loss_db = 0.1;
   double max_evm_pct = 1.0;         ///< implementation EVM at the DAC, %
   double max_overflow_rate = 1e-6;  ///< for every node
+  double max_power_error_db = 0.1;  ///< RMS over trials of the transmit-power error of the fixed block, dB
 };
 
 /// The figures the limits apply to.
@@ -28,8 +30,10 @@ struct tune_figures {
   double sinr_loss_db = 0.0;
   double evm_pct = 0.0;
   double max_overflow_rate = 0.0;
+  double abs_power_error_db = 0.0;
   [[nodiscard]] bool meets(const tune_limits& l) const {
-    return sinr_loss_db <= l.max_sinr_loss_db && evm_pct <= l.max_evm_pct && max_overflow_rate <= l.max_overflow_rate;
+    return sinr_loss_db <= l.max_sinr_loss_db && evm_pct <= l.max_evm_pct && max_overflow_rate <= l.max_overflow_rate &&
+           abs_power_error_db <= l.max_power_error_db;
   }
   /// Largest of the three figures over their limits (<= 1 when every limit holds).
   [[nodiscard]] double worst_ratio(const tune_limits& l) const;
@@ -70,7 +74,7 @@ struct tune_results {
   std::string note;                     ///< why it could not, when it could not
 };
 
-/// Runs range profiling (integer bits), then the search (aiming at the SINR-loss and EVM limits
+/// Runs range profiling (integer bits), then the search (aiming at the SINR-loss, EVM and power limits
 /// reduced by `search_margin`, a fraction), then the verification on fresh trials against the
 /// limits themselves.
 tune_results tune_widths(const golden::scenario& scen, const datapath_config& start, const tune_limits& limits,
