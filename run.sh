@@ -11,8 +11,9 @@ cd "$(dirname "${BASH_SOURCE[0]}")"
 
 required_packages=(g++ cmake ninja-build pkg-config libeigen3-dev libboost-dev libfmt-dev libgtest-dev libgmock-dev
   libbenchmark-dev libcli11-dev libtomlplusplus-dev nlohmann-json3-dev libsystemc-dev)
-# Used by tests that skip themselves, with a message, where absent: RTL simulators, NumPy.
-optional_packages=(iverilog verilator python3-numpy)
+# Used by tests that skip themselves, with a message, where absent: RTL simulators, NumPy,
+# headless Chromium (renders the HTML report).
+optional_packages=(iverilog verilator python3-numpy chromium)
 
 missing_packages() {
   local p
