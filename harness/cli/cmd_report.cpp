@@ -1,5 +1,6 @@
 // fxmimo report: results files of run, range, sweep and tune drawn into one self-contained HTML page.
 #include "commands.hpp"
+#include "output_files.hpp"
 
 #include "fxmimo/harness/report_html.hpp"
 
@@ -17,36 +18,13 @@ struct report_options {
   std::string out_path;
 };
 
-/// Writes text through a temporary file beside `path` and a rename: a reader never sees half a
-/// report, and a failed run leaves an earlier report untouched.
-void write_report_atomically(const std::filesystem::path& path, const std::string& text) {
-  const std::filesystem::path temp = path.string() + ".partial";
-  {
-    std::ofstream out(temp, std::ios::binary | std::ios::trunc);
-    if (!out) throw usage_error(path.string() + ": cannot write");
-    out << text;
-    out.flush();
-    if (!out) {
-      out.close();
-      std::filesystem::remove(temp);
-      throw usage_error(path.string() + ": write failed");
-    }
-  }
-  std::error_code ec;
-  std::filesystem::rename(temp, path, ec);
-  if (ec) {
-    std::filesystem::remove(temp);
-    throw usage_error(path.string() + ": cannot write: " + ec.message());
-  }
-}
-
 int run_report(const report_options& opt) {
   std::vector<std::pair<std::string, nlohmann::json>> inputs;
   inputs.reserve(opt.inputs.size());
   try {
     for (const std::string& file : opt.inputs) inputs.emplace_back(file, harness::read_report_input(file));
     const std::string html = harness::render_report_html(inputs);
-    write_report_atomically(opt.out_path, html);
+    write_file_atomically(opt.out_path, html);
   } catch (const harness::report_input_error& e) {
     throw usage_error(e.what());
   }

@@ -10,6 +10,8 @@
 
 namespace fxmimo::cli {
 
+/// Writes text through a temporary file beside `path` and a rename: a reader never sees half a
+/// file, and a failed run leaves an earlier file untouched.
 inline void write_file_atomically(const std::filesystem::path& path, const std::string& text) {
   const std::filesystem::path temp = path.string() + ".partial";
   {
@@ -23,7 +25,12 @@ inline void write_file_atomically(const std::filesystem::path& path, const std::
       throw usage_error(path.string() + ": write failed");
     }
   }
-  std::filesystem::rename(temp, path);
+  std::error_code ec;
+  std::filesystem::rename(temp, path, ec);
+  if (ec) {
+    std::filesystem::remove(temp);
+    throw usage_error(path.string() + ": cannot write: " + ec.message());
+  }
 }
 
 }  // namespace fxmimo::cli
