@@ -121,30 +121,32 @@ range_results profile_ranges(const golden::scenario& scen, const datapath_config
     out.nodes.push_back(std::move(r));
   }
   // Worst-case analytic growth of the accumulating nodes, from the configured formats of their
-  // inputs (common practice: a sum of n terms needs log2(n) more integer bits).
+  // inputs (common practice: a sum of n terms needs log2(n) more integer bits). A part of a
+  // complex product, re(a) re(b) -/+ im(a) im(b), reaches 2^(ma + mb + 1) when every part is the
+  // most negative word, and a signed Qm.n holds only |v| < 2^m: hence + 2, not + 1.
   auto int_of = [&](node_id id) { return config[id].spec.fmt.int_bits(); };
   const int num_ant = scen.array.num_antennas, num_users = scen.cells.num_users, tau = scen.pilots.length;
   for (node_range& r : out.nodes) {
     switch (r.id) {
       case node_id::pilot_acc:
-        r.analytic_int_bits = int_of(node_id::adc) + int_of(node_id::pilot_rom) + 1 + ceil_log2(tau);
-        r.analytic_rule = "adc + pilot_rom + 1 + log2(tau_p)";
+        r.analytic_int_bits = int_of(node_id::adc) + int_of(node_id::pilot_rom) + 2 + ceil_log2(tau);
+        r.analytic_rule = "adc + pilot_rom + 2 + log2(tau_p)";
         break;
       case node_id::chan_est:
         r.analytic_int_bits = int_of(node_id::pilot_acc) + int_of(node_id::est_scale) + 1;
         r.analytic_rule = "pilot_acc + est_scale + 1";
         break;
       case node_id::gram:
-        r.analytic_int_bits = 2 * int_of(node_id::chan_est) + 1 + ceil_log2(num_ant);
-        r.analytic_rule = "2 chan_est + 1 + log2(M)";
+        r.analytic_int_bits = 2 * int_of(node_id::chan_est) + 2 + ceil_log2(num_ant);
+        r.analytic_rule = "2 chan_est + 2 + log2(M)";
         break;
       case node_id::power_acc:
-        r.analytic_int_bits = 2 * int_of(node_id::precoder) + 1 + ceil_log2(num_ant * num_users);
-        r.analytic_rule = "2 precoder + 1 + log2(M K)";
+        r.analytic_int_bits = 2 * int_of(node_id::precoder) + 2 + ceil_log2(num_ant * num_users);
+        r.analytic_rule = "2 precoder + 2 + log2(M K)";
         break;
       case node_id::tx_acc:
-        r.analytic_int_bits = int_of(node_id::weights) + int_of(node_id::symbols) + 1 + ceil_log2(num_users);
-        r.analytic_rule = "weights + symbols + 1 + log2(K)";
+        r.analytic_int_bits = int_of(node_id::weights) + int_of(node_id::symbols) + 2 + ceil_log2(num_users);
+        r.analytic_rule = "weights + symbols + 2 + log2(K)";
         break;
       default:
         break;
