@@ -13,6 +13,7 @@
 #include <complex>
 #include <limits>
 #include <numbers>
+#include <ostream>
 #include <stdexcept>
 #include <string>
 #include <vector>
@@ -256,6 +257,8 @@ struct growth_case {
   const char* symbols;
   int antennas, pilot_length;
 };
+
+void PrintTo(const growth_case& c, std::ostream* os) { *os << c.name; }
 
 class range_analytic : public ::testing::TestWithParam<growth_case> {};
 

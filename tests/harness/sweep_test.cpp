@@ -114,6 +114,18 @@ TEST(sweep, point_is_bit_identical_to_a_run_with_that_width) {
     for (const h::sweep_point& p : sweep.points) {
       const std::string what = std::string(h::node_name(c.id)) + " " + std::string(h::to_string(c.axis)) + " = " +
                                std::to_string(p.bits) + " (" + fp::to_q_string(p.fmt) + ")";
+      // The point's format has the swept quantity at `bits` and the other kept.
+      const fp::format& base = in.config[c.id].spec.fmt;
+      if (c.axis == h::sweep_axis::frac) {
+        EXPECT_EQ(p.fmt.frac_bits, p.bits) << what;
+        EXPECT_EQ(p.fmt.int_bits(), base.int_bits()) << what;
+      } else if (c.axis == h::sweep_axis::int_bits) {
+        EXPECT_EQ(p.fmt.int_bits(), p.bits) << what;
+        EXPECT_EQ(p.fmt.frac_bits, base.frac_bits) << what;
+      } else {
+        EXPECT_EQ(p.fmt.word_bits, p.bits) << what;
+        EXPECT_EQ(p.fmt.int_bits(), base.int_bits()) << what;
+      }
       // By hand: the configured datapath with that node's format replaced.
       h::datapath_config by_hand = in.config;
       by_hand[c.id].spec.fmt = p.fmt;

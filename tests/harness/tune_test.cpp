@@ -10,6 +10,7 @@
 #include <cmath>
 #include <cstdio>
 #include <cstdint>
+#include <ostream>
 #include <random>
 #include <string>
 #include <vector>
@@ -52,6 +53,8 @@ struct surface_case {
   bool within_one_bit = true;  ///< checked strictly (named cases) or reported (random cases)
 };
 
+void PrintTo(const surface_case& c, std::ostream* os) { *os << c.name; }
+
 std::string describe(const std::vector<int>& x) {
   std::string out = "(";
   for (std::size_t i = 0; i < x.size(); ++i) out += (i ? ", " : "") + std::to_string(x[i]);
@@ -84,6 +87,9 @@ std::vector<surface_case> surface_cases() {
   out.push_back({"equal", {{1, 1, 1}, {1, 1, 1}, {10.0, 0.5, 1e-6}}, true});
   out.push_back({"one_noisy_stage", {{100, 1, 1}, {1, 1, 1}, {10.0, 0.2, 1e-6}}, true});
   out.push_back({"one_expensive_stage", {{1, 1, 1}, {8, 1, 1}, {10.0, 0.3, 1e-6}}, true});
+  // Exhaustive optimum (14, 14, 11), cost 358: two cheap bits buy what one costly bit would.
+  out.push_back({"very_expensive_stage", {{1, 1, 1}, {1, 1, 30}, {10.0, 0.05, 1e-6}}, true});
+  out.push_back({"noisy_cheap_costly_quiet", {{100, 0.01, 0.01}, {1, 12, 12}, {10.0, 0.2, 1e-6}}, true});
   out.push_back({"sinr_limit_binds", {{3, 0.3, 30}, {2, 5, 1}, {0.01, 100.0, 1e-6}}, true});
   // Random cases from a fixed seed: a_i log-uniform over [0.01, 100], c_i in [1, 8], the EVM
   // limit 2 to 300 times (log-uniform) what 14 bits everywhere give, so every case is feasible.
