@@ -109,7 +109,8 @@ std::vector<int> greedy_search(const std::vector<int>& lo, const std::vector<int
   }
   // 2. All at their minima; add bits where they buy the most budget per unit cost. Each round
   //    ranks every one-bit addition by (gain in the worst limit ratio) / (added cost), then takes
-  //    the additions in that order while each still improves the combined state.
+  //    the additions in that order while each is at least half as good per unit cost as the best
+  //    and still improves the combined state.
   x = minimum;
   tune_figures fx = eval(x);
   while (!fx.meets(limits)) {
@@ -129,7 +130,11 @@ std::vector<int> greedy_search(const std::vector<int>& lo, const std::vector<int
     std::stable_sort(ranked.begin(), ranked.end(),
                      [](const candidate& a, const candidate& b) { return a.gain_per_cost > b.gain_per_cost; });
     bool first = true;
+    const double best_rate = ranked.front().gain_per_cost;
     for (const candidate& c : ranked) {
+      // Only additions nearly as good per unit cost as the best one join the round: a much
+      // dearer bit is left for a later round, where cheap bits may have made it unnecessary.
+      if (!first && (best_rate <= 0 || c.gain_per_cost < 0.5 * best_rate)) break;
       std::vector<int> y = x;
       ++y[c.var];
       const tune_figures fy = eval(y);
