@@ -95,10 +95,14 @@ TEST(demo_command, writes_its_results_and_says_where) {
   const auto dir = scratch_dir("demo");
   const auto r = run_fxmimo("demo --out " + dir.string());
   ASSERT_EQ(r.exit_code, 0) << r.err;
-  EXPECT_TRUE(std::filesystem::exists(dir / "run.json"));
-  EXPECT_TRUE(std::filesystem::exists(dir / "scenario.toml"));
-  EXPECT_NE(r.out.find((dir / "run.json").string()), std::string::npos);
+  for (const char* file : {"scenario.toml", "run.json", "range.json", "sweep.json", "tune.json", "tuned.toml", "report.html"})
+    EXPECT_TRUE(std::filesystem::exists(dir / file)) << file;
+  EXPECT_NE(r.out.find("report: " + (dir / "report.html").string()), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find("verification on fresh trials: PASS"), std::string::npos) << r.out;
   EXPECT_NE(r.out.find("simulations"), std::string::npos);
+  // The tuned scenario is a valid scenario: fxmimo run accepts it.
+  const auto rerun = run_fxmimo("run -c " + (dir / "tuned.toml").string() + " --trials 2");
+  EXPECT_EQ(rerun.exit_code, 0) << rerun.err;
 }
 
 TEST(every_command, has_help_with_examples) {

@@ -239,7 +239,8 @@ symbols = 50
   const trial_data td = run_trial(scen, 0);
   const link_metrics again = evaluate_downlink(scen, td, td.tx);
   EXPECT_EQ(again.sinr, td.metrics.sinr);
-  EXPECT_DOUBLE_EQ(implementation_evm(td.tx, td.tx), 0.0);
+  // The least-squares gain of a block against itself is 1 up to double rounding (a few eps).
+  EXPECT_NEAR(implementation_evm(td.tx, td.tx), 0.0, 1e-14);
   EXPECT_NEAR(implementation_evm(1.01 * td.tx, td.tx), 0.0, 1e-14);  // a gain is aligned away
 }
 
