@@ -106,7 +106,7 @@ TEST(demo_command, writes_its_results_and_says_where) {
 }
 
 TEST(every_command, has_help_with_examples) {
-  for (const char* cmd : {"quant", "run", "demo", "check", "diff"}) {
+  for (const char* cmd : {"quant", "run", "demo", "range", "sweep", "tune", "report", "vectors", "check", "diff"}) {
     const auto r = run_fxmimo(std::string(cmd) + " --help");
     EXPECT_EQ(r.exit_code, 0) << cmd;
     EXPECT_NE(r.out.find("Examples:"), std::string::npos) << cmd << ":\n" << r.out;
