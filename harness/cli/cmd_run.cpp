@@ -28,7 +28,7 @@ struct run_options {
 };
 
 harness::run_results run_scenario(const scenario_input& in, int num_trials, unsigned num_threads) {
-  const int trials = num_trials > 0 ? num_trials : in.scen.num_trials;
+  const int trials = in.trials_or_default(num_trials);
   progress_line progress("trials");
   return harness::run_trials(in.scen, in.config, harness::first_trials(trials), num_threads,
                              [&](std::size_t done, std::size_t total) { progress.update(done, total); });
@@ -97,7 +97,7 @@ int run_demo(const demo_options& opt) {
                              if (isatty(2)) fmt::print(stderr, "\r{:<60}\r", st);
                            });
   if (isatty(2)) fmt::print(stderr, "\r{:<60}\r", "");
-  fmt::print("{}", harness::format_tune_table(in.scen, tuned));
+  fmt::print("{}", harness::format_tune_table(tuned));
   const nlohmann::json tune_json = harness::to_json(in.scen, tuned);
   write_file_atomically(dir / "tune.json", tune_json.dump(2) + "\n");
   write_file_atomically(dir / "tuned.toml",

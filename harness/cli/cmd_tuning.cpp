@@ -16,8 +16,6 @@ namespace fxmimo::cli {
 
 namespace {
 
-int trials_or_default(int given, const scenario_input& in) { return given > 0 ? given : in.scen.num_trials; }
-
 // ---- range ----
 
 struct range_options {
@@ -33,7 +31,7 @@ int run_range(const range_options& opt) {
   const scenario_input in = load_scenario_input(opt.scenario_path);
   progress_line progress("golden trials");
   const harness::range_results r =
-      harness::profile_ranges(in.scen, in.config, trials_or_default(opt.num_trials, in), opt.num_threads,
+      harness::profile_ranges(in.scen, in.config, in.trials_or_default(opt.num_trials), opt.num_threads,
                               opt.overflow_prob, [&](std::size_t d, std::size_t t) { progress.update(d, t); });
   fmt::print("{}", harness::format_range_table(r));
   if (!opt.json_path.empty()) write_file_atomically(opt.json_path, harness::to_json(r).dump(2) + "\n");
@@ -109,7 +107,7 @@ int run_sweep_command(const sweep_options& opt) {
   harness::sweep_results r;
   try {
     r = harness::run_sweep(in.scen, in.config, nodes, lo, hi, axis,
-                           harness::first_trials(trials_or_default(opt.num_trials, in)), opt.num_threads,
+                           harness::first_trials(in.trials_or_default(opt.num_trials)), opt.num_threads,
                            [&](std::size_t d, std::size_t t) { progress.update(d, t); });
   } catch (const std::invalid_argument& e) {
     throw usage_error(e.what());
@@ -171,12 +169,12 @@ int run_tune(const tune_options& opt) {
   const harness::cost_model model = opt.cost == "area" ? harness::cost_model::area : harness::cost_model::bits;
   if (opt.cost != "area" && opt.cost != "bits") throw usage_error(fmt::format("bad --cost '{}': expected bits or area", opt.cost));
   const harness::tune_results r = harness::tune_widths(
-      in.scen, in.config, limits, model, trials_or_default(opt.num_trials, in), opt.num_threads, opt.overflow_prob,
+      in.scen, in.config, limits, model, in.trials_or_default(opt.num_trials), opt.num_threads, opt.overflow_prob,
       opt.margin, [](const std::string& s) {
         if (isatty(2)) fmt::print(stderr, "\r{:<60}\r", s);
       });
   if (isatty(2)) fmt::print(stderr, "\r{:<60}\r", "");
-  fmt::print("{}", harness::format_tune_table(in.scen, r));
+  fmt::print("{}", harness::format_tune_table(r));
   write_file_atomically(opt.out_path, harness::scenario_with_nodes(
                                           in.text, r.config, r.nodes,
                                           fmt::format("Widths chosen by fxmimo tune: cost {:.0f} ({}), {}", r.cost,

@@ -13,6 +13,8 @@ struct scenario_input {
   std::string text;
   golden::scenario scen;
   harness::datapath_config config;
+  /// The trial count a command uses: the one given (> 0) or the scenario's own.
+  [[nodiscard]] int trials_or_default(int given) const { return given > 0 ? given : scen.num_trials; }
 };
 
 /// Reads and parses `path`; errors (scenario_error, unreadable file) name the file.

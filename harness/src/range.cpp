@@ -2,14 +2,12 @@
 
 #include "fxmimo/golden/trial.hpp"
 #include "fxmimo/harness/datapath.hpp"
+#include "fxmimo/harness/runner.hpp"
 
 #include <fmt/core.h>
 
 #include <algorithm>
-#include <atomic>
 #include <cmath>
-#include <mutex>
-#include <thread>
 
 namespace fxmimo::harness {
 
@@ -48,16 +46,12 @@ range_results profile_ranges(const golden::scenario& scen, const datapath_config
   const std::vector<node_id> active = active_nodes(scen);
   // Per trial, per node: the |parts|, kept in trial order so the result is thread-independent.
   std::vector<std::vector<std::vector<double>>> parts(static_cast<std::size_t>(num_trials));
-  if (num_threads == 0) num_threads = std::max(1U, std::thread::hardware_concurrency());
-  std::atomic<int> next{0}, done{0};
-  std::mutex m;
-  std::exception_ptr error;
-  auto worker = [&] {
-    for (int t = next++; t < num_trials; t = next++) {
-      try {
-        const golden::trial_data trial = golden::run_trial(scen, static_cast<std::uint64_t>(t));
+  for_each_index_parallel(
+      static_cast<std::size_t>(num_trials), num_threads,
+      [&](std::size_t t) {
+        const golden::trial_data trial = golden::run_trial(scen, t);
         const auto values = golden_node_values(scen, trial);
-        auto& mine = parts[static_cast<std::size_t>(t)];
+        auto& mine = parts[t];
         mine.resize(active.size());
         for (std::size_t i = 0; i < active.size(); ++i) {
           const Eigen::MatrixXcd& g = values[index_of(active[i])];
@@ -69,24 +63,8 @@ range_results profile_ranges(const golden::scenario& scen, const datapath_config
             if (complex_node) out.push_back(std::abs(g(e).imag()));
           }
         }
-      } catch (...) {
-        const std::lock_guard lock(m);
-        if (!error) error = std::current_exception();
-        next = num_trials;
-        return;
-      }
-      const int finished = ++done;
-      if (progress) {
-        const std::lock_guard lock(m);
-        progress(static_cast<std::size_t>(finished), static_cast<std::size_t>(num_trials));
-      }
-    }
-  };
-  std::vector<std::thread> threads;
-  for (unsigned i = 1; i < std::min<unsigned>(num_threads, static_cast<unsigned>(num_trials)); ++i) threads.emplace_back(worker);
-  worker();
-  for (auto& th : threads) th.join();
-  if (error) std::rethrow_exception(error);
+      },
+      progress);
 
   range_results out;
   out.scenario_name = scen.name;

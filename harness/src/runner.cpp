@@ -82,32 +82,28 @@ trial_summary evaluate_trial(const golden::scenario& scen, const datapath_config
   return out;
 }
 
-run_results run_trials(const golden::scenario& scen, const datapath_config& config,
-                       const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
-                       const progress_callback& progress) {
-  if (trial_indices.empty()) throw std::invalid_argument("no trials to run");
+void for_each_index_parallel(std::size_t count, unsigned num_threads, const std::function<void(std::size_t)>& body,
+                             const progress_callback& progress) {
   if (num_threads == 0) num_threads = std::max(1U, std::thread::hardware_concurrency());
-  num_threads = std::min<unsigned>(num_threads, static_cast<unsigned>(trial_indices.size()));
-  std::vector<trial_summary> per_trial(trial_indices.size());
+  num_threads = static_cast<unsigned>(std::min<std::size_t>(num_threads, std::max<std::size_t>(count, 1)));
   std::atomic<std::size_t> next{0};
   std::atomic<std::size_t> done{0};
-  std::mutex error_mutex;
+  std::mutex mutex;
   std::exception_ptr first_error;
-  std::mutex progress_mutex;
   auto worker = [&] {
-    for (std::size_t i = next++; i < trial_indices.size(); i = next++) {
+    for (std::size_t i = next++; i < count; i = next++) {
       try {
-        per_trial[i] = evaluate_trial(scen, config, trial_indices[i]);
+        body(i);
       } catch (...) {
-        const std::lock_guard lock(error_mutex);
+        const std::lock_guard lock(mutex);
         if (!first_error) first_error = std::current_exception();
-        next = trial_indices.size();
+        next = count;
         return;
       }
       const std::size_t finished = ++done;
       if (progress) {
-        const std::lock_guard lock(progress_mutex);
-        progress(finished, trial_indices.size());
+        const std::lock_guard lock(mutex);
+        progress(finished, count);
       }
     }
   };
@@ -116,6 +112,16 @@ run_results run_trials(const golden::scenario& scen, const datapath_config& conf
   worker();
   for (std::thread& t : threads) t.join();
   if (first_error) std::rethrow_exception(first_error);
+}
+
+run_results run_trials(const golden::scenario& scen, const datapath_config& config,
+                       const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
+                       const progress_callback& progress) {
+  if (trial_indices.empty()) throw std::invalid_argument("no trials to run");
+  std::vector<trial_summary> per_trial(trial_indices.size());
+  for_each_index_parallel(
+      trial_indices.size(), num_threads,
+      [&](std::size_t i) { per_trial[i] = evaluate_trial(scen, config, trial_indices[i]); }, progress);
 
   // Reduction in trial order: the same sums in the same order for any thread count.
   run_results out;

@@ -233,7 +233,7 @@ tune_results tune_widths(const golden::scenario& scen, const datapath_config& st
   return out;
 }
 
-std::string format_tune_table(const golden::scenario& scen, const tune_results& r) {
+std::string format_tune_table(const tune_results& r) {
   std::string out = fmt::format("scenario {}: cost model {}, {} evaluations of {} trials\n\n", r.scenario_name,
                                 to_string(r.model), r.evaluations, r.search_trials.size());
   out += fmt::format("{:<15} {:<10} {:>5} {:>9} {:>9}\n", "node", "format", "bits", "int bits", "frac bits");
@@ -257,7 +257,6 @@ std::string format_tune_table(const golden::scenario& scen, const tune_results& 
                      r.limits.max_overflow_rate - r.verification.max_overflow_rate);
   out += r.met ? "verification on fresh trials: PASS (every limit met)\n"
                : "verification on fresh trials: FAIL - " + r.note + "\n";
-  (void)scen;
   return out;
 }
 

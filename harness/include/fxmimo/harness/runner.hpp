@@ -83,6 +83,12 @@ trial_summary evaluate_trial(const golden::scenario& scen, const datapath_config
 /// Called after each finished trial with (done, total).
 using progress_callback = std::function<void(std::size_t, std::size_t)>;
 
+/// Calls body(i) for i = 0 .. count-1 on `num_threads` threads (0: all cores), each index once;
+/// results must go into per-index slots so the caller can reduce them in index order. The first
+/// exception stops the remaining work and is rethrown; progress(done, count) after each index.
+void for_each_index_parallel(std::size_t count, unsigned num_threads, const std::function<void(std::size_t)>& body,
+                             const progress_callback& progress = {});
+
 /// Runs the given trials on `num_threads` threads (0: all cores).
 run_results run_trials(const golden::scenario& scen, const datapath_config& config,
                        const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,

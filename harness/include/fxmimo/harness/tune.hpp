@@ -81,7 +81,7 @@ tune_results tune_widths(const golden::scenario& scen, const datapath_config& st
                          cost_model model, int num_trials, unsigned num_threads, double overflow_prob,
                          double search_margin, const std::function<void(const std::string&)>& status = {});
 
-std::string format_tune_table(const golden::scenario& scen, const tune_results& r);
+std::string format_tune_table(const tune_results& r);
 nlohmann::json to_json(const golden::scenario& scen, const tune_results& r);
 
 /// The scenario text with its [nodes.*] tables replaced by the given nodes' settings.
