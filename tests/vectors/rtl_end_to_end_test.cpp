@@ -28,33 +28,11 @@ namespace {
 namespace fs = std::filesystem;
 using fp::overflow_mode;
 using fp::rounding_mode;
+using testing::quote;
+using testing::rtl_code;
 using testing::run_command;
 using testing::scratch_dir;
-
-/// RTL parameter codes (examples/rtl/fxm_requant.v), written out rather than taken from the
-/// enum's order so that a reordered enum cannot silently agree with itself.
-int rtl_code(rounding_mode m) {
-  switch (m) {
-    case rounding_mode::floor: return 0;
-    case rounding_mode::ceil: return 1;
-    case rounding_mode::toward_zero: return 2;
-    case rounding_mode::half_up: return 3;
-    case rounding_mode::half_down: return 4;
-    case rounding_mode::half_toward_zero: return 5;
-    case rounding_mode::half_away: return 6;
-    case rounding_mode::half_even: return 7;
-  }
-  return -1;
-}
-int rtl_code(overflow_mode m) {
-  switch (m) {
-    case overflow_mode::wrap: return 0;
-    case overflow_mode::saturate: return 1;
-    case overflow_mode::saturate_symmetric: return 2;
-    case overflow_mode::saturate_zero: return 3;
-  }
-  return -1;
-}
+using testing::simulator;
 
 struct rtl_case {
   const char* name;
@@ -174,13 +152,6 @@ std::optional<std::pair<std::size_t, std::string>> first_difference(const node_w
   return std::nullopt;
 }
 
-std::string quote(const fs::path& p) { return "'" + p.string() + "'"; }
-
-std::vector<std::string> rtl_sources() {
-  const fs::path rtl = fs::path(FXMIMO_SOURCE_DIR) / "examples" / "rtl";
-  return {(rtl / "tb_precode_mac.v").string(), (rtl / "precode_mac.v").string(), (rtl / "fxm_requant.v").string()};
-}
-
 std::vector<std::pair<std::string, long long>> parameters(const rtl_case& c) {
   auto ll = [](auto v) { return static_cast<long long>(v); };
   return {{"M", ll(c.num_ant)},        {"K", ll(c.num_user)},       {"N", ll(c.num_sym)},
@@ -190,39 +161,10 @@ std::vector<std::pair<std::string, long long>> parameters(const rtl_case& c) {
           {"ACC_OVF", rtl_code(c.acc_ovf)}, {"DAC_RND", rtl_code(c.dac_rnd)}, {"DAC_OVF", rtl_code(c.dac_ovf)}};
 }
 
-enum class simulator { icarus, verilator };
-
-/// Compiles and runs the testbench; the dumps land in `dump_dir`. Fails the test on any
-/// simulator warning or error.
+/// Compiles and runs the testbench with this case's parameters; dumps land in `dump_dir`.
 void simulate(simulator sim, const rtl_case& c, bool force_truncate, const fs::path& work, const fs::path& vec_dir,
               const fs::path& dump_dir) {
-  fs::create_directories(dump_dir);
-  std::string compile;
-  std::string run;
-  if (sim == simulator::icarus) {
-    compile = "iverilog -g2005 -Wall -o " + quote(work / "tb.vvp");
-    for (const auto& [name, value] : parameters(c)) compile += fmt::format(" -Ptb.{}={}", name, value);
-    if (force_truncate) compile += " -DFORCE_TRUNCATE";
-    run = "vvp -n " + quote(work / "tb.vvp");
-  } else {
-    compile = "verilator --binary -Wall -Wno-DECLFILENAME --top-module tb --Mdir " + quote(work / "obj") +
-              " -o Vtb -MAKEFLAGS 'OPT_FAST=-O0 OPT_SLOW=-O0 OPT_GLOBAL=-O0'";
-    for (const auto& [name, value] : parameters(c)) compile += fmt::format(" -G{}={}", name, value);
-    if (force_truncate) compile += " -DFORCE_TRUNCATE";
-    run = quote(work / "obj" / "Vtb");
-  }
-  for (const std::string& src : rtl_sources()) compile += " " + quote(src);
-  const auto built = run_command(compile, work / "compile.log");
-  ASSERT_EQ(built.exit_code, 0) << compile << "\n" << built.output;
-  if (sim == simulator::icarus) {
-    // -Wall clean: Icarus prints nothing for a clean compile.
-    EXPECT_EQ(built.output, "") << compile;
-  }
-  const auto ran = run_command(run + " +vec=" + quote(vec_dir) + " +out=" + quote(dump_dir), work / "sim.log");
-  ASSERT_EQ(ran.exit_code, 0) << ran.output;
-  // $readmemh complains about short files, the testbench about missing outputs.
-  EXPECT_EQ(ran.output.find("WARNING"), std::string::npos) << ran.output;
-  EXPECT_EQ(ran.output.find("tb:"), std::string::npos) << ran.output;
+  testing::run_testbench(sim, parameters(c), force_truncate, work, vec_dir, dump_dir);
 }
 
 testing::command_result fxmimo_check(const fs::path& vec_dir, const char* node, const fs::path& dump_dir, const fs::path& log) {

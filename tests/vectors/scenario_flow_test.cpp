@@ -28,10 +28,11 @@ namespace fxmimo::vectors {
 namespace {
 
 namespace fs = std::filesystem;
+using testing::quote;
 using testing::run_command;
 using testing::scratch_dir;
+using testing::simulator;
 
-std::string quote(const fs::path& p) { return "'" + p.string() + "'"; }
 
 /// Node formats of the test scenario that the flow varies.
 struct scenario_knobs {
@@ -141,17 +142,12 @@ std::size_t dim_size(const nlohmann::json& entry, const std::string& name) {
   throw std::runtime_error("no dimension " + name + " in " + entry.at("file").get<std::string>());
 }
 
-/// RTL codes of examples/rtl/fxm_requant.v (its header table), keyed by the manifest's names.
-int rtl_rounding_code(const std::string& name) {
-  static const std::map<std::string, int> codes{{"floor", 0},     {"ceil", 1},      {"toward_zero", 2},
-                                                {"half_up", 3},   {"half_down", 4}, {"half_toward_zero", 5},
-                                                {"half_away", 6}, {"half_even", 7}};
-  return codes.at(name);
+/// RTL codes of the manifest's mode names.
+int rtl_rounding_code(const nlohmann::json& name) {
+  return testing::rtl_code(*fp::parse_rounding_mode(name.get<std::string>()));
 }
-int rtl_overflow_code(const std::string& name) {
-  static const std::map<std::string, int> codes{
-      {"wrap", 0}, {"saturate", 1}, {"saturate_symmetric", 2}, {"saturate_zero", 3}};
-  return codes.at(name);
+int rtl_overflow_code(const nlohmann::json& name) {
+  return testing::rtl_code(*fp::parse_overflow_mode(name.get<std::string>()));
 }
 
 /// Testbench parameters (tb_precode_mac.v) from a set holding tx_acc and dac of one trial.
@@ -182,40 +178,11 @@ std::vector<std::pair<std::string, long long>> tb_parameters(const nlohmann::jso
           {"DAC_OVF", rtl_overflow_code(d.at("overflow"))}};
 }
 
-enum class simulator { icarus, verilator };
-
-/// Compiles and runs tb_precode_mac.v on the set; dumps land in dump_dir. A simulator warning
-/// or error fails the test.
+/// Compiles and runs the testbench with the parameters the manifest gives.
 void simulate(simulator sim, const nlohmann::json& man, bool force_truncate, const fs::path& work,
               const fs::path& vec_dir, const fs::path& dump_dir) {
-  fs::create_directories(dump_dir);
-  const fs::path build = work / (force_truncate ? "build_trunc" : "build");
-  fs::create_directories(build);
-  std::string compile;
-  std::string run;
-  if (sim == simulator::icarus) {
-    compile = "iverilog -g2005 -Wall -o " + quote(build / "tb.vvp");
-    for (const auto& [name, value] : tb_parameters(man)) compile += fmt::format(" -Ptb.{}={}", name, value);
-    run = "vvp -n " + quote(build / "tb.vvp");
-  } else {
-    compile = "verilator --binary -Wall -Wno-DECLFILENAME --top-module tb --Mdir " + quote(build / "obj") +
-              " -o Vtb -MAKEFLAGS 'OPT_FAST=-O0 OPT_SLOW=-O0 OPT_GLOBAL=-O0'";
-    for (const auto& [name, value] : tb_parameters(man)) compile += fmt::format(" -G{}={}", name, value);
-    run = quote(build / "obj" / "Vtb");
-  }
-  if (force_truncate) compile += " -DFORCE_TRUNCATE";
-  const fs::path rtl = fs::path(FXMIMO_SOURCE_DIR) / "examples" / "rtl";
-  for (const char* src : {"tb_precode_mac.v", "precode_mac.v", "fxm_requant.v"}) compile += " " + quote(rtl / src);
-  const auto built = run_command(compile, build / "compile.log");
-  ASSERT_EQ(built.exit_code, 0) << compile << "\n" << built.output;
-  if (sim == simulator::icarus) {
-    EXPECT_EQ(built.output, "") << "iverilog -Wall must be silent:\n" << compile;
-  }
-  const auto ran = run_command(run + " +vec=" + quote(vec_dir) + " +out=" + quote(dump_dir), build / "sim.log");
-  ASSERT_EQ(ran.exit_code, 0) << ran.output;
-  // $readmemh warns about short or long files; the testbench prints "tb:" on a wrong count.
-  EXPECT_EQ(ran.output.find("WARNING"), std::string::npos) << ran.output;
-  EXPECT_EQ(ran.output.find("tb:"), std::string::npos) << ran.output;
+  testing::run_testbench(sim, tb_parameters(man), force_truncate, work / (force_truncate ? "build_trunc" : "build"),
+                         vec_dir, dump_dir);
 }
 
 testing::command_result check_dumps(const fs::path& vec_dir, const std::string& node, const fs::path& dump_dir,

@@ -1,6 +1,9 @@
 #pragma once
 // Helpers shared by the vectors tests: scratch directories, running outside programs, files.
 
+#include "fxmimo/fixedpoint/modes.hpp"
+
+#include <fmt/core.h>
 #include <gtest/gtest.h>
 
 #include <sys/wait.h>
@@ -11,6 +14,8 @@
 #include <optional>
 #include <sstream>
 #include <string>
+#include <utility>
+#include <vector>
 
 namespace fxmimo::vectors::testing {
 
@@ -67,6 +72,71 @@ inline std::optional<std::string> python_with_numpy() {
     if (std::system(probe.c_str()) == 0) return std::string(candidate);
   }
   return std::nullopt;
+}
+
+/// A path quoted for the shell.
+inline std::string quote(const std::filesystem::path& p) { return "'" + p.string() + "'"; }
+
+/// RTL parameter codes (examples/rtl/fxm_requant.v, its header table), written out rather than
+/// taken from the enum's order so that a reordered enum cannot silently agree with itself.
+inline int rtl_code(fixedpoint::rounding_mode m) {
+  switch (m) {
+    case fixedpoint::rounding_mode::floor: return 0;
+    case fixedpoint::rounding_mode::ceil: return 1;
+    case fixedpoint::rounding_mode::toward_zero: return 2;
+    case fixedpoint::rounding_mode::half_up: return 3;
+    case fixedpoint::rounding_mode::half_down: return 4;
+    case fixedpoint::rounding_mode::half_toward_zero: return 5;
+    case fixedpoint::rounding_mode::half_away: return 6;
+    case fixedpoint::rounding_mode::half_even: return 7;
+  }
+  return -1;
+}
+inline int rtl_code(fixedpoint::overflow_mode m) {
+  switch (m) {
+    case fixedpoint::overflow_mode::wrap: return 0;
+    case fixedpoint::overflow_mode::saturate: return 1;
+    case fixedpoint::overflow_mode::saturate_symmetric: return 2;
+    case fixedpoint::overflow_mode::saturate_zero: return 3;
+  }
+  return -1;
+}
+
+enum class simulator { icarus, verilator };
+
+/// Compiles examples/rtl/tb_precode_mac.v with `parameters` in `build` and runs it on the vector
+/// set `vec_dir`; the dumps land in `dump_dir`. Fails the test on any simulator warning or error
+/// (Icarus prints nothing for a -Wall clean compile; $readmemh complains about short files and
+/// the testbench prints "tb:" about missing outputs).
+inline void run_testbench(simulator sim, const std::vector<std::pair<std::string, long long>>& parameters,
+                          bool force_truncate, const std::filesystem::path& build,
+                          const std::filesystem::path& vec_dir, const std::filesystem::path& dump_dir) {
+  std::filesystem::create_directories(build);
+  std::filesystem::create_directories(dump_dir);
+  std::string compile;
+  std::string run;
+  if (sim == simulator::icarus) {
+    compile = "iverilog -g2005 -Wall -o " + quote(build / "tb.vvp");
+    for (const auto& [name, value] : parameters) compile += fmt::format(" -Ptb.{}={}", name, value);
+    run = "vvp -n " + quote(build / "tb.vvp");
+  } else {
+    compile = "verilator --binary -Wall -Wno-DECLFILENAME --top-module tb --Mdir " + quote(build / "obj") +
+              " -o Vtb -MAKEFLAGS 'OPT_FAST=-O0 OPT_SLOW=-O0 OPT_GLOBAL=-O0'";
+    for (const auto& [name, value] : parameters) compile += fmt::format(" -G{}={}", name, value);
+    run = quote(build / "obj" / "Vtb");
+  }
+  if (force_truncate) compile += " -DFORCE_TRUNCATE";
+  const std::filesystem::path rtl = std::filesystem::path(FXMIMO_SOURCE_DIR) / "examples" / "rtl";
+  for (const char* src : {"tb_precode_mac.v", "precode_mac.v", "fxm_requant.v"}) compile += " " + quote(rtl / src);
+  const auto built = run_command(compile, build / "compile.log");
+  ASSERT_EQ(built.exit_code, 0) << compile << "\n" << built.output;
+  if (sim == simulator::icarus) {
+    EXPECT_EQ(built.output, "") << "iverilog -Wall must be silent:\n" << compile;
+  }
+  const auto ran = run_command(run + " +vec=" + quote(vec_dir) + " +out=" + quote(dump_dir), build / "sim.log");
+  ASSERT_EQ(ran.exit_code, 0) << ran.output;
+  EXPECT_EQ(ran.output.find("WARNING"), std::string::npos) << ran.output;
+  EXPECT_EQ(ran.output.find("tb:"), std::string::npos) << ran.output;
 }
 
 }  // namespace fxmimo::vectors::testing
