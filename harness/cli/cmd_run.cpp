@@ -93,10 +93,8 @@ int run_demo(const demo_options& opt) {
              limits.max_sinr_loss_db, limits.max_evm_pct, tune_trials, tune_trials);
   const harness::tune_results tuned =
       harness::tune_widths(in.scen, in.config, limits, harness::cost_model::bits, tune_trials, opt.num_threads, 1e-6, 0.1,
-                           [](const std::string& st) {
-                             if (isatty(2)) fmt::print(stderr, "\r{:<60}\r", st);
-                           });
-  if (isatty(2)) fmt::print(stderr, "\r{:<60}\r", "");
+                           show_status);
+  show_status("");
   fmt::print("{}", harness::format_tune_table(tuned));
   const nlohmann::json tune_json = harness::to_json(in.scen, tuned);
   write_file_atomically(dir / "tune.json", tune_json.dump(2) + "\n");

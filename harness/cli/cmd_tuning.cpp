@@ -170,10 +170,8 @@ int run_tune(const tune_options& opt) {
   if (opt.cost != "area" && opt.cost != "bits") throw usage_error(fmt::format("bad --cost '{}': expected bits or area", opt.cost));
   const harness::tune_results r = harness::tune_widths(
       in.scen, in.config, limits, model, in.trials_or_default(opt.num_trials), opt.num_threads, opt.overflow_prob,
-      opt.margin, [](const std::string& s) {
-        if (isatty(2)) fmt::print(stderr, "\r{:<60}\r", s);
-      });
-  if (isatty(2)) fmt::print(stderr, "\r{:<60}\r", "");
+      opt.margin, show_status);
+  show_status("");
   fmt::print("{}", harness::format_tune_table(r));
   write_file_atomically(opt.out_path, harness::scenario_with_nodes(
                                           in.text, r.config, r.nodes,

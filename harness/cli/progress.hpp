@@ -39,4 +39,10 @@ class progress_line {
   bool shown_ = false;
 };
 
+/// A one-line status on stderr (only when it is a terminal), overwritten by the next one;
+/// show_status("") clears it.
+inline void show_status(const std::string& text) {
+  if (isatty(2) != 0) fmt::print(stderr, "\r{:<60}\r", text);
+}
+
 }  // namespace fxmimo::cli
