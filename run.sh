@@ -53,7 +53,7 @@ case $command in
   demo)
     install_packages "${required_packages[@]}"
     configure_and_build release --target fxmimo
-    exec ./build/release/harness/fxmimo demo "$@"
+    exec ./build/release/app/fxmimo demo "$@"
     ;;
   test)
     install_packages "${required_packages[@]}" "${optional_packages[@]}"

@@ -2,14 +2,14 @@
 // bit-true datapath against the golden model of the same trial, in the same run. The ratio
 // fixed / golden is the figure to read (target <= 3, stretch 1.5).
 #include "fxmimo/golden/trial.hpp"
-#include "fxmimo/harness/datapath.hpp"
+#include "fxmimo/datapath/datapath.hpp"
 
 #include <benchmark/benchmark.h>
 
 #include <string>
 
 namespace g = fxmimo::golden;
-namespace h = fxmimo::harness;
+namespace d = fxmimo::datapath;
 namespace fp = fxmimo::fixedpoint;
 
 namespace {
@@ -44,30 +44,30 @@ snr_db = 20.0
 }
 
 /// Hardware-like widths (all at most 32 bits, so products run on native 64-bit integers).
-h::datapath_config bench_config() {
-  h::datapath_config c;
-  auto set = [&](h::node_id id, const char* q) {
-    c[id] = {{fp::parse_format(q), fp::rounding_mode::half_even, fp::overflow_mode::saturate}, false};
+d::datapath_config bench_config() {
+  d::datapath_config c;
+  auto set = [&](d::node_id id, const char* q) {
+    c[id] = {{fp::parse_format(q), fp::rounding_mode::half_even, fp::overflow_mode::saturate}, {}, false};
   };
-  set(h::node_id::adc, "Q0.13");
-  set(h::node_id::pilot_rom, "Q1.6");
-  set(h::node_id::pilot_acc, "Q4.15");
-  set(h::node_id::est_scale, "Q2.13");
-  set(h::node_id::chan_est, "Q4.13");
-  set(h::node_id::gram, "Q11.14");
-  set(h::node_id::ldl_acc, "Q11.14");
-  set(h::node_id::inv_diag_recip, "Q-6.24");
-  set(h::node_id::inv_factor, "Q0.17");
-  set(h::node_id::inv_fwd, "Q1.17");
-  set(h::node_id::inv_out, "Q-6.24");
-  set(h::node_id::precoder, "Q-4.21");
-  set(h::node_id::power_acc, "Q-3.24");
-  set(h::node_id::norm, "Q3.15");
-  set(h::node_id::tx_gain, "Q3.13");
-  set(h::node_id::weights, "Q-1.18");
-  set(h::node_id::symbols, "Q1.12");
-  set(h::node_id::tx_acc, "Q1.18");
-  set(h::node_id::dac, "Q0.15");
+  set(d::node_id::adc, "Q0.13");
+  set(d::node_id::pilot_rom, "Q1.6");
+  set(d::node_id::pilot_acc, "Q4.15");
+  set(d::node_id::est_scale, "Q2.13");
+  set(d::node_id::chan_est, "Q4.13");
+  set(d::node_id::gram, "Q11.14");
+  set(d::node_id::ldl_acc, "Q11.14");
+  set(d::node_id::inv_diag_recip, "Q-6.24");
+  set(d::node_id::inv_factor, "Q0.17");
+  set(d::node_id::inv_fwd, "Q1.17");
+  set(d::node_id::inv_out, "Q-6.24");
+  set(d::node_id::precoder, "Q-4.21");
+  set(d::node_id::power_acc, "Q-3.24");
+  set(d::node_id::norm, "Q3.15");
+  set(d::node_id::tx_gain, "Q3.13");
+  set(d::node_id::weights, "Q-1.18");
+  set(d::node_id::symbols, "Q1.12");
+  set(d::node_id::tx_acc, "Q1.18");
+  set(d::node_id::dac, "Q0.15");
   return c;
 }
 
@@ -78,15 +78,14 @@ void golden_trial(benchmark::State& state) {
 
 void fixed_datapath(benchmark::State& state) {
   const g::trial_data trial = g::run_trial(bench_scenario(), 0);
-  const h::datapath_config c = bench_config();
-  for (auto _ : state) benchmark::DoNotOptimize(h::run_fixed_datapath(bench_scenario(), c, trial));
+  const d::datapath_config c = bench_config();
+  for (auto _ : state) benchmark::DoNotOptimize(d::run_fixed_datapath(bench_scenario(), c, trial));
 }
 
 void fixed_datapath_wide_default(benchmark::State& state) {
   const g::trial_data trial = g::run_trial(bench_scenario(), 0);
-  h::datapath_config c;
-  for (h::node_setting& s : c.nodes) s = {h::default_target(), true};
-  for (auto _ : state) benchmark::DoNotOptimize(h::run_fixed_datapath(bench_scenario(), c, trial));
+  d::datapath_config c;
+  for (auto _ : state) benchmark::DoNotOptimize(d::run_fixed_datapath(bench_scenario(), c, trial));
 }
 
 BENCHMARK(golden_trial)->Unit(benchmark::kMillisecond);

@@ -1,5 +1,7 @@
 #include "fxmimo/fixedpoint/modes.hpp"
 
+#include "fxmimo/fixedpoint/accumulator.hpp"
+
 #include <utility>
 
 namespace fxmimo::fixedpoint {
@@ -21,6 +23,11 @@ constexpr std::pair<overflow_mode, std::string_view> overflow_names[] = {
     {overflow_mode::saturate, "saturate"},
     {overflow_mode::saturate_symmetric, "saturate_symmetric"},
     {overflow_mode::saturate_zero, "saturate_zero"},
+};
+constexpr std::pair<accumulation_order, std::string_view> order_names[] = {
+    {accumulation_order::sequential, "sequential"},
+    {accumulation_order::pairwise, "pairwise"},
+    {accumulation_order::lanes, "lanes"},
 };
 
 template <class Mode, std::size_t N>
@@ -55,5 +62,8 @@ std::optional<rounding_mode> parse_rounding_mode(std::string_view text) { return
 std::optional<overflow_mode> parse_overflow_mode(std::string_view text) { return mode_of(overflow_names, text); }
 std::string list_rounding_modes() { return list_of(rounding_names); }
 std::string list_overflow_modes() { return list_of(overflow_names); }
+std::string_view to_string(accumulation_order order) { return name_of(order_names, order); }
+std::optional<accumulation_order> parse_accumulation_order(std::string_view text) { return mode_of(order_names, text); }
+std::string list_accumulation_orders() { return list_of(order_names); }
 
 }  // namespace fxmimo::fixedpoint

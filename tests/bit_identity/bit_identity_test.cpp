@@ -5,9 +5,9 @@
 // deliberate semantic change, in its own commit that says why. To rewrite it:
 //   FXMIMO_WRITE_BASELINE=tests/bit_identity/baseline.json ./build/release/tests/fxmimo_bit_identity_tests
 // Digests: SHA-256 (FIPS 180-4) of a canonical byte string defined in words_digest below.
-#include "fxmimo/harness/datapath.hpp"
-#include "fxmimo/harness/nodes.hpp"
-#include "fxmimo/harness/runner.hpp"
+#include "fxmimo/datapath/datapath.hpp"
+#include "fxmimo/datapath/config.hpp"
+#include "fxmimo/analysis/runner.hpp"
 #include "fxmimo/vectors/sha256.hpp"
 
 #include <gtest/gtest.h>
@@ -17,7 +17,8 @@
 #include <fstream>
 #include <sstream>
 
-namespace h = fxmimo::harness;
+namespace h = fxmimo::analysis;
+namespace d = fxmimo::datapath;
 namespace g = fxmimo::golden;
 
 namespace {
@@ -43,7 +44,7 @@ void append_u64(std::string& bytes, std::uint64_t v) {
 /// "ROWSxCOLS:c|r:" then every word in flat (row-major) order as 8 little-endian bytes of its
 /// two's complement, the real part then (complex nodes) the imaginary part; then the counters
 /// (requantised, overflowed, inexact).
-std::string words_digest(const h::word_matrix& w, const fxmimo::fixedpoint::counters& c) {
+std::string words_digest(const d::word_matrix& w, const fxmimo::fixedpoint::counters& c) {
   std::string bytes = std::to_string(w.rows) + "x" + std::to_string(w.cols) + (w.is_complex ? ":c:" : ":r:");
   for (std::size_t i = 0; i < w.size(); ++i) {
     append_u64(bytes, static_cast<std::uint64_t>(w.re[i]));
@@ -59,14 +60,14 @@ nlohmann::json compute_scenario(const std::string& relative_path) {
   const std::string path = std::string(FXMIMO_SOURCE_DIR) + "/" + relative_path;
   const std::string text = read_text(path);
   const g::scenario scen = g::parse_scenario_text(text, relative_path);
-  const h::datapath_config config = h::parse_datapath_config(text, relative_path);
+  const d::datapath_config config = d::parse_datapath_config(text, relative_path);
   nlohmann::json out;
   for (int t = 0; t < num_baseline_trials; ++t) {
     const g::trial_data trial = g::run_trial(scen, static_cast<std::uint64_t>(t));
-    const h::fixed_trial fixed = h::run_fixed_datapath(scen, config, trial);
+    const d::fixed_trial fixed = d::run_fixed_datapath(scen, config, trial);
     nlohmann::json nodes = nlohmann::json::object();
-    for (h::node_id id : h::active_nodes(scen)) {
-      nodes[std::string(h::node_name(id))] = words_digest(fixed.words[h::index_of(id)], fixed.counters[h::index_of(id)]);
+    for (d::node_id id : d::active_nodes(scen)) {
+      nodes[std::string(d::node_name(id))] = words_digest(fixed.words[d::index_of(id)], fixed.counters[d::index_of(id)]);
     }
     out["trials"].push_back(nodes);
   }
@@ -78,7 +79,7 @@ nlohmann::json compute_scenario(const std::string& relative_path) {
                     {"tx_power_error_db", s.tx_power_error_db},
                     {"rms_tx_power_error_db", s.rms_tx_power_error_db}};
   for (const h::node_result& n : r.nodes) {
-    out["node_metrics"][std::string(h::node_name(n.id))] = {
+    out["node_metrics"][std::string(d::node_name(n.id))] = {
         {"error_energy", n.error_energy}, {"signal_energy", n.signal_energy}, {"max_err_lsb", n.max_err_lsb}};
   }
   return out;

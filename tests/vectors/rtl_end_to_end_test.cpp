@@ -7,6 +7,9 @@
 // Negative test: FORCE_TRUNCATE builds the RTL with floor rounding; `fxmimo check` must exit 1
 // and name the node and the first failing coordinates, which the model (run with floor
 // rounding) predicts exactly; the broken RTL must in turn match that floor model bit for bit.
+// The adder-tree block precode_tree.v goes through the same flow against the core's pairwise
+// accumulation; where saturation order matters, its dumps must also fail against the sequential
+// model, at the first word where the two orders differ.
 #include "fxmimo/fixedpoint/accumulator.hpp"
 #include "fxmimo/fixedpoint/conversions.hpp"
 #include "fxmimo/vectors/hex_file.hpp"
@@ -17,6 +20,7 @@
 #include <gtest/gtest.h>
 
 #include <random>
+#include <string_view>
 
 #ifndef FXMIMO_EXE
 #error "FXMIMO_EXE (path of the fxmimo program) must be defined by tests/CMakeLists.txt"
@@ -112,8 +116,9 @@ flow_data make_stimulus(const rtl_case& c) {
   return d;
 }
 
-/// The model under test: the fixedpoint core's complex accumulator and requantize.
-void run_model(const rtl_case& c, flow_data& d, rounding_mode acc_rnd, rounding_mode dac_rnd) {
+/// The model under test: the fixedpoint core's complex accumulator (in the order `how`) and
+/// requantize.
+void run_model(const rtl_case& c, flow_data& d, rounding_mode acc_rnd, rounding_mode dac_rnd, fp::accumulation how = {}) {
   const fp::target acc_spec{c.acc, acc_rnd, c.acc_ovf};
   const fp::target dac_spec{c.dac, dac_rnd, c.dac_ovf};
   d.tx_acc = empty_record("tx_acc", "out", "", acc_spec, {"antenna", "symbol"}, {c.num_ant, c.num_sym});
@@ -125,7 +130,7 @@ void run_model(const rtl_case& c, flow_data& d, rounding_mode acc_rnd, rounding_
   const int product_frac = c.weights.frac_bits + c.symbols.frac_bits;
   for (std::size_t i_ant = 0; i_ant < c.num_ant; ++i_ant) {
     for (std::size_t i_sym = 0; i_sym < c.num_sym; ++i_sym) {
-      fp::complex_accumulator<std::int64_t> acc(q_acc);
+      fp::complex_accumulator<std::int64_t> acc(q_acc, how);
       for (std::size_t i_user = 0; i_user < c.num_user; ++i_user) {
         const std::size_t iw = i_ant * c.num_user + i_user;
         const std::size_t is = i_user * c.num_sym + i_sym;
@@ -133,7 +138,7 @@ void run_model(const rtl_case& c, flow_data& d, rounding_mode acc_rnd, rounding_
         const fp::cword<std::int64_t> s{d.symbols.re[is], d.symbols.im[is]};
         acc.add(fp::cmul<std::int64_t>(w, s), product_frac, d.acc_counters);
       }
-      const fp::cword<std::int64_t> x = acc.value();
+      const fp::cword<std::int64_t> x = acc.result(d.acc_counters);
       d.tx_acc.re.push_back(x.re);
       d.tx_acc.im.push_back(x.im);
       const fp::cword<std::int64_t> y = fp::requantize(x, c.acc.frac_bits, q_dac, d.dac_counters);
@@ -152,6 +157,13 @@ std::optional<std::pair<std::size_t, std::string>> first_difference(const node_w
   return std::nullopt;
 }
 
+/// The line `fxmimo check` prints for the first failing word of `r`.
+std::string first_mismatch_text(const node_words& r, const std::pair<std::size_t, std::string>& first) {
+  const auto coords = r.coordinates(first.first);
+  return fmt::format("first mismatch: flat index {} (antenna={}, symbol={}), part {}", first.first, coords[0], coords[1],
+                     first.second);
+}
+
 std::vector<std::pair<std::string, long long>> parameters(const rtl_case& c) {
   auto ll = [](auto v) { return static_cast<long long>(v); };
   return {{"M", ll(c.num_ant)},        {"K", ll(c.num_user)},       {"N", ll(c.num_sym)},
@@ -161,10 +173,55 @@ std::vector<std::pair<std::string, long long>> parameters(const rtl_case& c) {
           {"ACC_OVF", rtl_code(c.acc_ovf)}, {"DAC_RND", rtl_code(c.dac_rnd)}, {"DAC_OVF", rtl_code(c.dac_ovf)}};
 }
 
-/// Compiles and runs the testbench with this case's parameters; dumps land in `dump_dir`.
-void simulate(simulator sim, const rtl_case& c, bool force_truncate, const fs::path& work, const fs::path& vec_dir,
-              const fs::path& dump_dir) {
-  testing::run_testbench(sim, parameters(c), force_truncate, work, vec_dir, dump_dir);
+/// An example block under examples/rtl: its testbench (top module tb, same plusargs, parameters
+/// and dump files for both) and the accumulation order the model must use for it.
+struct rtl_block {
+  const char* testbench;
+  const char* design;
+  fp::accumulation how;
+};
+const rtl_block mac_block{"tb_precode_mac.v", "precode_mac.v", {fp::accumulation_order::sequential, 1}};
+const rtl_block tree_block{"tb_precode_tree.v", "precode_tree.v", {fp::accumulation_order::pairwise, 1}};
+
+/// testing::run_testbench with the sources of `block` (that helper compiles precode_mac only).
+void run_block_testbench(simulator sim, const rtl_block& block, const std::vector<std::pair<std::string, long long>>& params,
+                         bool force_truncate, const fs::path& build, const fs::path& vec_dir, const fs::path& dump_dir) {
+  fs::create_directories(build);
+  fs::create_directories(dump_dir);
+  std::string compile;
+  std::string run;
+  if (sim == simulator::icarus) {
+    compile = "iverilog -g2005 -Wall -o " + quote(build / "tb.vvp");
+    for (const auto& [name, value] : params) compile += fmt::format(" -Ptb.{}={}", name, value);
+    run = "vvp -n " + quote(build / "tb.vvp");
+  } else {
+    compile = "verilator --binary -Wall -Wno-DECLFILENAME --top-module tb --Mdir " + quote(build / "obj") +
+              " -o Vtb -MAKEFLAGS 'OPT_FAST=-O0 OPT_SLOW=-O0 OPT_GLOBAL=-O0'";
+    for (const auto& [name, value] : params) compile += fmt::format(" -G{}={}", name, value);
+    run = quote(build / "obj" / "Vtb");
+  }
+  if (force_truncate) compile += " -DFORCE_TRUNCATE";
+  const fs::path rtl = fs::path(FXMIMO_SOURCE_DIR) / "examples" / "rtl";
+  for (const char* src : {block.testbench, block.design, "fxm_requant.v"}) compile += " " + quote(rtl / src);
+  const auto built = run_command(compile, build / "compile.log");
+  ASSERT_EQ(built.exit_code, 0) << compile << "\n" << built.output;
+  if (sim == simulator::icarus) {
+    EXPECT_EQ(built.output, "") << "iverilog -Wall must be silent:\n" << compile;
+  }
+  const auto ran = run_command(run + " +vec=" + quote(vec_dir) + " +out=" + quote(dump_dir), build / "sim.log");
+  ASSERT_EQ(ran.exit_code, 0) << ran.output;
+  EXPECT_EQ(ran.output.find("WARNING"), std::string::npos) << ran.output;
+  EXPECT_EQ(ran.output.find("tb:"), std::string::npos) << ran.output;
+}
+
+/// Compiles and runs the testbench of `block` with this case's parameters; dumps land in `dump_dir`.
+void simulate(simulator sim, const rtl_block& block, const rtl_case& c, bool force_truncate, const fs::path& work,
+              const fs::path& vec_dir, const fs::path& dump_dir) {
+  if (std::string_view(block.design) == mac_block.design) {
+    testing::run_testbench(sim, parameters(c), force_truncate, work, vec_dir, dump_dir);
+  } else {
+    run_block_testbench(sim, block, parameters(c), force_truncate, work, vec_dir, dump_dir);
+  }
 }
 
 testing::command_result fxmimo_check(const fs::path& vec_dir, const char* node, const fs::path& dump_dir, const fs::path& log) {
@@ -174,11 +231,13 @@ testing::command_result fxmimo_check(const fs::path& vec_dir, const char* node, 
   return run_command(cmd, log);
 }
 
-void run_flow(simulator sim, const rtl_case& c, bool with_negative_test) {
+/// `orders_must_differ` (pairwise blocks only): the stimulus must make the sequential words differ.
+void run_flow(simulator sim, const rtl_case& c, bool with_negative_test, const rtl_block& block = mac_block,
+              bool orders_must_differ = false) {
   const fs::path work = scratch_dir();
-  std::cout << "[ rtl      ] case " << c.name << ", seed " << c.seed << ", work dir " << work << "\n";
+  std::cout << "[ rtl      ] " << block.design << " case " << c.name << ", seed " << c.seed << ", work dir " << work << "\n";
   flow_data d = make_stimulus(c);
-  run_model(c, d, c.acc_rnd, c.dac_rnd);
+  run_model(c, d, c.acc_rnd, c.dac_rnd, block.how);
   if (c.acc_must_overflow) {
     ASSERT_GT(d.acc_counters.overflowed, 0U) << c << ": the stimulus never drove tx_acc past its range";
   }
@@ -191,25 +250,48 @@ void run_flow(simulator sim, const rtl_case& c, bool with_negative_test) {
   write_vector_set(vec, info, {d.weights, d.symbols, d.tx_acc, d.dac});
 
   // 1. The RTL as designed: bit-exact on both nodes.
-  simulate(sim, c, false, work, vec, work / "dump");
+  simulate(sim, block, c, false, work, vec, work / "dump");
   for (const char* node : {"tx_acc", "dac"}) {
     const auto r = fxmimo_check(vec, node, work / "dump", work / "check.log");
     EXPECT_EQ(r.exit_code, 0) << c << " node " << node << "\n" << r.output;
     EXPECT_NE(r.output.find("PASS"), std::string::npos) << r.output;
   }
+
+  // 1b. A pairwise block against the sequential model of the same stimulus. For K <= 3 and for
+  // wrap (modular sums) the two orders are the same function and the check passes; otherwise,
+  // where an intermediate sum saturates differently, it fails at the first differing word.
+  if (block.how.order != fp::accumulation_order::sequential) {
+    flow_data seq = d;
+    run_model(c, seq, c.acc_rnd, c.dac_rnd, {fp::accumulation_order::sequential, 1});
+    const auto first_seq = first_difference(d.tx_acc, seq.tx_acc);
+    if (c.num_user <= 3 || c.acc_ovf == overflow_mode::wrap) {
+      EXPECT_FALSE(first_seq.has_value()) << c << ": the orders differ where they cannot";
+    }
+    if (orders_must_differ) {
+      ASSERT_TRUE(first_seq.has_value()) << c << ": pairwise and sequential agree on every word";
+    }
+    const fs::path vec_seq = work / "vec_seq";
+    write_vector_set(vec_seq, info, {seq.weights, seq.symbols, seq.tx_acc, seq.dac});
+    const auto r = fxmimo_check(vec_seq, "tx_acc", work / "dump", work / "check_seq.log");
+    if (first_seq) {
+      EXPECT_EQ(r.exit_code, 1) << r.output;
+      const std::string where = first_mismatch_text(d.tx_acc, *first_seq);
+      EXPECT_NE(r.output.find(where), std::string::npos) << "expected \"" << where << "\" in:\n" << r.output;
+    } else {
+      EXPECT_EQ(r.exit_code, 0) << r.output;
+    }
+  }
   if (!with_negative_test) return;
 
   // 2. FORCE_TRUNCATE: the floor model predicts the first failing word.
   flow_data floor_model = d;
-  run_model(c, floor_model, rounding_mode::floor, rounding_mode::floor);
+  run_model(c, floor_model, rounding_mode::floor, rounding_mode::floor, block.how);
   const auto first = first_difference(d.tx_acc, floor_model.tx_acc);
   ASSERT_TRUE(first.has_value()) << c << ": floor and " << fp::to_string(c.acc_rnd) << " agree on every word; no negative test";
-  simulate(sim, c, true, work, vec, work / "dump_trunc");
+  simulate(sim, block, c, true, work, vec, work / "dump_trunc");
   const auto bad = fxmimo_check(vec, "tx_acc", work / "dump_trunc", work / "check_trunc.log");
   EXPECT_EQ(bad.exit_code, 1) << bad.output;
-  const auto coords = d.tx_acc.coordinates(first->first);
-  const std::string where = fmt::format("first mismatch: flat index {} (antenna={}, symbol={}), part {}", first->first,
-                                        coords[0], coords[1], first->second);
+  const std::string where = first_mismatch_text(d.tx_acc, *first);
   EXPECT_NE(bad.output.find("tx_acc/out: MISMATCH"), std::string::npos) << bad.output;
   EXPECT_NE(bad.output.find(where), std::string::npos) << "expected \"" << where << "\" in:\n" << bad.output;
 
@@ -254,6 +336,56 @@ TEST_P(RtlVerilator, BitExact) {
 INSTANTIATE_TEST_SUITE_P(Cases, RtlVerilator,
                          ::testing::Values(std::pair{nominal, false}, std::pair{acc_saturates, true}),
                          [](const auto& param_info) { return std::string(param_info.param.first.name); });
+
+// The adder tree, precode_tree.v: all K terms of a sum in one clock, pairwise order.
+const rtl_case tree_nominal{"tree_nominal", 4, 8, 8, {true, 16, 14}, {true, 12, 10}, {true, 20, 14}, {true, 12, 9},
+                            rounding_mode::half_even, overflow_mode::saturate, rounding_mode::half_up, overflow_mode::saturate,
+                            false, 8121};
+// tx_acc spans +-4 while one product reaches +-8: level-0 terms and adders saturate, and the
+// tree's words differ from the sequential ones. K = 7 is prime (odd list on level 0).
+const rtl_case tree_saturates{"tree_saturates", 4, 7, 8, {true, 16, 14}, {true, 12, 10}, {true, 11, 8}, {true, 10, 7},
+                              rounding_mode::half_up, overflow_mode::saturate, rounding_mode::half_even, overflow_mode::wrap,
+                              true, 8122};
+// K = 13 (odd lists on levels 0 and 1), odd widths, terms and adders wrap: order-free.
+const rtl_case tree_odd_wrap{"tree_odd_wrap", 3, 13, 7, {true, 13, 12}, {true, 7, 5}, {true, 13, 11}, {true, 14, 12},
+                             rounding_mode::half_away, overflow_mode::wrap, rounding_mode::toward_zero,
+                             overflow_mode::saturate_symmetric, true, 8123};
+// K = 1: no adder, tx_acc = Q_acc(p_0); an overflowing term becomes 0.
+const rtl_case tree_single{"tree_single", 8, 1, 8, {true, 10, 9}, {true, 10, 8}, {true, 8, 7}, {true, 8, 4},
+                           rounding_mode::half_down, overflow_mode::saturate_zero, rounding_mode::ceil, overflow_mode::saturate,
+                           true, 8124};
+const rtl_case tree_other_modes{"tree_other_modes", 2, 5, 16, {true, 10, 9}, {true, 10, 8}, {true, 9, 7}, {true, 9, 5},
+                                rounding_mode::half_toward_zero, overflow_mode::saturate_symmetric, rounding_mode::toward_zero,
+                                overflow_mode::saturate_zero, true, 8125};
+
+struct tree_case {
+  rtl_case c;
+  bool orders_must_differ;
+};
+
+std::ostream& operator<<(std::ostream& os, const tree_case& t) { return os << t.c; }
+
+class RtlTreeIcarus : public ::testing::TestWithParam<tree_case> {};
+
+TEST_P(RtlTreeIcarus, BitExactAndNegative) {
+  if (!testing::have_program("iverilog") || !testing::have_program("vvp")) {
+    GTEST_SKIP() << "Icarus Verilog (Debian package iverilog) not installed: RTL flow not run";
+  }
+  run_flow(simulator::icarus, GetParam().c, true, tree_block, GetParam().orders_must_differ);
+}
+
+INSTANTIATE_TEST_SUITE_P(Cases, RtlTreeIcarus,
+                         ::testing::Values(tree_case{tree_nominal, false}, tree_case{tree_saturates, true},
+                                           tree_case{tree_odd_wrap, false}, tree_case{tree_single, false},
+                                           tree_case{tree_other_modes, false}),
+                         [](const auto& param_info) { return std::string(param_info.param.c.name); });
+
+TEST(RtlTreeVerilator, BitExactAndNegative) {
+  if (!testing::have_program("verilator")) {
+    GTEST_SKIP() << "Verilator (Debian package verilator) not installed: RTL flow not run";
+  }
+  run_flow(simulator::verilator, tree_saturates, true, tree_block, true);
+}
 
 /// Our hex files for widths 1..64 read by a real $readmemh (IEEE 1364-2005 §17.2.9): Icarus
 /// reads them and prints each word as a signed decimal; it must print the words we wrote.

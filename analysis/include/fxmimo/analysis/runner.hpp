@@ -1,0 +1,104 @@
+#pragma once
+/// Runs trials of the golden model and the bit-true datapath side by side and reduces them into
+/// per-node and per-user results. Trials are spread over threads; every per-trial result is
+/// kept and reduced in trial order, so results are bit-identical for any thread count.
+
+#include "fxmimo/fixedpoint/counters.hpp"
+#include "fxmimo/golden/scenario.hpp"
+#include "fxmimo/datapath/datapath.hpp"
+#include "fxmimo/datapath/config.hpp"
+
+#include <cstdint>
+#include <functional>
+#include <optional>
+#include <string>
+#include <vector>
+
+namespace fxmimo::analysis {
+
+/// One node's error and overflow figures over all trials.
+struct node_result {
+  datapath::node_id id = datapath::node_id::adc;
+  fixedpoint::target spec;
+  bool is_default = true;
+  double signal_energy = 0.0;  ///< sum of |golden|^2 over every value and trial
+  double error_energy = 0.0;   ///< sum of |golden - fixed|^2
+  double max_err_lsb = 0.0;    ///< largest |golden - fixed| of a real or imaginary part, in LSBs
+  double max_abs_golden = 0.0; ///< largest |real| or |imaginary| part of the golden values
+  std::uint64_t num_values = 0;
+  fixedpoint::counters counters;
+  /// 10 log10(signal / error); +inf when the node is exact.
+  [[nodiscard]] double sqnr_db() const;
+  /// overflowed / requantised.
+  [[nodiscard]] double overflow_rate() const;
+};
+
+/// One user of cell 0: SINR as 10 log10 of the mean linear SINR over trials; EVM as the RMS
+/// over trials.
+struct user_result {
+  double sinr_golden_db = 0.0;
+  double sinr_fixed_db = 0.0;
+  double evm_golden_pct = 0.0;
+  double evm_fixed_pct = 0.0;
+  [[nodiscard]] double sinr_loss_db() const { return sinr_golden_db - sinr_fixed_db; }
+};
+
+struct run_summary {
+  double sinr_golden_db = 0.0;  ///< mean over users
+  double sinr_fixed_db = 0.0;   ///< mean over users
+  double sinr_loss_db = 0.0;    ///< mean over users of the per-user loss
+  double evm_golden_pct = 0.0;  ///< RMS over users
+  double evm_fixed_pct = 0.0;   ///< RMS over users
+  double evm_impl_pct = 0.0;    ///< RMS over trials of the gain-aligned ||dac - golden tx|| / ||golden tx||
+  double tx_power_error_db = 0.0;          ///< mean over trials of 10 log10(|dac|^2 / |golden tx|^2)
+  double max_abs_tx_power_error_db = 0.0;  ///< largest |power error| of a trial
+  double rms_tx_power_error_db = 0.0;      ///< RMS over trials of the power error
+  std::optional<double> evm_limit_pct;  ///< 3GPP base-station limit for the modulation
+};
+
+struct run_results {
+  std::string scenario_name;
+  std::string scenario_source;
+  std::vector<std::uint64_t> trial_indices;
+  std::vector<node_result> nodes;  ///< active nodes, datapath order
+  std::vector<user_result> users;
+  run_summary summary;
+  std::vector<std::string> warnings;
+};
+
+/// What one trial contributes (kept per trial, reduced in trial order).
+struct trial_summary {
+  std::uint64_t trial_index = 0;
+  std::vector<node_result> nodes;  ///< indexed by datapath::index_of
+  std::vector<double> sinr_golden, sinr_fixed;  ///< linear, per user
+  std::vector<double> evm_golden_pct, evm_fixed_pct;
+  double evm_impl = 0.0;      ///< fraction, not %
+  double tx_power_error_db = 0.0;
+  double neumann_radius = 0.0;
+};
+
+/// Golden trial, fixed datapath, evaluation through the true channel, per-node errors.
+trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datapath_config& config, std::uint64_t trial_index);
+
+/// Called after each finished trial with (done, total).
+using progress_callback = std::function<void(std::size_t, std::size_t)>;
+
+/// Calls body(i) for i = 0 .. count-1 on `num_threads` threads (0: all cores), each index once;
+/// results must go into per-index slots so the caller can reduce them in index order. The first
+/// exception stops the remaining work and is rethrown; progress(done, count) after each index.
+void for_each_index_parallel(std::size_t count, unsigned num_threads, const std::function<void(std::size_t)>& body,
+                             const progress_callback& progress = {});
+
+/// Runs the given trials on `num_threads` threads (0: all cores).
+run_results run_trials(const golden::scenario& scen, const datapath::datapath_config& config,
+                       const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
+                       const progress_callback& progress = {});
+
+/// 0, 1, ..., n-1.
+std::vector<std::uint64_t> first_trials(int n);
+
+/// 3GPP TS 38.104 Table 6.5.2.2-1 base-station EVM limit in % (QPSK 17.5, 16QAM 12.5,
+/// 64QAM 8, 256QAM 3.5); 1024QAM 2.5 (later releases; from memory, unverified).
+std::optional<double> bs_evm_limit_pct(golden::modulation mod);
+
+}  // namespace fxmimo::analysis

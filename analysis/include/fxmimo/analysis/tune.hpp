@@ -1,0 +1,87 @@
+#pragma once
+/// Automatic word-length search: the cheapest fraction bits per node that keep SINR loss,
+/// implementation EVM and overflow rate inside limits. Integer bits come from the range
+/// proposal. Method (a sequential search of the kind compared by Cantin, Savaria & Lavoie,
+/// "A comparison of automatic word length optimization procedures", ISCAS 2002): each node's
+/// minimum with all others wide, then greedy passes that add a bit where it buys the most budget
+/// per unit cost (ranked once per round, taken in rank order while each still helps) and remove
+/// bits while the limits hold; finally a re-verification on fresh trials.
+
+#include "fxmimo/analysis/range.hpp"
+#include "fxmimo/analysis/runner.hpp"
+
+#include <nlohmann/json.hpp>
+
+#include <functional>
+#include <string>
+#include <vector>
+
+namespace fxmimo::analysis {
+
+struct tune_limits {
+  double max_sinr_loss_db = 0.1;
+  double max_evm_pct = 1.0;         ///< implementation EVM at the DAC, %
+  double max_overflow_rate = 1e-6;  ///< for every node
+  double max_power_error_db = 0.1;  ///< RMS over trials of the transmit-power error of the fixed block, dB
+};
+
+/// The figures the limits apply to.
+struct tune_figures {
+  double sinr_loss_db = 0.0;
+  double evm_pct = 0.0;
+  double max_overflow_rate = 0.0;
+  double abs_power_error_db = 0.0;
+  [[nodiscard]] bool meets(const tune_limits& l) const {
+    return sinr_loss_db <= l.max_sinr_loss_db && evm_pct <= l.max_evm_pct && max_overflow_rate <= l.max_overflow_rate &&
+           abs_power_error_db <= l.max_power_error_db;
+  }
+  /// Largest of the three figures over their limits (<= 1 when every limit holds).
+  [[nodiscard]] double worst_ratio(const tune_limits& l) const;
+};
+tune_figures figures_of(const run_results& r);
+
+enum class cost_model { bits, area };
+std::string_view to_string(cost_model m);
+
+/// Cost of a configuration, summed over the stages of datapath::stages_for(scen). bits: the sum
+/// of the nodes' word bits. area (a stated proxy): storage bits (word bits times the words each
+/// node stores, stage::storage_words) plus each stage's real multipliers times the product of
+/// their operand widths (stage::multiplier_cost: four per complex multiplier; the precoding
+/// accumulator has one complex multiplier per antenna, every other stage one).
+double datapath_cost(const golden::scenario& scen, const datapath::datapath_config& config, cost_model model);
+/// Words a node stores (real and imaginary parts counted).
+double node_storage_words(const golden::scenario& scen, datapath::node_id id);
+
+/// The generic search over integer variables x_i in [lo_i, hi_i] (the fraction bits), given an
+/// evaluation and a cost. Returns the chosen x; `evaluations` counts calls of `evaluate`.
+std::vector<int> greedy_search(const std::vector<int>& lo, const std::vector<int>& hi,
+                               const std::function<tune_figures(const std::vector<int>&)>& evaluate,
+                               const std::function<double(const std::vector<int>&)>& cost, const tune_limits& limits,
+                               int& evaluations);
+
+struct tune_results {
+  std::string scenario_name;
+  tune_limits limits;
+  cost_model model = cost_model::bits;
+  datapath::datapath_config config;               ///< the tuned datapath
+  std::vector<datapath::node_id> nodes;           ///< the tuned (active) nodes
+  double cost = 0.0;
+  tune_figures search;                  ///< on the search trials
+  tune_figures verification;            ///< on fresh trials
+  std::vector<std::uint64_t> search_trials, verify_trials;
+  int evaluations = 0;
+  bool met = false;                     ///< the verification meets every limit
+  std::string note;                     ///< why it could not, when it could not
+};
+
+/// Runs range profiling (integer bits), then the search (aiming at the SINR-loss, EVM and power limits
+/// reduced by `search_margin`, a fraction), then the verification on fresh trials against the
+/// limits themselves.
+tune_results tune_widths(const golden::scenario& scen, const datapath::datapath_config& start, const tune_limits& limits,
+                         cost_model model, int num_trials, unsigned num_threads, double overflow_prob,
+                         double search_margin, const std::function<void(const std::string&)>& status = {});
+
+
+
+
+}  // namespace fxmimo::analysis

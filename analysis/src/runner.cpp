@@ -1,0 +1,207 @@
+#include "fxmimo/analysis/runner.hpp"
+
+#include "fxmimo/golden/link_metrics.hpp"
+#include "fxmimo/golden/trial.hpp"
+
+#include <fmt/core.h>
+
+#include <atomic>
+#include <cmath>
+#include <limits>
+#include <mutex>
+#include <thread>
+
+namespace fxmimo::analysis {
+
+double node_result::sqnr_db() const {
+  if (error_energy == 0.0) return std::numeric_limits<double>::infinity();
+  return 10.0 * std::log10(signal_energy / error_energy);
+}
+
+double node_result::overflow_rate() const {
+  return counters.requantized == 0 ? 0.0
+                                   : static_cast<double>(counters.overflowed) / static_cast<double>(counters.requantized);
+}
+
+std::optional<double> bs_evm_limit_pct(golden::modulation mod) {
+  switch (mod) {
+    case golden::modulation::qpsk: return 17.5;
+    case golden::modulation::qam16: return 12.5;
+    case golden::modulation::qam64: return 8.0;
+    case golden::modulation::qam256: return 3.5;
+    case golden::modulation::qam1024: return 2.5;
+  }
+  return std::nullopt;
+}
+
+std::vector<std::uint64_t> first_trials(int n) {
+  std::vector<std::uint64_t> out(static_cast<std::size_t>(std::max(n, 0)));
+  for (std::size_t i = 0; i < out.size(); ++i) out[i] = i;
+  return out;
+}
+
+trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datapath_config& config, std::uint64_t trial_index) {
+  trial_summary out;
+  out.trial_index = trial_index;
+  out.nodes.resize(datapath::node_count());
+  const datapath::datapath_plan plan = datapath::stages_for(scen);
+  const golden::trial_data trial = golden::run_trial(scen, trial_index);
+  const datapath::fixed_trial fixed = datapath::run_fixed_datapath(plan, scen, config, trial);
+  const auto golden_values = datapath::golden_node_values(plan, scen, trial);
+  for (datapath::node_id id : plan.nodes()) {
+    node_result& r = out.nodes[datapath::index_of(id)];
+    r.id = id;
+    r.spec = config[id].spec;
+    r.is_default = config[id].is_default;
+    r.counters = fixed.counters[datapath::index_of(id)];
+    const Eigen::MatrixXcd& g = golden_values[datapath::index_of(id)];
+    const datapath::word_matrix& w = fixed.words[datapath::index_of(id)];
+    if (g.rows() != w.rows || g.cols() != w.cols) {
+      throw std::logic_error(fmt::format("node {}: golden {}x{} against fixed {}x{}", datapath::node_name(id), g.rows(), g.cols(),
+                                         w.rows, w.cols));
+    }
+    const Eigen::MatrixXcd f = datapath::to_values(w, r.spec.fmt.frac_bits);
+    const Eigen::MatrixXcd e = g - f;
+    r.signal_energy = g.squaredNorm();
+    r.error_energy = e.squaredNorm();
+    r.num_values = static_cast<std::uint64_t>(g.size());
+    const double max_abs = std::max(e.real().cwiseAbs().maxCoeff(), e.imag().cwiseAbs().maxCoeff());
+    r.max_err_lsb = max_abs / r.spec.fmt.lsb();
+    r.max_abs_golden = std::max(g.real().cwiseAbs().maxCoeff(), g.imag().cwiseAbs().maxCoeff());
+  }
+  // The fixed block is evaluated at the golden block's transmitted power (a calibrated power
+  // amplifier), so the SINR loss measures distortion; the power error is reported on its own.
+  const double golden_power = trial.tx.squaredNorm(), fixed_power = fixed.dac_value.squaredNorm();
+  const double power_scale = fixed_power > 0 ? std::sqrt(golden_power / fixed_power) : 1.0;
+  out.tx_power_error_db = fixed_power > 0 ? 10 * std::log10(fixed_power / golden_power) : -300.0;
+  const golden::link_metrics fixed_metrics = golden::evaluate_downlink(scen, trial, power_scale * fixed.dac_value);
+  out.sinr_golden = trial.metrics.sinr;
+  out.sinr_fixed = fixed_metrics.sinr;
+  out.evm_golden_pct = trial.metrics.evm_pct;
+  out.evm_fixed_pct = fixed_metrics.evm_pct;
+  out.evm_impl = golden::implementation_evm(fixed.dac_value, trial.tx);
+  out.neumann_radius = trial.neumann_radius;
+  return out;
+}
+
+void for_each_index_parallel(std::size_t count, unsigned num_threads, const std::function<void(std::size_t)>& body,
+                             const progress_callback& progress) {
+  if (num_threads == 0) num_threads = std::max(1U, std::thread::hardware_concurrency());
+  num_threads = static_cast<unsigned>(std::min<std::size_t>(num_threads, std::max<std::size_t>(count, 1)));
+  std::atomic<std::size_t> next{0};
+  std::atomic<std::size_t> done{0};
+  std::mutex mutex;
+  std::exception_ptr first_error;
+  auto worker = [&] {
+    for (std::size_t i = next++; i < count; i = next++) {
+      try {
+        body(i);
+      } catch (...) {
+        const std::lock_guard lock(mutex);
+        if (!first_error) first_error = std::current_exception();
+        next = count;
+        return;
+      }
+      const std::size_t finished = ++done;
+      if (progress) {
+        const std::lock_guard lock(mutex);
+        progress(finished, count);
+      }
+    }
+  };
+  std::vector<std::thread> threads;
+  for (unsigned t = 1; t < num_threads; ++t) threads.emplace_back(worker);
+  worker();
+  for (std::thread& t : threads) t.join();
+  if (first_error) std::rethrow_exception(first_error);
+}
+
+run_results run_trials(const golden::scenario& scen, const datapath::datapath_config& config,
+                       const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
+                       const progress_callback& progress) {
+  if (trial_indices.empty()) throw std::invalid_argument("no trials to run");
+  std::vector<trial_summary> per_trial(trial_indices.size());
+  for_each_index_parallel(
+      trial_indices.size(), num_threads,
+      [&](std::size_t i) { per_trial[i] = evaluate_trial(scen, config, trial_indices[i]); }, progress);
+
+  // Reduction in trial order: the same sums in the same order for any thread count.
+  run_results out;
+  out.scenario_name = scen.name;
+  out.scenario_source = scen.source_name;
+  out.trial_indices = trial_indices;
+  const std::vector<datapath::node_id> active = datapath::active_nodes(scen);
+  const std::size_t num_users = per_trial.front().sinr_golden.size();
+  std::vector<double> sinr_g(num_users, 0.0), sinr_f(num_users, 0.0), evm_g2(num_users, 0.0), evm_f2(num_users, 0.0);
+  double impl2 = 0.0, power_error_sum = 0.0, power_error_max = 0.0, power_error2 = 0.0;
+  std::size_t outside_convergence = 0;
+  std::vector<node_result> totals(datapath::node_count());
+  for (const trial_summary& t : per_trial) {
+    for (datapath::node_id id : active) {
+      node_result& total = totals[datapath::index_of(id)];
+      const node_result& r = t.nodes[datapath::index_of(id)];
+      total.id = r.id;
+      total.spec = r.spec;
+      total.is_default = r.is_default;
+      total.signal_energy += r.signal_energy;
+      total.error_energy += r.error_energy;
+      total.num_values += r.num_values;
+      total.max_err_lsb = std::max(total.max_err_lsb, r.max_err_lsb);
+      total.max_abs_golden = std::max(total.max_abs_golden, r.max_abs_golden);
+      total.counters.merge(r.counters);
+    }
+    for (std::size_t k = 0; k < num_users; ++k) {
+      sinr_g[k] += t.sinr_golden[k];
+      sinr_f[k] += t.sinr_fixed[k];
+      evm_g2[k] += t.evm_golden_pct[k] * t.evm_golden_pct[k];
+      evm_f2[k] += t.evm_fixed_pct[k] * t.evm_fixed_pct[k];
+    }
+    impl2 += t.evm_impl * t.evm_impl;
+    power_error_sum += t.tx_power_error_db;
+    power_error2 += t.tx_power_error_db * t.tx_power_error_db;
+    power_error_max = std::max(power_error_max, std::abs(t.tx_power_error_db));
+    if (t.neumann_radius >= 1.0) ++outside_convergence;
+  }
+  for (datapath::node_id id : active) out.nodes.push_back(totals[datapath::index_of(id)]);
+  const double n = static_cast<double>(per_trial.size());
+  double loss_sum = 0, g_sum = 0, f_sum = 0, evm_g_sum2 = 0, evm_f_sum2 = 0;
+  for (std::size_t k = 0; k < num_users; ++k) {
+    user_result u;
+    u.sinr_golden_db = 10 * std::log10(sinr_g[k] / n);
+    u.sinr_fixed_db = 10 * std::log10(sinr_f[k] / n);
+    u.evm_golden_pct = std::sqrt(evm_g2[k] / n);
+    u.evm_fixed_pct = std::sqrt(evm_f2[k] / n);
+    loss_sum += u.sinr_loss_db();
+    g_sum += u.sinr_golden_db;
+    f_sum += u.sinr_fixed_db;
+    evm_g_sum2 += u.evm_golden_pct * u.evm_golden_pct;
+    evm_f_sum2 += u.evm_fixed_pct * u.evm_fixed_pct;
+    out.users.push_back(u);
+  }
+  const double nu = static_cast<double>(num_users);
+  out.summary.sinr_golden_db = g_sum / nu;
+  out.summary.sinr_fixed_db = f_sum / nu;
+  out.summary.sinr_loss_db = loss_sum / nu;
+  out.summary.evm_golden_pct = std::sqrt(evm_g_sum2 / nu);
+  out.summary.evm_fixed_pct = std::sqrt(evm_f_sum2 / nu);
+  out.summary.evm_impl_pct = 100.0 * std::sqrt(impl2 / n);
+  out.summary.evm_limit_pct = bs_evm_limit_pct(scen.data.mod);
+  out.summary.tx_power_error_db = power_error_sum / n;
+  out.summary.max_abs_tx_power_error_db = power_error_max;
+  out.summary.rms_tx_power_error_db = std::sqrt(power_error2 / n);
+  if (outside_convergence > 0) {
+    out.warnings.push_back(fmt::format(
+        "Neumann series outside its convergence region (spectral radius of I - D^-1 G >= 1) in {} of {} trials: "
+        "the inverse is not approximated there; use more antennas per user or inversion = \"ldl\"",
+        outside_convergence, per_trial.size()));
+  }
+  for (const node_result& r : out.nodes) {
+    if (r.counters.overflowed > 0) {
+      out.warnings.push_back(fmt::format("node {} overflowed {} times ({:.3g} of its values)", datapath::node_name(r.id),
+                                         r.counters.overflowed, r.overflow_rate()));
+    }
+  }
+  return out;
+}
+
+}  // namespace fxmimo::analysis

@@ -1,0 +1,28 @@
+#pragma once
+// A scenario file read once and parsed twice: the golden model's sections and the datapath's
+// [nodes] tables.
+
+#include "fxmimo/golden/scenario.hpp"
+#include "fxmimo/datapath/config.hpp"
+
+#include <string>
+
+namespace fxmimo::cli {
+
+struct scenario_input {
+  std::string text;
+  golden::scenario scen;
+  datapath::datapath_config config;
+  /// The trial count a command uses: the one given (> 0) or the scenario's own.
+  [[nodiscard]] int trials_or_default(int given) const { return given > 0 ? given : scen.num_trials; }
+};
+
+/// Reads and parses `path`; errors (scenario_error, unreadable file) name the file.
+scenario_input load_scenario_input(const std::string& path);
+/// Parses text given under a name (the embedded demo scenario).
+scenario_input parse_scenario_input(std::string text, const std::string& source_name);
+
+/// The embedded demo scenario (examples/rooftop-64.toml at build time).
+const char* demo_scenario_text();
+
+}  // namespace fxmimo::cli

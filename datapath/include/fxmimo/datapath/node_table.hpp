@@ -1,0 +1,159 @@
+#pragma once
+/// The node table: every named register of the datapath (README "How it computes"), one row
+/// each, in datapath order. A row is the only home of a node's name, its real or complex words,
+/// its named dimensions, its role and what it holds; everything that lists nodes iterates over
+/// the table or over the stages that compute them (stage.hpp). A program of its own can add
+/// rows (register_node) for stages of its own.
+
+#include <array>
+#include <cstddef>
+#include <cstdint>
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+namespace fxmimo::datapath {
+
+/// Identifies a node: the reference nodes by name; a node registered by a program of its own
+/// takes the next free value (num_reference_nodes, num_reference_nodes + 1, ...).
+enum class node_id : std::uint16_t {
+  adc,             ///< received pilot block after the AGC (M x tau_p)
+  pilot_rom,       ///< stored pilot sequences (tau_p x K)
+  pilot_acc,       ///< correlator accumulator sum_t adc[m,t] conj(pilot[t,k]) (M x K)
+  est_scale,       ///< per-user estimator scale, LS or MMSE (K)
+  chan_est,        ///< channel estimate H_hat = pilot_acc * est_scale (M x K)
+  gram,            ///< G = H_hat^H H_hat (+ regulariser), summed over antennas (K x K)
+  ldl_acc,         ///< LDL^H accumulator: d_j on the diagonal, l_ij d_j below (K x K)
+  inv_diag_recip,  ///< 1 / d_j (LDL) or 1 / G_jj (Neumann) (K)
+  inv_factor,      ///< L, strictly lower part (K x K)
+  inv_fwd,         ///< forward substitution L y = e_c, all columns: L^-1 (K x K)
+  inv_iter,        ///< Neumann iteration matrix B = I - D^-1 G (K x K)
+  inv_term,        ///< Neumann terms B^n D^-1, n = 1..T-1, side by side (K x K(T-1))
+  inv_out,         ///< G^-1 (K x K)
+  precoder,        ///< W before scaling: conj(H_hat) (MF) or conj(H_hat G^-1) (M x K)
+  power_acc,       ///< sum |W|^2, total (1) or per antenna (M)
+  norm,            ///< 1 / sqrt(power_acc) (1 or M)
+  tx_gain,         ///< constant sqrt(P_dig) (total) or sqrt(P_dig / M) (per antenna)
+  weights,         ///< W * norm * tx_gain (M x K)
+  symbols,         ///< QAM symbols (K x N)
+  tx_acc,          ///< precoding accumulator sum_k weights[m,k] symbols[k,n] (M x N)
+  dac,             ///< transmitted samples (M x N)
+};
+
+/// A named dimension of a node's words. Its size comes from the scenario through the plan
+/// (plan.hpp: dimension_sizes).
+enum class dim : std::uint8_t {
+  antenna,       ///< M
+  user,          ///< K
+  pilot_symbol,  ///< tau_p
+  symbol,        ///< N
+  term_user,     ///< K (T - 1): Neumann terms n = 1..T-1 side by side, column (n-1) K + c
+  power_group,   ///< M with per-antenna power normalisation, else 1 (named antenna or one)
+  one,           ///< 1: a column vector's second dimension, left out of vector files
+};
+
+/// What a node is in hardware.
+enum class node_role : std::uint8_t {
+  converter,    ///< an ADC/DAC or a conversion of golden values into words
+  rom,          ///< a stored constant table
+  accumulator,  ///< a sum of terms: takes an accumulation order (fixedpoint/accumulator.hpp)
+  register_,    ///< the requantised result of one operation
+};
+
+/// One row of the node table.
+struct node_row {
+  node_id id;
+  std::string_view name;
+  bool is_complex;
+  std::array<dim, 2> dims;  ///< rows, columns of the words (row-major)
+  node_role role;
+  std::string_view holds;   ///< what it holds, one line (help text, README)
+};
+
+/// The reference datapath's rows, in datapath order.
+inline constexpr std::array reference_node_table{
+    node_row{node_id::adc, "adc", true, {dim::antenna, dim::pilot_symbol}, node_role::converter,
+             "received pilot block after the AGC"},
+    node_row{node_id::pilot_rom, "pilot_rom", true, {dim::pilot_symbol, dim::user}, node_role::rom,
+             "stored pilot sequences"},
+    node_row{node_id::pilot_acc, "pilot_acc", true, {dim::antenna, dim::user}, node_role::accumulator,
+             "correlator accumulator sum_t adc[m,t] conj(pilot_rom[t,k])"},
+    node_row{node_id::est_scale, "est_scale", false, {dim::user, dim::one}, node_role::rom,
+             "per-user estimator scale (LS or MMSE)"},
+    node_row{node_id::chan_est, "chan_est", true, {dim::antenna, dim::user}, node_role::register_,
+             "channel estimate H_hat = pilot_acc est_scale"},
+    node_row{node_id::gram, "gram", true, {dim::user, dim::user}, node_role::accumulator,
+             "G = H_hat^H H_hat (+ RZF loading), summed over antennas"},
+    node_row{node_id::ldl_acc, "ldl_acc", true, {dim::user, dim::user}, node_role::accumulator,
+             "LDL^H accumulator: d_j on the diagonal, l_ij d_j below"},
+    node_row{node_id::inv_diag_recip, "inv_diag_recip", false, {dim::user, dim::one}, node_role::register_,
+             "1 / d_j (LDL^H) or 1 / G_jj (Neumann)"},
+    node_row{node_id::inv_factor, "inv_factor", true, {dim::user, dim::user}, node_role::register_,
+             "L, strictly lower part"},
+    node_row{node_id::inv_fwd, "inv_fwd", true, {dim::user, dim::user}, node_role::accumulator,
+             "forward substitution L y = e_c for every column: L^-1"},
+    node_row{node_id::inv_iter, "inv_iter", true, {dim::user, dim::user}, node_role::register_,
+             "Neumann iteration matrix B = I - D^-1 G"},
+    node_row{node_id::inv_term, "inv_term", true, {dim::user, dim::term_user}, node_role::accumulator,
+             "Neumann terms B^n D^-1, n = 1..T-1, side by side"},
+    node_row{node_id::inv_out, "inv_out", true, {dim::user, dim::user}, node_role::accumulator, "G^-1"},
+    node_row{node_id::precoder, "precoder", true, {dim::antenna, dim::user}, node_role::accumulator,
+             "W before scaling: conj(H_hat) (MF) or conj(H_hat G^-1)"},
+    node_row{node_id::power_acc, "power_acc", false, {dim::power_group, dim::one}, node_role::accumulator,
+             "sum |W|^2, total or per antenna"},
+    node_row{node_id::norm, "norm", false, {dim::power_group, dim::one}, node_role::register_,
+             "1 / sqrt(power_acc)"},
+    node_row{node_id::tx_gain, "tx_gain", false, {dim::one, dim::one}, node_role::rom,
+             "sqrt(P_dig) (total) or sqrt(P_dig / M) (per antenna)"},
+    node_row{node_id::weights, "weights", true, {dim::antenna, dim::user}, node_role::register_,
+             "W norm tx_gain"},
+    node_row{node_id::symbols, "symbols", true, {dim::user, dim::symbol}, node_role::rom, "QAM symbols"},
+    node_row{node_id::tx_acc, "tx_acc", true, {dim::antenna, dim::symbol}, node_role::accumulator,
+             "precoding accumulator sum_k weights[m,k] symbols[k,n]"},
+    node_row{node_id::dac, "dac", true, {dim::antenna, dim::symbol}, node_role::converter, "transmitted samples"},
+};
+inline constexpr std::size_t num_reference_nodes = reference_node_table.size();
+
+namespace detail {
+constexpr bool rows_in_enum_order() {
+  for (std::size_t i = 0; i < reference_node_table.size(); ++i)
+    if (static_cast<std::size_t>(reference_node_table[i].id) != i) return false;
+  return true;
+}
+}  // namespace detail
+// A row missing, repeated or out of order does not compile. The last enumerator is the last row.
+static_assert(detail::rows_in_enum_order(), "node table rows must follow node_id order");
+static_assert(static_cast<std::size_t>(node_id::dac) + 1 == num_reference_nodes,
+              "every node_id needs its row in reference_node_table");
+
+constexpr std::size_t index_of(node_id id) { return static_cast<std::size_t>(id); }
+
+/// A row of a node added by a program of its own (owns its strings).
+struct custom_node {
+  std::string name;
+  bool is_complex = true;
+  std::array<dim, 2> dims{dim::one, dim::one};
+  node_role role = node_role::register_;
+  std::string holds;
+};
+
+/// Adds a node row after the reference rows and returns its id. Call before running anything
+/// (not thread-safe against concurrent runs). Throws std::invalid_argument for a name already
+/// taken or not a lower-case identifier.
+node_id register_node(const custom_node& row);
+
+/// Rows known now: the reference rows, then registered ones.
+std::size_t node_count();
+/// Every known node in table order.
+std::vector<node_id> all_nodes();
+std::string_view node_name(node_id id);
+bool node_is_complex(node_id id);
+node_role role_of(node_id id);
+std::array<dim, 2> dims_of(node_id id);
+std::string_view node_holds(node_id id);
+std::optional<node_id> parse_node_name(std::string_view name);
+/// "adc, pilot_rom, ..." for messages and help.
+std::string list_node_names();
+
+}  // namespace fxmimo::datapath

@@ -1,0 +1,46 @@
+#pragma once
+/// The plan: the stages one scenario's datapath consists of, in order. stages_for is the only
+/// place that reads the scenario's algorithm choice (MF/ZF/RZF, LDL^H/Neumann, LS/MMSE/perfect,
+/// total/per-antenna); node lists, vector ports and dimensions, tune's cost, range's growth rules
+/// and the golden node values are all derived from the plan.
+
+#include "fxmimo/datapath/stage.hpp"
+
+#include <functional>
+#include <optional>
+#include <memory>
+#include <vector>
+
+namespace fxmimo::datapath {
+
+struct datapath_plan {
+  std::vector<std::shared_ptr<stage>> stages;
+  dimension_sizes dims;
+
+  /// Every output node of the stages, in order.
+  [[nodiscard]] std::vector<node_id> nodes() const;
+  [[nodiscard]] bool has(node_id id) const;
+  /// The stage that computes `id` (nullptr when no stage does).
+  [[nodiscard]] const stage* producer(node_id id) const;
+  /// The nodes `id` is computed from (empty for converters and ROMs fed by the golden model).
+  [[nodiscard]] std::vector<node_id> sources_of(node_id id) const;
+  /// Inserts `s` before the stage that computes `id` and points every later reader of
+  /// `replaced` at `replacement` (for a stage placed between two others; both may be the same
+  /// node id to insert without rewiring). Throws std::invalid_argument when no stage computes id.
+  void insert_before(node_id id, std::shared_ptr<stage> s, std::optional<node_id> replaced = {},
+                     std::optional<node_id> replacement = {});
+};
+
+/// A program's own change to every plan (adds or rewires stages); runs after the reference
+/// stages are laid out, in registration order.
+using plan_extension = std::function<void(datapath_plan& plan, const golden::scenario& scen)>;
+/// Registers an extension. Call before running anything (not thread-safe against runs).
+void register_plan_extension(plan_extension extension);
+
+/// The stages of the scenario's datapath, extensions applied.
+datapath_plan stages_for(const golden::scenario& scen);
+
+/// The nodes of stages_for(scen), in order.
+std::vector<node_id> active_nodes(const golden::scenario& scen);
+
+}  // namespace fxmimo::datapath

@@ -1,0 +1,113 @@
+// stages_for: the only place that reads the scenario's algorithm choice.
+#include "fxmimo/datapath/plan.hpp"
+
+#include "fxmimo/golden/precoder.hpp"
+#include "stages/stages.hpp"
+
+#include <fmt/core.h>
+
+#include <algorithm>
+#include <cmath>
+#include <stdexcept>
+
+namespace fxmimo::datapath {
+
+namespace {
+
+std::vector<plan_extension>& extensions() {
+  static std::vector<plan_extension> registered;
+  return registered;
+}
+
+}  // namespace
+
+std::vector<node_id> datapath_plan::nodes() const {
+  std::vector<node_id> out;
+  for (const auto& s : stages)
+    for (const port& p : s->ports()) out.push_back(p.node);
+  return out;
+}
+
+bool datapath_plan::has(node_id id) const { return producer(id) != nullptr; }
+
+const stage* datapath_plan::producer(node_id id) const {
+  for (const auto& s : stages)
+    if (s->outputs(id)) return s.get();
+  return nullptr;
+}
+
+std::vector<node_id> datapath_plan::sources_of(node_id id) const {
+  for (const auto& s : stages)
+    for (const port& p : s->ports())
+      if (p.node == id) return p.sources;
+  return {};
+}
+
+void datapath_plan::insert_before(node_id id, std::shared_ptr<stage> s, std::optional<node_id> replaced,
+                                  std::optional<node_id> replacement) {
+  const auto at = std::find_if(stages.begin(), stages.end(), [&](const auto& st) { return st->outputs(id); });
+  if (at == stages.end()) {
+    throw std::invalid_argument(fmt::format("insert_before: no stage of this datapath computes node {}", node_name(id)));
+  }
+  const auto pos = stages.insert(at, std::move(s));
+  if (replaced && replacement) {
+    for (auto later = pos + 1; later != stages.end(); ++later) (*later)->rewire(*replaced, *replacement);
+  }
+}
+
+void register_plan_extension(plan_extension extension) { extensions().push_back(std::move(extension)); }
+
+datapath_plan stages_for(const golden::scenario& scen) {
+  using detail::make_golden_converter;
+  datapath_plan plan;
+  const bool per_antenna = scen.precoder.normalization == golden::power_normalization::per_antenna;
+  const bool uses_inverse = scen.precoder.kind != golden::precoder_kind::mf;
+  const bool neumann = uses_inverse && scen.precoder.inversion == golden::inversion_kind::neumann;
+  plan.dims.antenna = scen.array.num_antennas;
+  plan.dims.user = scen.cells.num_users;
+  plan.dims.pilot_symbol = scen.pilots.length;
+  plan.dims.symbol = scen.data.num_symbols;
+  plan.dims.term_user = neumann ? scen.cells.num_users * (scen.precoder.neumann_terms - 1) : 0;
+  plan.dims.power_group = per_antenna ? scen.array.num_antennas : 1;
+
+  auto& s = plan.stages;
+  s.push_back(make_golden_converter(node_id::adc, [](const golden::trial_data& t) { return t.adc; }));
+  s.push_back(make_golden_converter(node_id::pilot_rom, [](const golden::trial_data& t) { return t.pilots; }));
+  s.push_back(detail::make_correlator());
+  s.push_back(make_golden_converter(
+      node_id::est_scale, [](const golden::trial_data& t) { return Eigen::MatrixXcd(t.est_scale.cast<std::complex<double>>()); }));
+  if (scen.estimator.kind == golden::estimator_kind::perfect) {
+    // Perfect channel knowledge: the estimate is the golden channel converted into words.
+    s.push_back(make_golden_converter(node_id::chan_est, [](const golden::trial_data& t) { return t.chan_est; }));
+  } else {
+    s.push_back(detail::make_estimate());
+  }
+  if (uses_inverse) {
+    const bool loaded = scen.precoder.kind == golden::precoder_kind::rzf;
+    s.push_back(detail::make_gram(loaded ? std::optional<double>(scen.rzf_regularizer()) : std::nullopt));
+    if (neumann) {
+      s.push_back(detail::make_neumann(scen.precoder.neumann_terms));
+    } else {
+      // LDL^H (the golden model's reference inversion is also realised by LDL^H here).
+      s.push_back(detail::make_ldl());
+      s.push_back(detail::make_ldl_solves());
+    }
+  }
+  s.push_back(detail::make_precoder(uses_inverse));
+  s.push_back(detail::make_power(per_antenna));
+  const double p_dig = golden::digital_power(scen);
+  const double gain = std::sqrt(per_antenna ? p_dig / scen.array.num_antennas : p_dig);
+  s.push_back(make_golden_converter(node_id::tx_gain,
+                                    [gain](const golden::trial_data&) { return Eigen::MatrixXcd::Constant(1, 1, gain); }));
+  s.push_back(detail::make_weights());
+  s.push_back(make_golden_converter(node_id::symbols, [](const golden::trial_data& t) { return t.symbols; }));
+  s.push_back(detail::make_transmit());
+  s.push_back(detail::make_requantizer(node_id::dac, node_id::tx_acc));
+
+  for (const plan_extension& e : extensions()) e(plan, scen);
+  return plan;
+}
+
+std::vector<node_id> active_nodes(const golden::scenario& scen) { return stages_for(scen).nodes(); }
+
+}  // namespace fxmimo::datapath

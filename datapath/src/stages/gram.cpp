@@ -1,0 +1,75 @@
+// The Gram matrix: gram[i,j] (j <= i) = sum over antennas m (index order, or the node's
+// accumulation order) of Q(conj(H[m,i]) H[m,j]); with RZF the diagonal gets the loading
+// OV(gram + Q(reg)); the upper triangle mirrors: G[j,i] = conj(G[i,j]).
+#include "../stage_support.hpp"
+#include "stages.hpp"
+
+namespace fxmimo::datapath::detail {
+
+namespace {
+
+class gram_stage final : public stage {
+ public:
+  explicit gram_stage(std::optional<double> loading)
+      : stage("gram", {{node_id::gram, {node_id::chan_est}}}), loading_(loading) {}
+  [[nodiscard]] int work_bits(const datapath_config& c) const override {
+    return product_bits({bits_of(c, source(0, 0)), bits_of(c, source(0, 0))}, bits_of(c, output(0)));
+  }
+  [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
+    return 4 * word_bits_of(c, source(0, 0)) * word_bits_of(c, source(0, 0));
+  }
+  /// Complex product parts + 2 (see the correlator), log2(M) for the sum over antennas.
+  [[nodiscard]] std::optional<growth_rule> growth(node_id, const datapath_config& c,
+                                                  const dimension_sizes& dims) const override {
+    return growth_rule{2 * int_bits_of(c, source(0, 0)) + 2 + ceil_log2(dims.antenna),
+                       "2 " + std::string(node_name(source(0, 0))) + " + 2 + log2(M)"};
+  }
+  void compute(fixed_context& ctx) const override {
+    const node_state est = state(ctx, source(0, 0));
+    node_state g = state(ctx, output(0));
+    with_width(work_bits(ctx.config), [&](auto tag) {
+      using P = decltype(tag);
+      const word_matrix& h = *est.words;
+      const int num_ant = h.rows, num_users = h.cols;
+      *g.words = word_matrix(num_users, num_users, true);
+      const fp::requantizer<P> q(g.spec);
+      const fp::requantizer<word> q_acc(g.spec);
+      fp::complex_accumulator<P> tree(q, g.order);
+      const std::vector<cw> hs = interleaved(h);
+      const auto stride = static_cast<std::size_t>(num_users);
+      for (int i_user = 0; i_user < num_users; ++i_user) {
+        for (int j_user = 0; j_user <= i_user; ++j_user) {
+          put(*g.words, i_user, j_user,
+              dot_in_order<fp::product_form::conj_second>(&hs[h.at(0, j_user)], stride, &hs[h.at(0, i_user)], stride,
+                                                          static_cast<std::size_t>(num_ant), est.bits(), est.bits(),
+                                                          2 * est.frac(), q_acc, tree, g));
+        }
+      }
+      if (loading_) {
+        const word reg = fp::from_double(*loading_, q_acc, *g.counters);
+        for (int i_user = 0; i_user < num_users; ++i_user) {
+          cw d = get(*g.words, i_user, i_user);
+          d.re = fp::convert_int<word>(q.overflow(P(fp::convert_int<P>(d.re) + reg), *g.counters));
+          put(*g.words, i_user, i_user, d);
+        }
+      }
+      for (int i_user = 0; i_user < num_users; ++i_user) {
+        for (int j_user = 0; j_user < i_user; ++j_user) {
+          const cw v = get(*g.words, i_user, j_user);
+          put(*g.words, j_user, i_user,
+              {v.re, fp::convert_int<word>(q.overflow(P(-fp::convert_int<P>(v.im)), *g.counters))});
+        }
+      }
+    });
+  }
+  void golden_view(golden_context& ctx) const override { ctx.set(output(0), ctx.trial.gram); }
+
+ private:
+  std::optional<double> loading_;
+};
+
+}  // namespace
+
+std::shared_ptr<stage> make_gram(std::optional<double> rzf_loading) { return std::make_shared<gram_stage>(rzf_loading); }
+
+}  // namespace fxmimo::datapath::detail

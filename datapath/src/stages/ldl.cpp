@@ -1,0 +1,105 @@
+// LDL^H of G, column by column (Golub & Van Loan, Matrix Computations, Alg. 4.1.2, complex
+// form), each sum in ldl_acc's accumulation order with G's entry as its first term:
+//   d_j  = Q(... Q(Q(G_jj) - Q(|l_j0|^2 d_0)) ... - Q(|l_j,j-1|^2 d_{j-1}))    [ldl_acc]
+//   r_j  = Q(1 / d_j)                                                       [inv_diag_recip]
+//   n_ij = Q(... Q(Q(G_ij) - Q(l_i0 conj(l_j0) d_0)) ...), i > j              [ldl_acc]
+//   l_ij = Q(n_ij r_j)                                                     [inv_factor]
+#include "../stage_support.hpp"
+#include "fxmimo/fixedpoint/divide.hpp"
+#include "fxmimo/golden/ldl.hpp"
+#include "stages.hpp"
+
+namespace fxmimo::datapath::detail {
+
+namespace {
+
+class ldl_stage final : public stage {
+ public:
+  ldl_stage()
+      : stage("ldl", {{node_id::ldl_acc, {node_id::gram, node_id::inv_factor}},
+                      {node_id::inv_diag_recip, {node_id::ldl_acc}},
+                      {node_id::inv_factor, {node_id::ldl_acc, node_id::inv_diag_recip}}}) {}
+  /// Terms |l|^2 d and l conj(l) d (three factors), n_ij r_j, and G's entry with two headroom bits.
+  [[nodiscard]] int work_bits(const datapath_config& c) const override {
+    const int factor = bits_of(c, node_id::inv_factor), acc = bits_of(c, node_id::ldl_acc);
+    return std::max({product_bits({factor, factor, acc}, acc),
+                     product_bits({acc, bits_of(c, node_id::inv_diag_recip)}, factor),
+                     bits_of(c, source(0, 0)) + 2});
+  }
+  [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
+    return 4 * word_bits_of(c, node_id::inv_factor) * word_bits_of(c, node_id::inv_factor);
+  }
+  void compute(fixed_context& ctx) const override {
+    const node_state g = state(ctx, source(0, 0));
+    node_state acc_node = state(ctx, node_id::ldl_acc), recip = state(ctx, node_id::inv_diag_recip),
+               factor = state(ctx, node_id::inv_factor);
+    with_width(work_bits(ctx.config), [&](auto tag) { run<decltype(tag)>(g, acc_node, recip, factor); });
+  }
+  void golden_view(golden_context& ctx) const override {
+    const golden::ldl_factors f = ctx.trial.ldl ? *ctx.trial.ldl : golden::ldl_decompose(ctx.trial.gram);
+    const auto num_users = static_cast<int>(f.diag.size());
+    Eigen::MatrixXcd acc = Eigen::MatrixXcd::Zero(num_users, num_users);
+    Eigen::MatrixXcd strict = Eigen::MatrixXcd::Zero(num_users, num_users);
+    for (int j = 0; j < num_users; ++j) {
+      acc(j, j) = f.diag(j);
+      for (int i = j + 1; i < num_users; ++i) {
+        acc(i, j) = f.unit_lower(i, j) * f.diag(j);
+        strict(i, j) = f.unit_lower(i, j);
+      }
+    }
+    ctx.set(node_id::ldl_acc, acc);
+    ctx.set(node_id::inv_diag_recip, f.diag.cwiseInverse().cast<std::complex<double>>());
+    ctx.set(node_id::inv_factor, strict);
+  }
+
+ private:
+  template <class P>
+  static void run(const node_state& g, node_state& acc_node, node_state& recip, node_state& factor) {
+    const word_matrix& gm = *g.words;
+    const int num_users = gm.rows;
+    *acc_node.words = word_matrix(num_users, num_users, true);
+    *recip.words = word_matrix(num_users, 1, false);
+    *factor.words = word_matrix(num_users, num_users, true);
+    word_matrix& l = *factor.words;
+    const fp::requantizer<P> q_acc(acc_node.spec);
+    const fp::requantizer<P> q_factor(factor.spec);
+    const int term_frac = 2 * factor.frac() + acc_node.frac();
+    fp::complex_accumulator<P> acc(q_acc, acc_node.order);
+    std::vector<word> d(static_cast<std::size_t>(num_users));
+    for (int j = 0; j < num_users; ++j) {
+      acc.reset();
+      acc.add(widen<P>(get(gm, j, j)), g.frac(), *acc_node.counters);
+      for (int k = 0; k < j; ++k) {
+        const cw ljk = get(l, j, k);
+        const P mag2 = P(fp::convert_int<P>(ljk.re) * ljk.re + fp::convert_int<P>(ljk.im) * ljk.im);
+        acc.add(fp::cword<P>{P(-(mag2 * fp::convert_int<P>(d[static_cast<std::size_t>(k)]))), P(0)}, term_frac,
+                *acc_node.counters);
+      }
+      d[static_cast<std::size_t>(j)] = fp::convert_int<word>(acc.result(*acc_node.counters).re);
+      put(*acc_node.words, j, j, {d[static_cast<std::size_t>(j)], 0});
+      const word r =
+          fp::divide<word>(1, 0, d[static_cast<std::size_t>(j)], acc_node.frac(), recip.spec, *recip.counters);
+      recip.words->re[static_cast<std::size_t>(j)] = r;
+      for (int i = j + 1; i < num_users; ++i) {
+        acc.reset();
+        acc.add(widen<P>(get(gm, i, j)), g.frac(), *acc_node.counters);
+        for (int k = 0; k < j; ++k) {
+          const fp::cword<P> lik_conj_ljk = fp::cmul_conj<P>(widen<P>(get(l, i, k)), widen<P>(get(l, j, k)));
+          const P dk = fp::convert_int<P>(d[static_cast<std::size_t>(k)]);
+          acc.add(fp::cword<P>{P(-(lik_conj_ljk.re * dk)), P(-(lik_conj_ljk.im * dk))}, term_frac,
+                  *acc_node.counters);
+        }
+        const cw n_ij = narrow(acc.result(*acc_node.counters));
+        put(*acc_node.words, i, j, n_ij);
+        put(l, i, j,
+            narrow(fp::requantize(scale<P>(n_ij, r), acc_node.frac() + recip.frac(), q_factor, *factor.counters)));
+      }
+    }
+  }
+};
+
+}  // namespace
+
+std::shared_ptr<stage> make_ldl() { return std::make_shared<ldl_stage>(); }
+
+}  // namespace fxmimo::datapath::detail

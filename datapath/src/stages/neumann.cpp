@@ -1,0 +1,139 @@
+// Neumann series of T terms with D = diag(G), each sum in its node's accumulation order:
+//   r_i = Q(1 / G_ii)                      [inv_diag_recip]
+//   B_ij = Q(delta_ij - r_i G_ij)          [inv_iter]
+//   T_1 = B diag(r), T_n = B T_{n-1}: T_n[i,c] = sum over j (index order) of Q(B_ij T_{n-1}[j,c])  [inv_term]
+//   X[i,c] = Q(... Q(Q(diag(r)[i,c]) + Q(T_1[i,c])) ... + Q(T_{T-1}[i,c]))   [inv_out]
+#include "../stage_support.hpp"
+#include "fxmimo/fixedpoint/divide.hpp"
+#include "stages.hpp"
+
+namespace fxmimo::datapath::detail {
+
+namespace {
+
+std::vector<port> neumann_ports(int num_terms) {
+  std::vector<port> p{{node_id::inv_diag_recip, {node_id::gram}}, {node_id::inv_iter, {node_id::gram, node_id::inv_diag_recip}}};
+  if (num_terms > 1) p.push_back({node_id::inv_term, {node_id::inv_iter, node_id::inv_diag_recip}});
+  p.push_back({node_id::inv_out, num_terms > 1 ? std::vector<node_id>{node_id::inv_diag_recip, node_id::inv_term}
+                                               : std::vector<node_id>{node_id::inv_diag_recip}});
+  return p;
+}
+
+class neumann_stage final : public stage {
+ public:
+  explicit neumann_stage(int num_terms) : stage("neumann", neumann_ports(num_terms)), num_terms_(num_terms) {}
+  /// r G products, B T products, the sum of T terms with two headroom bits, and the exact 1 of
+  /// I at r G's fraction bits.
+  [[nodiscard]] int work_bits(const datapath_config& c) const override {
+    const int recip = bits_of(c, node_id::inv_diag_recip), g = bits_of(c, node_id::gram),
+              iter = bits_of(c, node_id::inv_iter), term = bits_of(c, node_id::inv_term),
+              out = bits_of(c, node_id::inv_out);
+    return std::max({product_bits({recip, g}, iter), product_bits({iter, std::max(term, recip)}, term),
+                     std::max({out, term, recip}) + 2,
+                     c[node_id::inv_diag_recip].spec.fmt.frac_bits + c[node_id::gram].spec.fmt.frac_bits + 2});
+  }
+  [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
+    return 4 * word_bits_of(c, node_id::inv_iter) * word_bits_of(c, node_id::inv_term);
+  }
+  /// Only the current term is stored (K x K), whatever T.
+  [[nodiscard]] double storage_words(node_id id, const dimension_sizes& dims) const override {
+    if (id == node_id::inv_term) return 2.0 * dims.user * dims.user;
+    return stage::storage_words(id, dims);
+  }
+  void compute(fixed_context& ctx) const override {
+    const node_state g = state(ctx, node_id::gram);
+    node_state recip = state(ctx, node_id::inv_diag_recip), iter = state(ctx, node_id::inv_iter),
+               term = state(ctx, node_id::inv_term), out = state(ctx, node_id::inv_out);
+    with_width(work_bits(ctx.config), [&](auto tag) { run<decltype(tag)>(g, recip, iter, term, out); });
+  }
+  void golden_view(golden_context& ctx) const override {
+    const Eigen::MatrixXcd& gram = ctx.trial.gram;
+    const auto num_users = static_cast<int>(gram.rows());
+    const Eigen::MatrixXcd identity = Eigen::MatrixXcd::Identity(num_users, num_users);
+    const Eigen::VectorXd recip = gram.diagonal().real().cwiseInverse();
+    ctx.set(node_id::inv_diag_recip, recip.cast<std::complex<double>>());
+    const Eigen::MatrixXcd b = identity - recip.cast<std::complex<double>>().asDiagonal() * gram;
+    ctx.set(node_id::inv_iter, b);
+    const int num_extra = num_terms_ - 1;
+    if (num_extra > 0) {
+      Eigen::MatrixXcd terms(num_users, num_users * num_extra);
+      Eigen::MatrixXcd t = recip.cast<std::complex<double>>().asDiagonal();
+      for (int n = 1; n <= num_extra; ++n) {
+        t = b * t;
+        terms.middleCols((n - 1) * num_users, num_users) = t;
+      }
+      ctx.set(node_id::inv_term, terms);
+    }
+    ctx.set(node_id::inv_out, ctx.trial.inverse);
+  }
+
+ private:
+  template <class P>
+  void run(const node_state& g, node_state& recip, node_state& iter, node_state& term_node, node_state& out) const {
+    const word_matrix& gm = *g.words;
+    const int num_users = gm.rows;
+    *recip.words = word_matrix(num_users, 1, false);
+    *iter.words = word_matrix(num_users, num_users, true);
+    *out.words = word_matrix(num_users, num_users, true);
+    for (int i = 0; i < num_users; ++i) {
+      recip.words->re[static_cast<std::size_t>(i)] =
+          fp::divide<word>(1, 0, get(gm, i, i).re, g.frac(), recip.spec, *recip.counters);
+    }
+    const fp::requantizer<P> q_iter(iter.spec);
+    const int rg_frac = recip.frac() + g.frac();
+    for (int i = 0; i < num_users; ++i) {
+      const word ri = recip.words->re[static_cast<std::size_t>(i)];
+      for (int j = 0; j < num_users; ++j) {
+        fp::cword<P> v = negate(scale<P>(get(gm, i, j), ri));
+        if (i == j) v.re = P(v.re + fp::pow2<P>(rg_frac));
+        put(*iter.words, i, j, narrow(fp::requantize(v, rg_frac, q_iter, *iter.counters)));
+      }
+    }
+    // Terms: term 0 is diag(r) at the reciprocal's fraction bits.
+    const int num_extra = num_terms_ - 1;
+    if (num_extra > 0) *term_node.words = word_matrix(num_users, num_users * num_extra, true);
+    const fp::requantizer<P> q_term(term_node.spec);
+    fp::complex_accumulator<P> acc_term(q_term, term_node.order);
+    for (int n = 1; n <= num_extra; ++n) {
+      for (int i = 0; i < num_users; ++i) {
+        for (int c = 0; c < num_users; ++c) {
+          acc_term.reset();
+          for (int j = 0; j < num_users; ++j) {
+            if (n == 1) {
+              if (j != c) continue;  // diag(r): only j = c is non-zero
+              acc_term.add(scale<P>(get(*iter.words, i, j), recip.words->re[static_cast<std::size_t>(c)]),
+                           iter.frac() + recip.frac(), *term_node.counters);
+            } else {
+              acc_term.add(fp::cmul<P>(widen<P>(get(*iter.words, i, j)),
+                                       widen<P>(get(*term_node.words, j, (n - 2) * num_users + c))),
+                           iter.frac() + term_node.frac(), *term_node.counters);
+            }
+          }
+          put(*term_node.words, i, (n - 1) * num_users + c, narrow(acc_term.result(*term_node.counters)));
+        }
+      }
+    }
+    const fp::requantizer<P> q_out(out.spec);
+    fp::complex_accumulator<P> acc_out(q_out, out.order);
+    for (int i = 0; i < num_users; ++i) {
+      for (int c = 0; c < num_users; ++c) {
+        acc_out.reset();
+        if (i == c)
+          acc_out.add({fp::convert_int<P>(recip.words->re[static_cast<std::size_t>(i)]), P(0)}, recip.frac(),
+                      *out.counters);
+        for (int n = 1; n <= num_extra; ++n) {
+          acc_out.add(widen<P>(get(*term_node.words, i, (n - 1) * num_users + c)), term_node.frac(), *out.counters);
+        }
+        put(*out.words, i, c, narrow(acc_out.result(*out.counters)));
+      }
+    }
+  }
+
+  int num_terms_;
+};
+
+}  // namespace
+
+std::shared_ptr<stage> make_neumann(int num_terms) { return std::make_shared<neumann_stage>(num_terms); }
+
+}  // namespace fxmimo::datapath::detail

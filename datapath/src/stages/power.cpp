@@ -1,0 +1,74 @@
+// Power normalisation: power_acc = sum (rows m, then users k, index order, or the node's
+// accumulation order) of Q(|W[m,k]|^2), one sum (total) or one per antenna; norm = Q(1 / sqrt(power_acc)).
+#include "../stage_support.hpp"
+#include "fxmimo/fixedpoint/divide.hpp"
+#include "stages.hpp"
+
+namespace fxmimo::datapath::detail {
+
+namespace {
+
+class power_stage final : public stage {
+ public:
+  explicit power_stage(bool per_antenna)
+      : stage("power", {{node_id::power_acc, {node_id::precoder}}, {node_id::norm, {node_id::power_acc}}}),
+        per_antenna_(per_antenna) {}
+  [[nodiscard]] int work_bits(const datapath_config& c) const override {
+    const int pre = bits_of(c, source(0, 0));
+    return product_bits({pre, pre}, bits_of(c, node_id::power_acc)) + 1;
+  }
+  [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
+    return 2 * word_bits_of(c, source(0, 0)) * word_bits_of(c, source(0, 0));
+  }
+  /// |W|^2 = re^2 + im^2 < 2^(2m + 1), + 1 for the most negative words; log2(M K) for the sum.
+  [[nodiscard]] std::optional<growth_rule> growth(node_id id, const datapath_config& c,
+                                                  const dimension_sizes& dims) const override {
+    if (id != node_id::power_acc) return std::nullopt;
+    return growth_rule{2 * int_bits_of(c, source(0, 0)) + 2 + ceil_log2(static_cast<long long>(dims.antenna) * dims.user),
+                       "2 " + std::string(node_name(source(0, 0))) + " + 2 + log2(M K)"};
+  }
+  void compute(fixed_context& ctx) const override {
+    const node_state pre = state(ctx, source(0, 0));
+    node_state power = state(ctx, node_id::power_acc), norm = state(ctx, node_id::norm);
+    with_width(work_bits(ctx.config), [&](auto tag) {
+      using P = decltype(tag);
+      const word_matrix& w = *pre.words;
+      const int num_sums = per_antenna_ ? w.rows : 1;
+      *power.words = word_matrix(num_sums, 1, false);
+      *norm.words = word_matrix(num_sums, 1, false);
+      const fp::requantizer<P> q(power.spec);
+      fp::accumulator<P> acc(q, power.order);
+      for (int i_ant = 0; i_ant < w.rows; ++i_ant) {
+        if (per_antenna_ || i_ant == 0) acc.reset();
+        for (int i_user = 0; i_user < w.cols; ++i_user) {
+          const cw v = get(w, i_ant, i_user);
+          acc.add(P(fp::convert_int<P>(v.re) * v.re + fp::convert_int<P>(v.im) * v.im), 2 * pre.frac(),
+                  *power.counters);
+        }
+        if (per_antenna_)
+          power.words->re[static_cast<std::size_t>(i_ant)] = fp::convert_int<word>(acc.result(*power.counters));
+      }
+      if (!per_antenna_) power.words->re[0] = fp::convert_int<word>(acc.result(*power.counters));
+      for (int i = 0; i < num_sums; ++i) {
+        norm.words->re[static_cast<std::size_t>(i)] =
+            fp::rsqrt<word>(power.words->re[static_cast<std::size_t>(i)], power.frac(), norm.spec, *norm.counters);
+      }
+    });
+  }
+  void golden_view(golden_context& ctx) const override {
+    const Eigen::MatrixXcd& w = ctx.trial.precoder;
+    const Eigen::VectorXd power = per_antenna_ ? Eigen::VectorXd(w.rowwise().squaredNorm())
+                                               : Eigen::VectorXd::Constant(1, w.squaredNorm());
+    ctx.set(node_id::power_acc, power.cast<std::complex<double>>());
+    ctx.set(node_id::norm, power.cwiseSqrt().cwiseInverse().cast<std::complex<double>>());
+  }
+
+ private:
+  bool per_antenna_;
+};
+
+}  // namespace
+
+std::shared_ptr<stage> make_power(bool per_antenna) { return std::make_shared<power_stage>(per_antenna); }
+
+}  // namespace fxmimo::datapath::detail

@@ -1,0 +1,67 @@
+// The precoder before scaling: MF W[m,k] = Q(conj(H[m,k])); ZF/RZF W[m,k] = sum over j (index
+// order, or the node's accumulation order) of Q(conj(H[m,j] A[j,k])), which is conj(H A).
+#include "../stage_support.hpp"
+#include "stages.hpp"
+
+namespace fxmimo::datapath::detail {
+
+namespace {
+
+class precoder_stage final : public stage {
+ public:
+  explicit precoder_stage(bool uses_inverse)
+      : stage("precoder", {{node_id::precoder, uses_inverse ? std::vector<node_id>{node_id::chan_est, node_id::inv_out}
+                                                              : std::vector<node_id>{node_id::chan_est}}}),
+        uses_inverse_(uses_inverse) {}
+  [[nodiscard]] int work_bits(const datapath_config& c) const override {
+    const int est = bits_of(c, source(0, 0)), pre = bits_of(c, output(0));
+    return uses_inverse_ ? product_bits({est, bits_of(c, source(0, 1))}, pre) : std::max(est, pre) + 2;
+  }
+  [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
+    return uses_inverse_ ? 4 * word_bits_of(c, source(0, 0)) * word_bits_of(c, source(0, 1)) : 0.0;
+  }
+  void compute(fixed_context& ctx) const override {
+    const node_state est = state(ctx, source(0, 0));
+    node_state pre = state(ctx, output(0));
+    with_width(work_bits(ctx.config), [&](auto tag) {
+      using P = decltype(tag);
+      const word_matrix& h = *est.words;
+      *pre.words = word_matrix(h.rows, h.cols, true);
+      const fp::requantizer<P> q(pre.spec);
+      if (!uses_inverse_) {
+        for (int i_ant = 0; i_ant < h.rows; ++i_ant) {
+          for (int i_user = 0; i_user < h.cols; ++i_user) {
+            const cw v = get(h, i_ant, i_user);
+            const fp::cword<P> conj_v{fp::convert_int<P>(v.re), P(-fp::convert_int<P>(v.im))};
+            put(*pre.words, i_ant, i_user, narrow(fp::requantize(conj_v, est.frac(), q, *pre.counters)));
+          }
+        }
+        return;
+      }
+      const node_state inverse = state(ctx, source(0, 1));
+      const word_matrix& a = *inverse.words;
+      const fp::requantizer<word> q_acc(pre.spec);
+      fp::complex_accumulator<P> tree(q, pre.order);
+      const std::vector<cw> hs = interleaved(h), as = interleaved(a);
+      for (int i_ant = 0; i_ant < h.rows; ++i_ant) {
+        for (int i_user = 0; i_user < h.cols; ++i_user) {
+          put(*pre.words, i_ant, i_user,
+              dot_in_order<fp::product_form::conj_both>(&hs[h.at(i_ant, 0)], 1, &as[a.at(0, i_user)],
+                                                        static_cast<std::size_t>(a.cols),
+                                                        static_cast<std::size_t>(h.cols), est.bits(), inverse.bits(),
+                                                        est.frac() + inverse.frac(), q_acc, tree, pre));
+        }
+      }
+    });
+  }
+  void golden_view(golden_context& ctx) const override { ctx.set(output(0), ctx.trial.precoder); }
+
+ private:
+  bool uses_inverse_;
+};
+
+}  // namespace
+
+std::shared_ptr<stage> make_precoder(bool uses_inverse) { return std::make_shared<precoder_stage>(uses_inverse); }
+
+}  // namespace fxmimo::datapath::detail

@@ -1,0 +1,33 @@
+#pragma once
+// The reference stages, one file each under stages/; stages_for (plan.cpp) lays them out.
+// Private to the datapath room: a program of its own derives from datapath::stage instead.
+
+#include "fxmimo/datapath/stage.hpp"
+
+#include <functional>
+#include <memory>
+
+namespace fxmimo::datapath::detail {
+
+/// Words of a node converted from golden values of the trial (converters.cpp): the ADC, the
+/// ROMs, the QAM symbols, the perfect-CSI estimate, the transmit gain.
+using golden_source = std::function<Eigen::MatrixXcd(const golden::trial_data&)>;
+std::shared_ptr<stage> make_golden_converter(node_id node, golden_source source);
+/// out = Q(in), word by word at in's fraction bits (converters.cpp: the DAC).
+std::shared_ptr<stage> make_requantizer(node_id out, node_id in);
+
+std::shared_ptr<stage> make_correlator();                    // correlator.cpp: pilot_acc
+std::shared_ptr<stage> make_estimate();                      // estimate.cpp: chan_est (LS, MMSE)
+std::shared_ptr<stage> make_gram(std::optional<double> rzf_loading);  // gram.cpp
+std::shared_ptr<stage> make_ldl();                           // ldl.cpp: ldl_acc, inv_diag_recip, inv_factor
+std::shared_ptr<stage> make_ldl_solves();                    // solves.cpp: inv_fwd, inv_out
+std::shared_ptr<stage> make_neumann(int num_terms);          // neumann.cpp
+std::shared_ptr<stage> make_precoder(bool uses_inverse);     // precoder.cpp
+std::shared_ptr<stage> make_power(bool per_antenna);         // power.cpp: power_acc, norm
+std::shared_ptr<stage> make_weights();                       // weights.cpp
+std::shared_ptr<stage> make_transmit();                      // transmit.cpp: tx_acc
+
+/// ceil(log2(n)) for n >= 1: the integer bits a sum of n terms can add (common practice).
+int ceil_log2(long long n);
+
+}  // namespace fxmimo::datapath::detail

@@ -1,0 +1,103 @@
+#include "fxmimo/report/report.hpp"
+
+#include <fmt/core.h>
+
+#include <cmath>
+
+namespace fxmimo::report {
+
+namespace fp = fxmimo::fixedpoint;
+
+namespace {
+
+std::string sqnr_text(double db) { return std::isinf(db) ? "exact" : fmt::format("{:.1f}", db); }
+
+}  // namespace
+
+std::string format_run_table(const analysis::run_results& r) {
+  std::string out;
+  out += fmt::format("scenario {} ({}), {} trial{}\n\n", r.scenario_name, r.scenario_source, r.trial_indices.size(),
+                     r.trial_indices.size() == 1 ? "" : "s");
+  out += fmt::format("{:<15} {:<10} {:>5} {:<17} {:<18} {:>11} {:>9} {:>12} {:>10}\n", "node", "format", "bits",
+                     "rounding", "overflow", "max|golden|", "SQNR dB", "max|err| LSB", "overflows");
+  bool any_default = false;
+  for (const analysis::node_result& n : r.nodes) {
+    const std::string fmt_text = fp::to_q_string(n.spec.fmt) + (n.is_default ? "*" : "");
+    any_default = any_default || n.is_default;
+    out += fmt::format("{:<15} {:<10} {:>5} {:<17} {:<18} {:>11.4g} {:>9} {:>12.3g} {:>10}\n", datapath::node_name(n.id), fmt_text,
+                       n.spec.fmt.word_bits, fp::to_string(n.spec.rounding), fp::to_string(n.spec.overflow),
+                       n.max_abs_golden, sqnr_text(n.sqnr_db()), n.max_err_lsb, n.counters.overflowed);
+  }
+  if (any_default) out += "* no [nodes.NAME] table in the scenario: the wide default Q20.43, half_even, saturate\n";
+  out += "(signed Qm.n = 1 + m + n bits; UQm.n = m + n bits)\n\n";
+  out += fmt::format("{:<6} {:>12} {:>12} {:>9} {:>10} {:>10}\n", "user", "SINR gold dB", "SINR fixed dB", "loss dB",
+                     "EVM gold %", "EVM fixed %");
+  for (std::size_t k = 0; k < r.users.size(); ++k) {
+    const analysis::user_result& u = r.users[k];
+    out += fmt::format("{:<6} {:>12.2f} {:>13.2f} {:>9.3f} {:>10.3f} {:>11.3f}\n", k, u.sinr_golden_db, u.sinr_fixed_db,
+                       u.sinr_loss_db(), u.evm_golden_pct, u.evm_fixed_pct);
+  }
+  const analysis::run_summary& s = r.summary;
+  out += fmt::format("{:<6} {:>12.2f} {:>13.2f} {:>9.3f} {:>10.3f} {:>11.3f}\n\n", "mean", s.sinr_golden_db,
+                     s.sinr_fixed_db, s.sinr_loss_db, s.evm_golden_pct, s.evm_fixed_pct);
+  out += fmt::format("transmit power of the fixed block against the golden: {:+.4f} dB mean, {:.4f} dB worst trial\n",
+                     s.tx_power_error_db, s.max_abs_tx_power_error_db);
+  out += fmt::format("implementation EVM at the DAC: {:.4f} %", s.evm_impl_pct);
+  if (s.evm_limit_pct) {
+    out += fmt::format("   (3GPP TS 38.104 base-station limit for this modulation: {} %)", *s.evm_limit_pct);
+  }
+  out += "\n";
+  for (const std::string& w : r.warnings) out += "warning: " + w + "\n";
+  return out;
+}
+
+nlohmann::json to_json(const analysis::run_results& r) {
+  nlohmann::json out;
+  out["kind"] = "run";
+  out["scenario"] = {{"name", r.scenario_name}, {"source", r.scenario_source}};
+  out["trials"] = r.trial_indices.size();
+  out["trial_indices"] = r.trial_indices;
+  out["nodes"] = nlohmann::json::object();
+  for (const analysis::node_result& n : r.nodes) {
+    const double sqnr = n.sqnr_db();
+    out["nodes"][std::string(datapath::node_name(n.id))] = {
+        {"format", fp::to_q_string(n.spec.fmt)},
+        {"word_bits", n.spec.fmt.word_bits},
+        {"frac_bits", n.spec.fmt.frac_bits},
+        {"signed", n.spec.fmt.is_signed},
+        {"rounding", std::string(fp::to_string(n.spec.rounding))},
+        {"overflow", std::string(fp::to_string(n.spec.overflow))},
+        {"default", n.is_default},
+        {"sqnr_db", std::isinf(sqnr) ? nlohmann::json(nullptr) : nlohmann::json(sqnr)},
+        {"exact", std::isinf(sqnr)},
+        {"max_err_lsb", n.max_err_lsb},
+        {"max_abs_golden", n.max_abs_golden},
+        {"values", n.num_values},
+        {"requantized", n.counters.requantized},
+        {"inexact", n.counters.inexact},
+        {"overflows", n.counters.overflowed},
+        {"overflow_rate", n.overflow_rate()},
+        {"max_overflow_excess_lsb", n.counters.max_excess_lsb},
+    };
+  }
+  out["users"] = nlohmann::json::array();
+  for (const analysis::user_result& u : r.users) {
+    out["users"].push_back({{"sinr_golden_db", u.sinr_golden_db},
+                            {"sinr_fixed_db", u.sinr_fixed_db},
+                            {"sinr_loss_db", u.sinr_loss_db()},
+                            {"evm_golden_pct", u.evm_golden_pct},
+                            {"evm_fixed_pct", u.evm_fixed_pct}});
+  }
+  const analysis::run_summary& s = r.summary;
+  out["summary"] = {{"sinr_golden_db", s.sinr_golden_db}, {"sinr_fixed_db", s.sinr_fixed_db},
+                    {"sinr_loss_db", s.sinr_loss_db},     {"evm_golden_pct", s.evm_golden_pct},
+                    {"evm_fixed_pct", s.evm_fixed_pct},   {"evm_impl_pct", s.evm_impl_pct},
+                    {"tx_power_error_db", s.tx_power_error_db},
+                    {"max_abs_tx_power_error_db", s.max_abs_tx_power_error_db},
+                    {"rms_tx_power_error_db", s.rms_tx_power_error_db},
+                    {"evm_limit_pct", s.evm_limit_pct ? nlohmann::json(*s.evm_limit_pct) : nlohmann::json(nullptr)}};
+  out["warnings"] = r.warnings;
+  return out;
+}
+
+}  // namespace fxmimo::report

@@ -1,0 +1,86 @@
+// The tune results as a text table and as JSON.
+#include "fxmimo/report/report.hpp"
+
+#include <fmt/core.h>
+
+#include <algorithm>
+#include <cmath>
+#include <sstream>
+
+namespace fxmimo::report {
+
+namespace fp = fxmimo::fixedpoint;
+
+std::string format_tune_table(const analysis::tune_results& r) {
+  std::string out = fmt::format("scenario {}: cost model {}, {} evaluations of {} trials\n\n", r.scenario_name,
+                                to_string(r.model), r.evaluations, r.search_trials.size());
+  out += fmt::format("{:<15} {:<10} {:>5} {:>9} {:>9}\n", "node", "format", "bits", "int bits", "frac bits");
+  for (datapath::node_id id : r.nodes) {
+    const fp::format& f = r.config[id].spec.fmt;
+    out += fmt::format("{:<15} {:<10} {:>5} {:>9} {:>9}\n", datapath::node_name(id), fp::to_q_string(f), f.word_bits,
+                       f.int_bits(), f.frac_bits);
+  }
+  out += fmt::format("\ncost: {:.0f} ({})\n", r.cost, r.model == analysis::cost_model::bits ? "total word bits" : "area proxy");
+  out += fmt::format("{:<22} {:>12} {:>12} {:>12} {:>12}\n", "", "limit", "search", "fresh trials", "margin");
+  out += fmt::format("{:<22} {:>12.4f} {:>12.4f} {:>12.4f} {:>12.4f}\n", "SINR loss dB", r.limits.max_sinr_loss_db,
+                     r.search.sinr_loss_db, r.verification.sinr_loss_db,
+                     r.limits.max_sinr_loss_db - r.verification.sinr_loss_db);
+  out += fmt::format("{:<22} {:>12.4f} {:>12.4f} {:>12.4f} {:>12.4f}\n", "implementation EVM %", r.limits.max_evm_pct,
+                     r.search.evm_pct, r.verification.evm_pct, r.limits.max_evm_pct - r.verification.evm_pct);
+  out += fmt::format("{:<22} {:>12.4f} {:>12.4f} {:>12.4f} {:>12.4f}\n", "RMS tx power error dB", r.limits.max_power_error_db,
+                     r.search.abs_power_error_db, r.verification.abs_power_error_db,
+                     r.limits.max_power_error_db - r.verification.abs_power_error_db);
+  out += fmt::format("{:<22} {:>12.3g} {:>12.3g} {:>12.3g} {:>12.3g}\n", "max overflow rate", r.limits.max_overflow_rate,
+                     r.search.max_overflow_rate, r.verification.max_overflow_rate,
+                     r.limits.max_overflow_rate - r.verification.max_overflow_rate);
+  out += r.met ? "verification on fresh trials: PASS (every limit met)\n"
+               : "verification on fresh trials: FAIL - " + r.note + "\n";
+  return out;
+}
+
+nlohmann::json to_json(const golden::scenario& scen, const analysis::tune_results& r) {
+  nlohmann::json out;
+  out["kind"] = "tune";
+  out["scenario"] = {{"name", r.scenario_name}};
+  out["cost_model"] = std::string(to_string(r.model));
+  out["cost"] = r.cost;
+  out["limits"] = {{"max_sinr_loss_db", r.limits.max_sinr_loss_db},
+                   {"max_evm_pct", r.limits.max_evm_pct},
+                   {"max_tx_power_error_db", r.limits.max_power_error_db},
+                   {"max_overflow_rate", r.limits.max_overflow_rate}};
+  out["nodes"] = nlohmann::json::object();
+  for (datapath::node_id id : r.nodes) {
+    const fp::format& f = r.config[id].spec.fmt;
+    out["nodes"][std::string(datapath::node_name(id))] = {
+        {"format", fp::to_q_string(f)},
+        {"word_bits", f.word_bits},
+        {"frac_bits", f.frac_bits},
+        {"int_bits", f.int_bits()},
+        {"rounding", std::string(fp::to_string(r.config[id].spec.rounding))},
+        {"overflow", std::string(fp::to_string(r.config[id].spec.overflow))},
+        {"cost", r.model == analysis::cost_model::bits ? static_cast<double>(f.word_bits)
+                                             : f.word_bits * analysis::node_storage_words(scen, id)}};
+  }
+  out["search"] = {{"trials", r.search_trials.size()},
+                   {"abs_tx_power_error_db", r.search.abs_power_error_db},
+                   {"sinr_loss_db", r.search.sinr_loss_db},
+                   {"evm_impl_pct", r.search.evm_pct},
+                   {"max_overflow_rate", r.search.max_overflow_rate},
+                   {"evaluations", r.evaluations}};
+  out["verification"] = {{"trials", r.verify_trials.size()},
+                         {"trial_indices", r.verify_trials},
+                         {"abs_tx_power_error_db", r.verification.abs_power_error_db},
+                         {"sinr_loss_db", r.verification.sinr_loss_db},
+                         {"evm_impl_pct", r.verification.evm_pct},
+                         {"max_overflow_rate", r.verification.max_overflow_rate},
+                         {"meets_limits", r.met}};
+  out["margins"] = {{"sinr_loss_db", r.limits.max_sinr_loss_db - r.verification.sinr_loss_db},
+                    {"evm_pct", r.limits.max_evm_pct - r.verification.evm_pct},
+                    {"tx_power_error_db", r.limits.max_power_error_db - r.verification.abs_power_error_db},
+                    {"overflow_rate", r.limits.max_overflow_rate - r.verification.max_overflow_rate}};
+  out["met"] = r.met;
+  out["note"] = r.note;
+  return out;
+}
+
+}  // namespace fxmimo::report

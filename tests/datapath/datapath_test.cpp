@@ -1,0 +1,250 @@
+// The bit-true datapath (harness/src/datapath.cpp) against a case worked out by hand, against
+// the golden model with wide formats, and against quantisation theory (6.02 dB per bit, common
+// practice; Widrow & Kollár 2008) and independent overflow counts.
+#include "fxmimo/datapath/datapath.hpp"
+#include "fxmimo/report/report.hpp"
+#include "fxmimo/analysis/runner.hpp"
+
+#include <gtest/gtest.h>
+
+#include <cmath>
+
+namespace fp = fxmimo::fixedpoint;
+namespace h = fxmimo::analysis;
+namespace d = fxmimo::datapath;
+namespace rep = fxmimo::report;
+namespace g = fxmimo::golden;
+
+namespace {
+
+/// A test scenario of our own invention: 32 antennas, 4 users with fixed gains, two cells
+/// sharing pilots, ZF with LDL^H.
+const char* small_scenario = R"(
+name = "test-32x4"
+seed = 77
+trials = 6
+[array]
+antennas = 32
+[cells]
+count = 2
+users_per_cell = 4
+user_gains_db = [0.0, 3.0, 6.0, 1.5]
+cross_gain_db = -10.0
+[pilots]
+length = 4
+sequence = "walsh"
+snr_db = 10.0
+[estimator]
+kind = "mmse"
+[precoder]
+kind = "zf"
+inversion = "ldl"
+[data]
+modulation = "16qam"
+symbols = 64
+snr_db = 15.0
+)";
+
+d::datapath_config all_nodes(const fp::target& t) {
+  d::datapath_config c;
+  for (d::node_setting& s : c.nodes) s = {t, {}, false};
+  return c;
+}
+
+/// Every node with `frac` fraction bits and integer bits from the golden range of the trials
+/// (plus a guard bit), so nothing overflows.
+d::datapath_config wide_config(const g::scenario& scen, int frac) {
+  d::datapath_config c = all_nodes(d::default_target());
+  const h::run_results probe = h::run_trials(scen, c, h::first_trials(scen.num_trials), 1);
+  for (const h::node_result& n : probe.nodes) {
+    const int int_bits = std::max(1, static_cast<int>(std::ceil(std::log2(n.max_abs_golden + 1e-30))) + 1);
+    c[n.id].spec = {{true, 1 + int_bits + frac, frac}, fp::rounding_mode::half_even, fp::overflow_mode::saturate};
+  }
+  return c;
+}
+
+TEST(datapath, hand_computed_two_antenna_case) {
+  // M = 2, K = 1, tau_p = 1, N = 2, LS estimate, ZF with LDL^H, DAC back-off 0 dB (tx_gain =
+  // sqrt(2)). Inputs are set by hand; every expected word below was worked out by hand from the
+  // README's arithmetic ("How it computes"), half_even rounding and saturation everywhere.
+  const g::scenario scen = g::parse_scenario_text(R"(
+name = "hand"
+seed = 1
+trials = 1
+[array]
+antennas = 2
+[cells]
+count = 1
+users_per_cell = 1
+user_gains_db = [0.0]
+[pilots]
+length = 1
+sequence = "walsh"
+snr_db = 0.0
+[estimator]
+kind = "ls"
+[precoder]
+kind = "zf"
+inversion = "ldl"
+[data]
+modulation = "qpsk"
+symbols = 2
+snr_db = 10.0
+[frontend]
+dac_backoff_db = 0.0
+)", "hand.toml");
+  g::trial_data trial;
+  trial.adc.resize(2, 1);
+  trial.adc << std::complex<double>(1, 2), std::complex<double>(3, -1);
+  trial.pilots = Eigen::MatrixXcd::Constant(1, 1, 1.0);
+  trial.est_scale = Eigen::VectorXd::Constant(1, 0.5);
+  trial.symbols.resize(1, 2);
+  trial.symbols << std::complex<double>(1, 1), std::complex<double>(-1, 0);
+  d::datapath_config c;
+  auto set = [&](d::node_id id, const char* q) {
+    c[id] = {{fp::parse_format(q), fp::rounding_mode::half_even, fp::overflow_mode::saturate}, {}, false};
+  };
+  set(d::node_id::adc, "Q3.4");
+  set(d::node_id::pilot_rom, "Q1.2");
+  set(d::node_id::pilot_acc, "Q4.4");
+  set(d::node_id::est_scale, "Q1.4");
+  set(d::node_id::chan_est, "Q4.4");
+  set(d::node_id::gram, "Q6.4");
+  set(d::node_id::ldl_acc, "Q6.4");
+  set(d::node_id::inv_diag_recip, "Q0.8");
+  set(d::node_id::inv_factor, "Q0.8");
+  set(d::node_id::inv_fwd, "Q1.6");
+  set(d::node_id::inv_out, "Q0.8");
+  set(d::node_id::precoder, "Q1.6");
+  set(d::node_id::power_acc, "Q2.8");
+  set(d::node_id::norm, "Q2.8");
+  set(d::node_id::tx_gain, "Q2.4");
+  set(d::node_id::weights, "Q1.8");
+  set(d::node_id::symbols, "Q1.4");
+  set(d::node_id::tx_acc, "Q2.8");
+  set(d::node_id::dac, "Q0.6");
+  const d::fixed_trial f = d::run_fixed_datapath(scen, c, trial);
+  auto words = [&](d::node_id id) { return f.words[d::index_of(id)]; };
+  auto expect_words = [&](d::node_id id, std::vector<std::int64_t> re, std::vector<std::int64_t> im) {
+    const d::word_matrix& w = f.words[d::index_of(id)];
+    EXPECT_EQ(w.re, re) << d::node_name(id) << " real parts";
+    if (w.is_complex) {
+      EXPECT_EQ(w.im, im) << d::node_name(id) << " imaginary parts";
+    }
+  };
+  expect_words(d::node_id::adc, {16, 48}, {32, -16});             // 1+2j, 3-1j in LSBs of 1/16
+  expect_words(d::node_id::pilot_rom, {4}, {0});                  // 1 in Q1.2
+  expect_words(d::node_id::pilot_acc, {16, 48}, {32, -16});       // y * conj(1)
+  expect_words(d::node_id::est_scale, {8}, {});                   // 0.5
+  expect_words(d::node_id::chan_est, {8, 24}, {16, -8});          // 0.5+1j, 1.5-0.5j
+  expect_words(d::node_id::gram, {60}, {0});                      // 1.25 + 2.5 = 3.75
+  expect_words(d::node_id::ldl_acc, {60}, {0});                   // d = 3.75
+  expect_words(d::node_id::inv_diag_recip, {68}, {});             // 256/3.75 = 68.27 -> 68
+  expect_words(d::node_id::inv_fwd, {64}, {0});                   // y = 1
+  expect_words(d::node_id::inv_out, {68}, {0});                   // 1 * 68/256
+  expect_words(d::node_id::precoder, {8, 26}, {-17, 8});          // 8.5 -> 8 and 25.5 -> 26 (ties to even)
+  expect_words(d::node_id::power_acc, {68}, {});                  // Q(353/16) + Q(740/16) = 22 + 46
+  expect_words(d::node_id::norm, {497}, {});                      // 256/sqrt(68/256) = 496.7
+  expect_words(d::node_id::tx_gain, {23}, {});                    // 16 sqrt(2) = 22.6
+  expect_words(d::node_id::weights, {89, 290}, {-190, 89});       // W * 497 * 23 / 1024
+  expect_words(d::node_id::symbols, {16, -16}, {16, 0});
+  expect_words(d::node_id::tx_acc, {279, -89, 201, -290}, {-101, 190, 379, -89});
+  // dac from frac 8 to 6: 69.75 -> 70 saturates to 63; -25.25 -> -25; -22.25 -> -22; 47.5 -> 48;
+  // 50.25 -> 50; 94.75 -> 95 saturates to 63; -72.5 -> -72 saturates to -64; -22.25 -> -22.
+  expect_words(d::node_id::dac, {63, -22, 50, -64}, {-25, 48, 63, -22});
+  EXPECT_EQ(f.counters[d::index_of(d::node_id::dac)].overflowed, 3U);
+  EXPECT_EQ(f.counters[d::index_of(d::node_id::dac)].requantized, 8U);
+  EXPECT_TRUE(words(d::node_id::inv_factor).re == std::vector<std::int64_t>{0});
+}
+
+TEST(datapath, wide_formats_converge_to_the_golden_model) {
+  // With 50 fraction bits everywhere the fixed datapath must compute the golden algorithm.
+  // Bound on SQNR (derived): each value carries at most ~10^3 rounding errors of one LSB
+  // (2^-50) each after error propagation through a Gram matrix with condition number kappa < 100
+  // here; the smallest node RMS is above 2^-10. So SQNR >= 20 log10(2^-10 / 2^-50) - 10 log10(10^3)
+  // - 20 log10(100) = 240.8 - 30 - 40 = 170 dB; we require 150 dB. The golden model's own double
+  // rounding (2^-53 relative) is below that bound.
+  const g::scenario scen = g::parse_scenario_text(small_scenario, "test.toml");
+  const d::datapath_config c = wide_config(scen, 50);
+  const h::run_results r = h::run_trials(scen, c, h::first_trials(scen.num_trials), 2);
+  for (const h::node_result& n : r.nodes) {
+    EXPECT_GT(n.sqnr_db(), 150.0) << d::node_name(n.id);
+    EXPECT_EQ(n.counters.overflowed, 0U) << d::node_name(n.id);
+  }
+  for (std::size_t k = 0; k < r.users.size(); ++k) {
+    EXPECT_NEAR(r.users[k].sinr_fixed_db, r.users[k].sinr_golden_db, 0.001) << "user " << k;
+  }
+  EXPECT_LT(r.summary.evm_impl_pct, 1e-9);
+}
+
+TEST(datapath, sqnr_rises_6_db_per_fraction_bit) {
+  // Granular region (common practice: 6.02 dB per bit). Two nodes, each narrowed alone while all
+  // others stay wide; 4 extra bits must add 24.1 dB within 1.5 dB (the rounding error of a busy
+  // signal is uniform: Widrow & Kollár 2008).
+  const g::scenario scen = g::parse_scenario_text(small_scenario, "test.toml");
+  const d::datapath_config wide = wide_config(scen, 50);
+  for (d::node_id id : {d::node_id::adc, d::node_id::weights}) {
+    double sqnr[2] = {};
+    for (int i = 0; i < 2; ++i) {
+      d::datapath_config c = wide;
+      fp::format& f = c[id].spec.fmt;
+      const int int_bits = f.int_bits();
+      f.frac_bits = 10 + 4 * i;
+      f.word_bits = 1 + int_bits + f.frac_bits;
+      const h::run_results r = h::run_trials(scen, c, h::first_trials(scen.num_trials), 2);
+      for (const h::node_result& n : r.nodes)
+        if (n.id == id) sqnr[i] = n.sqnr_db();
+    }
+    EXPECT_NEAR(sqnr[1] - sqnr[0], 4 * 6.02, 1.5) << d::node_name(id) << ": " << sqnr[0] << " -> " << sqnr[1];
+  }
+}
+
+TEST(datapath, overflow_counts_match_an_independent_count) {
+  // The ADC given too few integer bits (Q-1.12: range [-0.5, 0.5)): the number of overflowing
+  // parts is counted here from the golden values alone, in double: a part v overflows when
+  // round(v 2^12) leaves [-2048, 2047], i.e. v >= 2047.5 / 4096 or v < -2048.5 / 4096.
+  const g::scenario scen = g::parse_scenario_text(small_scenario, "test.toml");
+  d::datapath_config c = wide_config(scen, 40);
+  std::uint64_t expected = 0;
+  for (std::uint64_t t = 0; t < 3; ++t) {
+    const g::trial_data trial = g::run_trial(scen, t);
+    for (Eigen::Index i = 0; i < trial.adc.size(); ++i) {
+      for (double v : {trial.adc(i).real(), trial.adc(i).imag()}) expected += (v >= 2047.5 / 4096 || v < -2048.5 / 4096);
+    }
+  }
+  ASSERT_GT(expected, 0U) << "the test needs some overflow";
+  double sqnr_saturate = 0, sqnr_wrap = 0;
+  for (fp::overflow_mode mode : {fp::overflow_mode::saturate, fp::overflow_mode::wrap}) {
+    c[d::node_id::adc].spec = {{true, 12, 12}, fp::rounding_mode::half_even, mode};
+    const h::run_results r = h::run_trials(scen, c, h::first_trials(3), 1);
+    EXPECT_EQ(r.nodes.front().counters.overflowed, expected) << fp::to_string(mode);
+    (mode == fp::overflow_mode::wrap ? sqnr_wrap : sqnr_saturate) = r.nodes.front().sqnr_db();
+  }
+  EXPECT_LT(sqnr_wrap, sqnr_saturate) << "wrapping makes a larger error than clipping";
+}
+
+TEST(datapath, bit_identical_for_any_thread_count_and_trial_order) {
+  const g::scenario scen = g::parse_scenario_text(small_scenario, "test.toml");
+  d::datapath_config c = wide_config(scen, 20);
+  const h::run_results one = h::run_trials(scen, c, h::first_trials(6), 1);
+  const h::run_results two = h::run_trials(scen, c, h::first_trials(6), 2);
+  EXPECT_EQ(rep::to_json(one).dump(), rep::to_json(two).dump());
+  // A trial's words do not depend on which trials ran before it.
+  const g::trial_data t3 = g::run_trial(scen, 3);
+  const d::fixed_trial a = d::run_fixed_datapath(scen, c, t3);
+  (void)d::run_fixed_datapath(scen, c, g::run_trial(scen, 1));
+  const d::fixed_trial b = d::run_fixed_datapath(scen, c, g::run_trial(scen, 3));
+  for (d::node_id id : d::all_nodes()) {
+    EXPECT_EQ(a.words[d::index_of(id)], b.words[d::index_of(id)]) << d::node_name(id);
+    EXPECT_EQ(a.counters[d::index_of(id)], b.counters[d::index_of(id)]) << d::node_name(id);
+  }
+  // Reversed trial order gives the same per-trial summaries.
+  const h::run_results reversed = h::run_trials(scen, c, {5, 4, 3, 2, 1, 0}, 2);
+  const h::run_results forward = h::run_trials(scen, c, {0, 1, 2, 3, 4, 5}, 1);
+  for (std::size_t i = 0; i < forward.nodes.size(); ++i) {
+    EXPECT_EQ(forward.nodes[i].counters, reversed.nodes[i].counters);
+    EXPECT_EQ(forward.nodes[i].max_err_lsb, reversed.nodes[i].max_err_lsb);
+  }
+}
+
+}  // namespace
