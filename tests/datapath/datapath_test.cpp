@@ -248,3 +248,101 @@ TEST(datapath, bit_identical_for_any_thread_count_and_trial_order) {
 }
 
 }  // namespace
+
+namespace {
+
+/// tx_acc in the pairwise order, recomputed here from the weights and symbols words: exact
+/// products, each requantised to tx_acc's target, then the tree built level by level exactly as
+/// README "How it computes" defines it (adjacent pairs, overflow at every adder, an odd last
+/// element passed up), with the saturation written out as a clamp.
+std::vector<fp::cword<std::int64_t>> tree_tx_acc(const d::fixed_trial& f, const d::datapath_config& c) {
+  const d::word_matrix& w = f.words[d::index_of(d::node_id::weights)];
+  const d::word_matrix& s = f.words[d::index_of(d::node_id::symbols)];
+  const fp::target acc = c[d::node_id::tx_acc].spec;
+  const fp::requantizer<fp::big_int> q(acc);
+  const int product_frac = c[d::node_id::weights].spec.fmt.frac_bits + c[d::node_id::symbols].spec.fmt.frac_bits;
+  const std::int64_t hi = (std::int64_t{1} << (acc.fmt.word_bits - 1)) - 1, lo = -hi - 1;
+  auto clamp = [&](std::int64_t v) { return std::min(hi, std::max(lo, v)); };
+  std::vector<fp::cword<std::int64_t>> out;
+  for (int m = 0; m < w.rows; ++m) {
+    for (int n = 0; n < s.cols; ++n) {
+      std::vector<std::int64_t> re, im;
+      for (int k = 0; k < w.cols; ++k) {
+        const fp::big_int wr = w.re[w.at(m, k)], wi = w.im[w.at(m, k)], sr = s.re[s.at(k, n)], si = s.im[s.at(k, n)];
+        fp::counters unused;
+        re.push_back(static_cast<std::int64_t>(q(fp::big_int(wr * sr - wi * si), product_frac, unused)));
+        im.push_back(static_cast<std::int64_t>(q(fp::big_int(wr * si + wi * sr), product_frac, unused)));
+      }
+      for (auto* v : {&re, &im}) {
+        while (v->size() > 1) {
+          std::vector<std::int64_t> next;
+          for (std::size_t j = 0; j + 1 < v->size(); j += 2) next.push_back(clamp((*v)[j] + (*v)[j + 1]));
+          if (v->size() % 2 == 1) next.push_back(v->back());
+          *v = next;
+        }
+      }
+      out.push_back({re[0], im[0]});
+    }
+  }
+  return out;
+}
+
+TEST(datapath, pairwise_tx_acc_matches_the_tree_built_by_hand_and_differs_from_sequential) {
+  // village-16-mf (examples/, K = 2) widened to K = 5 users with a narrow saturating tx_acc, so
+  // that the tree has an odd level and partial sums saturate.
+  std::string text = R"(
+name = "tree-test"
+seed = 31
+trials = 1
+[array]
+antennas = 6
+[cells]
+count = 1
+users_per_cell = 5
+user_gains_db = [0.0, 0.0, 0.0, 0.0, 0.0]
+[pilots]
+length = 5
+snr_db = 20.0
+[estimator]
+kind = "perfect"
+[precoder]
+kind = "mf"
+[data]
+modulation = "qpsk"
+symbols = 40
+snr_db = 20.0
+[nodes.weights]
+format = "Q0.10"
+rounding = "half_even"
+overflow = "saturate"
+[nodes.symbols]
+format = "Q0.8"
+rounding = "half_even"
+overflow = "saturate"
+[nodes.tx_acc]
+format = "Q-2.12"
+rounding = "half_even"
+overflow = "saturate"
+order = "pairwise"
+)";
+  const g::scenario scen = g::parse_scenario_text(text, "tree-test");
+  const d::datapath_config tree = d::parse_datapath_config(text, "tree-test");
+  d::datapath_config seq = tree;
+  seq[d::node_id::tx_acc].order = {};
+  const g::trial_data trial = g::run_trial(scen, 0);
+  const d::fixed_trial ft = d::run_fixed_datapath(scen, tree, trial);
+  const d::fixed_trial fs = d::run_fixed_datapath(scen, seq, trial);
+  const std::vector<fp::cword<std::int64_t>> want = tree_tx_acc(ft, tree);
+  const d::word_matrix& got = ft.words[d::index_of(d::node_id::tx_acc)];
+  ASSERT_EQ(got.size(), want.size());
+  for (std::size_t i = 0; i < want.size(); ++i) {
+    ASSERT_EQ(got.re[i], want[i].re) << "word " << i;
+    ASSERT_EQ(got.im[i], want[i].im) << "word " << i;
+  }
+  ASSERT_GT(ft.counters[d::index_of(d::node_id::tx_acc)].overflowed, 0U) << "the case must saturate";
+  EXPECT_NE(got, fs.words[d::index_of(d::node_id::tx_acc)]) << "saturation order should change some words";
+  // Upstream of tx_acc nothing changes.
+  EXPECT_EQ(ft.words[d::index_of(d::node_id::weights)], fs.words[d::index_of(d::node_id::weights)]);
+}
+
+}  // namespace

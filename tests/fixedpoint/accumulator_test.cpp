@@ -66,3 +66,95 @@ TEST(complex, most_negative_word_squared_needs_the_wide_type) {
 }
 
 }  // namespace
+
+namespace {
+
+// The three accumulation orders (accumulator.hpp; README "How it computes", "Accumulation
+// orders") on hand-computed cases where the order of saturation changes the result. Q3.0
+// (4 bits, [-8, 7]), saturate, integer terms so that only the overflow stages act. Worked by
+// hand (the exact sum is 3 in the second case, 0 in the first):
+//   terms 7, 7, -7, -7:
+//     sequential: 7, sat(14) = 7, 0, -7                       -> -7
+//     pairwise:   [sat(14) = 7, sat(-14) = -8] -> 7 - 8       -> -1
+//     lanes 2:    lane0 = 7 - 7 = 0, lane1 = 7 - 7 = 0 -> 0   -> 0
+//   terms 7, 7, -7, -7, 3 (odd count: the last term is passed up):
+//     sequential: -7 + 3                                      -> -4
+//     pairwise:   [7, -8, 3] -> [sat(-1) = -1, 3] -> 2        -> 2
+//     lanes 2:    lane0 = 7 - 7 + 3 = 3, lane1 = 0 -> 3       -> 3
+//     lanes 3:    lane0 = 7 - 7 = 0, lane1 = sat(7 + 3) = 7, lane2 = -7 -> [7, -7] -> 0 -> 0
+struct order_case {
+  const char* name;
+  std::vector<std::int64_t> terms;
+  fp::accumulation how;
+  std::int64_t expected;
+  std::uint64_t overflows;
+};
+
+std::ostream& operator<<(std::ostream& os, const order_case& c) { return os << c.name; }
+
+class accumulation_orders : public testing::TestWithParam<order_case> {};
+
+TEST_P(accumulation_orders, hand_computed_saturation_order) {
+  const order_case& c = GetParam();
+  const fp::requantizer<std::int64_t> q(fp::target{{true, 4, 0}, fp::rounding_mode::floor, fp::overflow_mode::saturate});
+  fp::accumulator<std::int64_t> acc(q, c.how);
+  fp::counters counters;
+  for (std::int64_t t : c.terms) acc.add(t, 0, counters);
+  EXPECT_EQ(acc.result(counters), c.expected);
+  EXPECT_EQ(counters.overflowed, c.overflows);
+  // reset() starts a new sum: the same terms give the same result.
+  acc.reset();
+  fp::counters again;
+  for (std::int64_t t : c.terms) acc.add(t, 0, again);
+  EXPECT_EQ(acc.result(again), c.expected);
+}
+
+using fp::accumulation_order;
+INSTANTIATE_TEST_SUITE_P(
+    cases, accumulation_orders,
+    testing::Values(order_case{"sequential4", {7, 7, -7, -7}, {accumulation_order::sequential, 1}, -7, 1},
+                    order_case{"pairwise4", {7, 7, -7, -7}, {accumulation_order::pairwise, 1}, -1, 2},
+                    order_case{"lanes2_4", {7, 7, -7, -7}, {accumulation_order::lanes, 2}, 0, 0},
+                    order_case{"sequential5", {7, 7, -7, -7, 3}, {accumulation_order::sequential, 1}, -4, 1},
+                    order_case{"pairwise5", {7, 7, -7, -7, 3}, {accumulation_order::pairwise, 1}, 2, 2},
+                    order_case{"lanes2_5", {7, 7, -7, -7, 3}, {accumulation_order::lanes, 2}, 3, 0},
+                    order_case{"lanes3_5", {7, 7, -7, -7, 3}, {accumulation_order::lanes, 3}, 0, 1},
+                    // one term and no term: the tree is the term itself, or 0
+                    order_case{"pairwise1", {5}, {accumulation_order::pairwise, 1}, 5, 0},
+                    order_case{"pairwise0", {}, {accumulation_order::pairwise, 1}, 0, 0},
+                    // more lanes than terms, the idle lanes hold 0: [7, 7, -3, 0, 0, 0, 0, 0]
+                    // -> [sat(14) = 7, -3, 0, 0] -> [4, 0] -> 4
+                    order_case{"lanes8_3", {7, 7, -3}, {accumulation_order::lanes, 8}, 4, 1}),
+    [](const testing::TestParamInfo<order_case>& i) { return std::string(i.param.name); });
+
+// Without overflow every order gives the exact sum (wide target), for lengths around the tree's
+// powers of two and lane counts 1..9, on random full-range terms (seed printed on failure).
+TEST(accumulation_orders_property, all_orders_agree_without_overflow) {
+  const std::uint64_t seed = 909;
+  std::mt19937_64 rng(seed);
+  std::uniform_int_distribution<std::int64_t> term(-(1 << 15), (1 << 15) - 1);
+  const fp::requantizer<std::int64_t> q(fp::target{{true, 40, 0}, fp::rounding_mode::floor, fp::overflow_mode::saturate});
+  for (std::size_t n : {1U, 2U, 3U, 7U, 8U, 9U, 15U, 16U, 17U, 31U, 64U, 65U}) {
+    std::vector<std::int64_t> terms(n);
+    std::int64_t exact = 0;
+    for (auto& t : terms) exact += (t = term(rng));
+    for (int lanes = 1; lanes <= 9; ++lanes) {
+      for (fp::accumulation how : {fp::accumulation{accumulation_order::pairwise, 1},
+                                   fp::accumulation{accumulation_order::lanes, lanes}}) {
+        fp::accumulator<std::int64_t> acc(q, how);
+        fp::counters c;
+        for (std::int64_t t : terms) acc.add(t, 0, c);
+        ASSERT_EQ(acc.result(c), exact) << "seed " << seed << " n " << n << " lanes " << lanes;
+        EXPECT_EQ(c.overflowed, 0U);
+      }
+    }
+  }
+}
+
+TEST(accumulation_orders_property, names_round_trip) {
+  for (fp::accumulation_order o : fp::all_accumulation_orders) EXPECT_EQ(fp::parse_accumulation_order(fp::to_string(o)), o);
+  EXPECT_FALSE(fp::parse_accumulation_order("tree"));
+  EXPECT_EQ(fp::list_accumulation_orders(), "sequential, pairwise, lanes");
+}
+
+}  // namespace

@@ -1,0 +1,91 @@
+// The [nodes] tables of a scenario (datapath/src/config.cpp): accumulation orders, their errors
+// (one line naming file, line and key), the documented default and the TOML written back.
+#include "fxmimo/datapath/config.hpp"
+#include "fxmimo/golden/scenario.hpp"
+
+#include <gtest/gtest.h>
+
+namespace d = fxmimo::datapath;
+namespace fp = fxmimo::fixedpoint;
+namespace g = fxmimo::golden;
+
+namespace {
+
+TEST(config, default_constructed_is_the_documented_default) {
+  const d::datapath_config c;
+  ASSERT_EQ(c.nodes.size(), d::node_count());
+  for (const d::node_setting& s : c.nodes) {
+    EXPECT_EQ(fp::to_q_string(s.spec.fmt), "Q20.43");
+    EXPECT_EQ(s.spec.rounding, fp::rounding_mode::half_even);
+    EXPECT_EQ(s.spec.overflow, fp::overflow_mode::saturate);
+    EXPECT_EQ(s.order.order, fp::accumulation_order::sequential);
+    EXPECT_TRUE(s.is_default);
+  }
+}
+
+TEST(config, reads_orders_and_lanes_and_writes_them_back) {
+  const char* text = R"([nodes.tx_acc]
+format = "Q1.14"
+rounding = "floor"
+overflow = "wrap"
+order = "pairwise"
+
+[nodes.gram]
+format = "Q9.10"
+rounding = "half_even"
+overflow = "saturate"
+order = "lanes"
+lanes = 4
+)";
+  const d::datapath_config c = d::parse_datapath_config(text, "orders.toml");
+  EXPECT_EQ(c[d::node_id::tx_acc].order.order, fp::accumulation_order::pairwise);
+  EXPECT_EQ(c[d::node_id::gram].order.order, fp::accumulation_order::lanes);
+  EXPECT_EQ(c[d::node_id::gram].order.lanes, 4);
+  EXPECT_EQ(c[d::node_id::pilot_acc].order.order, fp::accumulation_order::sequential);
+  // Written back and read again: the same settings.
+  const d::datapath_config again = d::parse_datapath_config(d::to_toml(c), "written.toml");
+  for (d::node_id id : d::all_nodes()) {
+    EXPECT_EQ(again[id].order, c[id].order) << d::node_name(id);
+    EXPECT_EQ(again[id].spec.fmt, c[id].spec.fmt) << d::node_name(id);
+  }
+  EXPECT_NE(d::node_table_toml(d::node_id::gram, c[d::node_id::gram]).find("order = \"lanes\"\nlanes = 4\n"),
+            std::string::npos);
+}
+
+struct bad_table {
+  const char* name;
+  const char* text;
+  const char* message;  ///< the whole one-line error
+};
+
+class config_errors : public testing::TestWithParam<bad_table> {};
+
+TEST_P(config_errors, one_line_naming_file_line_and_key) {
+  try {
+    (void)d::parse_datapath_config(GetParam().text, "s.toml");
+    FAIL() << "accepted";
+  } catch (const g::scenario_error& e) {
+    EXPECT_EQ(std::string(e.what()), GetParam().message);
+  }
+}
+
+INSTANTIATE_TEST_SUITE_P(
+    cases, config_errors,
+    testing::Values(
+        bad_table{"order_on_a_register", "[nodes.weights]\nformat = \"Q1.14\"\norder = \"pairwise\"\n",
+                  "s.toml:3: nodes.weights.order: unknown key (expected format, rounding, overflow: weights is not an "
+                  "accumulator)"},
+        bad_table{"unknown_order", "[nodes.gram]\nformat = \"Q1.14\"\norder = \"tree\"\n",
+                  "s.toml:3: nodes.gram.order: bad order 'tree' (expected sequential, pairwise, lanes)"},
+        bad_table{"lanes_without_lanes_order", "[nodes.gram]\nformat = \"Q1.14\"\nlanes = 2\n",
+                  "s.toml:3: nodes.gram.lanes: only used with order = \"lanes\""},
+        bad_table{"lanes_order_without_count", "[nodes.tx_acc]\nformat = \"Q1.14\"\norder = \"lanes\"\n",
+                  "s.toml:1: nodes.tx_acc.lanes: missing: order = \"lanes\" needs lanes = P (e.g. lanes = 4)"},
+        bad_table{"zero_lanes", "[nodes.tx_acc]\nformat = \"Q1.14\"\norder = \"lanes\"\nlanes = 0\n",
+                  "s.toml:4: nodes.tx_acc.lanes: must be an integer in [1, 4096]"},
+        bad_table{"lanes_on_a_register", "[nodes.norm]\nformat = \"Q1.14\"\nlanes = 2\n",
+                  "s.toml:3: nodes.norm.lanes: unknown key (expected format, rounding, overflow: norm is not an "
+                  "accumulator)"}),
+    [](const testing::TestParamInfo<bad_table>& i) { return std::string(i.param.name); });
+
+}  // namespace
