@@ -58,7 +58,6 @@ void datapath_plan::insert_before(node_id id, std::shared_ptr<stage> s, std::opt
 void register_plan_extension(plan_extension extension) { extensions().push_back(std::move(extension)); }
 
 datapath_plan stages_for(const golden::scenario& scen) {
-  using detail::make_golden_converter;
   datapath_plan plan;
   const bool per_antenna = scen.precoder.normalization == golden::power_normalization::per_antenna;
   const bool uses_inverse = scen.precoder.kind != golden::precoder_kind::mf;
@@ -102,7 +101,7 @@ datapath_plan stages_for(const golden::scenario& scen) {
   s.push_back(detail::make_weights());
   s.push_back(make_golden_converter(node_id::symbols, [](const golden::trial_data& t) { return t.symbols; }));
   s.push_back(detail::make_transmit());
-  s.push_back(detail::make_requantizer(node_id::dac, node_id::tx_acc));
+  s.push_back(make_requantizer(node_id::dac, node_id::tx_acc));
 
   for (const plan_extension& e : extensions()) e(plan, scen);
   return plan;

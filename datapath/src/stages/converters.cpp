@@ -53,12 +53,6 @@ class requantizer_stage final : public stage {
 
 }  // namespace
 
-std::shared_ptr<stage> make_golden_converter(node_id node, golden_source source) {
-  return std::make_shared<golden_converter>(node, std::move(source));
-}
-
-std::shared_ptr<stage> make_requantizer(node_id out, node_id in) { return std::make_shared<requantizer_stage>(out, in); }
-
 int ceil_log2(long long n) {
   int b = 0;
   while ((1LL << b) < n) ++b;
@@ -66,3 +60,15 @@ int ceil_log2(long long n) {
 }
 
 }  // namespace fxmimo::datapath::detail
+
+namespace fxmimo::datapath {
+
+std::shared_ptr<stage> make_golden_converter(node_id node, golden_source source) {
+  return std::make_shared<detail::golden_converter>(node, std::move(source));
+}
+
+std::shared_ptr<stage> make_requantizer(node_id out, node_id in) {
+  return std::make_shared<detail::requantizer_stage>(out, in);
+}
+
+}  // namespace fxmimo::datapath

@@ -2,19 +2,14 @@
 // The reference stages, one file each under stages/; stages_for (plan.cpp) lays them out.
 // Private to the datapath room: a program of its own derives from datapath::stage instead.
 
-#include "fxmimo/datapath/stage.hpp"
+#include "fxmimo/datapath/stage_kit.hpp"
 
 #include <functional>
 #include <memory>
 
 namespace fxmimo::datapath::detail {
 
-/// Words of a node converted from golden values of the trial (converters.cpp): the ADC, the
-/// ROMs, the QAM symbols, the perfect-CSI estimate, the transmit gain.
-using golden_source = std::function<Eigen::MatrixXcd(const golden::trial_data&)>;
-std::shared_ptr<stage> make_golden_converter(node_id node, golden_source source);
-/// out = Q(in), word by word at in's fraction bits (converters.cpp: the DAC).
-std::shared_ptr<stage> make_requantizer(node_id out, node_id in);
+// make_golden_converter and make_requantizer (converters.cpp) are public: stage_kit.hpp.
 
 std::shared_ptr<stage> make_correlator();                    // correlator.cpp: pilot_acc
 std::shared_ptr<stage> make_estimate();                      // estimate.cpp: chan_est (LS, MMSE)
