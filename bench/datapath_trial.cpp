@@ -1,12 +1,12 @@
 // One full trial at M = 128, K = 16, tau_p = 16, N = 168, ZF with LDL^H, single cell: the
 // bit-true datapath against the golden model of the same trial, in the same run. The ratio
 // fixed / golden is the figure to read (target <= 3, stretch 1.5).
-#include "fxmimo/golden/trial.hpp"
-#include "fxmimo/datapath/datapath.hpp"
-
 #include <benchmark/benchmark.h>
 
 #include <string>
+
+#include "fxmimo/datapath/datapath.hpp"
+#include "fxmimo/golden/trial.hpp"
 
 namespace g = fxmimo::golden;
 namespace d = fxmimo::datapath;

@@ -2,13 +2,13 @@
 // (Q9.30), half_even rounding and saturation at every step (acc <- Q(acc + Q(a*b))).
 // Our core against SystemC sc_fixed and sc_fixed_fast doing the same work, and plain double.
 // Read the ratios of the reported times within one run.
-#include "fxmimo/fixedpoint/accumulator.hpp"
-
 #include <benchmark/benchmark.h>
-#include <systemc>
 
 #include <random>
+#include <systemc>
 #include <vector>
+
+#include "fxmimo/fixedpoint/accumulator.hpp"
 
 namespace fp = fxmimo::fixedpoint;
 

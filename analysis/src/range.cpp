@@ -1,13 +1,13 @@
 #include "fxmimo/analysis/range.hpp"
 
-#include "fxmimo/golden/trial.hpp"
-#include "fxmimo/datapath/datapath.hpp"
-#include "fxmimo/analysis/runner.hpp"
-
 #include <fmt/core.h>
 
 #include <algorithm>
 #include <cmath>
+
+#include "fxmimo/analysis/runner.hpp"
+#include "fxmimo/datapath/datapath.hpp"
+#include "fxmimo/golden/trial.hpp"
 
 namespace fxmimo::analysis {
 
@@ -20,13 +20,12 @@ constexpr int hist_min = -40, hist_max = 40;
 /// The q-quantile (0..1) of sorted-on-demand values (nth_element), 0 for no values.
 double quantile(std::vector<double>& v, double q) {
   if (v.empty()) return 0.0;
-  const auto k = static_cast<std::size_t>(std::min<double>(static_cast<double>(v.size()) - 1,
-                                                           std::floor(q * static_cast<double>(v.size() - 1))));
+  const auto k = static_cast<std::size_t>(
+      std::min<double>(static_cast<double>(v.size()) - 1, std::floor(q * static_cast<double>(v.size() - 1))));
   std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(k), v.end());
   return v[k];
 }
 
-int ceil_log2(int n) { return n <= 1 ? 0 : static_cast<int>(std::ceil(std::log2(static_cast<double>(n)))); }
 
 }  // namespace
 
@@ -75,8 +74,7 @@ range_results profile_ranges(const golden::scenario& scen, const datapath::datap
     node_range r;
     r.id = active[i];
     std::vector<double> all;
-    for (const auto& t : parts)
-      all.insert(all.end(), t[i].begin(), t[i].end());
+    for (const auto& t : parts) all.insert(all.end(), t[i].begin(), t[i].end());
     r.num_values = all.size();
     r.log2_histogram.assign(static_cast<std::size_t>(hist_max - hist_min + 1), 0);
     for (double v : all) {

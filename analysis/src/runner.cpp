@@ -1,8 +1,5 @@
 #include "fxmimo/analysis/runner.hpp"
 
-#include "fxmimo/golden/link_metrics.hpp"
-#include "fxmimo/golden/trial.hpp"
-
 #include <fmt/core.h>
 
 #include <atomic>
@@ -10,6 +7,9 @@
 #include <limits>
 #include <mutex>
 #include <thread>
+
+#include "fxmimo/golden/link_metrics.hpp"
+#include "fxmimo/golden/trial.hpp"
 
 namespace fxmimo::analysis {
 
@@ -19,8 +19,9 @@ double node_result::sqnr_db() const {
 }
 
 double node_result::overflow_rate() const {
-  return counters.requantized == 0 ? 0.0
-                                   : static_cast<double>(counters.overflowed) / static_cast<double>(counters.requantized);
+  return counters.requantized == 0
+             ? 0.0
+             : static_cast<double>(counters.overflowed) / static_cast<double>(counters.requantized);
 }
 
 std::optional<double> bs_evm_limit_pct(golden::modulation mod) {
@@ -40,7 +41,8 @@ std::vector<std::uint64_t> first_trials(int n) {
   return out;
 }
 
-trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datapath_config& config, std::uint64_t trial_index) {
+trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datapath_config& config,
+                             std::uint64_t trial_index) {
   trial_summary out;
   out.trial_index = trial_index;
   out.nodes.resize(datapath::node_count());
@@ -57,8 +59,8 @@ trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datap
     const Eigen::MatrixXcd& g = golden_values[datapath::index_of(id)];
     const datapath::word_matrix& w = fixed.words[datapath::index_of(id)];
     if (g.rows() != w.rows || g.cols() != w.cols) {
-      throw std::logic_error(fmt::format("node {}: golden {}x{} against fixed {}x{}", datapath::node_name(id), g.rows(), g.cols(),
-                                         w.rows, w.cols));
+      throw std::logic_error(fmt::format("node {}: golden {}x{} against fixed {}x{}", datapath::node_name(id), g.rows(),
+                                         g.cols(), w.rows, w.cols));
     }
     const Eigen::MatrixXcd f = datapath::to_values(w, r.spec.fmt.frac_bits);
     const Eigen::MatrixXcd e = g - f;
@@ -197,8 +199,8 @@ run_results run_trials(const golden::scenario& scen, const datapath::datapath_co
   }
   for (const node_result& r : out.nodes) {
     if (r.counters.overflowed > 0) {
-      out.warnings.push_back(fmt::format("node {} overflowed {} times ({:.3g} of its values)", datapath::node_name(r.id),
-                                         r.counters.overflowed, r.overflow_rate()));
+      out.warnings.push_back(fmt::format("node {} overflowed {} times ({:.3g} of its values)",
+                                         datapath::node_name(r.id), r.counters.overflowed, r.overflow_rate()));
     }
   }
   return out;

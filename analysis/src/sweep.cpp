@@ -29,9 +29,7 @@ fp::format swept_format(const fp::format& base, sweep_axis axis, int bits) {
       f.word_bits = bits;
       f.frac_bits = bits - (base.is_signed ? 1 : 0) - int_bits;
       break;
-    case sweep_axis::int_bits:
-      f.word_bits = (base.is_signed ? 1 : 0) + bits + base.frac_bits;
-      break;
+    case sweep_axis::int_bits: f.word_bits = (base.is_signed ? 1 : 0) + bits + base.frac_bits; break;
   }
   if (f.word_bits < 2 || f.container_bits() > datapath::max_node_word_bits) {
     throw std::invalid_argument(fmt::format("{} = {} gives a {}-bit word from {}: datapath words hold 2 to 64 bits",
@@ -40,8 +38,9 @@ fp::format swept_format(const fp::format& base, sweep_axis axis, int bits) {
   return f;
 }
 
-sweep_results run_sweep(const golden::scenario& scen, const datapath::datapath_config& config, const std::vector<datapath::node_id>& nodes,
-                        int lo, int hi, sweep_axis axis, const std::vector<std::uint64_t>& trials, unsigned num_threads,
+sweep_results run_sweep(const golden::scenario& scen, const datapath::datapath_config& config,
+                        const std::vector<datapath::node_id>& nodes, int lo, int hi, sweep_axis axis,
+                        const std::vector<std::uint64_t>& trials, unsigned num_threads,
                         const progress_callback& progress) {
   if (lo > hi) throw std::invalid_argument(fmt::format("empty bit range {}:{}", lo, hi));
   // Check every point before running any, so a bad range fails at once.

@@ -66,7 +66,10 @@ std::vector<int> greedy_search(const std::vector<int>& lo, const std::vector<int
       const int mid = a + (b - a) / 2;
       std::vector<int> probe = hi;
       probe[i] = mid;
-      if (eval(probe).meets(limits)) b = mid; else a = mid + 1;
+      if (eval(probe).meets(limits))
+        b = mid;
+      else
+        a = mid + 1;
     }
     minimum[i] = b;
   }
@@ -131,9 +134,10 @@ std::vector<int> greedy_search(const std::vector<int>& lo, const std::vector<int
   return x;
 }
 
-tune_results tune_widths(const golden::scenario& scen, const datapath::datapath_config& start, const tune_limits& limits,
-                         cost_model model, int num_trials, unsigned num_threads, double overflow_prob,
-                         double search_margin, const std::function<void(const std::string&)>& status) {
+tune_results tune_widths(const golden::scenario& scen, const datapath::datapath_config& start,
+                         const tune_limits& limits, cost_model model, int num_trials, unsigned num_threads,
+                         double overflow_prob, double search_margin,
+                         const std::function<void(const std::string&)>& status) {
   auto say = [&](const std::string& s) {
     if (status) status(s);
   };
@@ -190,8 +194,9 @@ tune_results tune_widths(const golden::scenario& scen, const datapath::datapath_
   if (!out.search.meets(limits)) {
     out.note = "no setting of at most 64 bits per node meets the limits on the search trials";
   } else if (!out.met) {
-    out.note = "the choice meets the limits on the search trials but not on the fresh trials: "
-               "use more trials or tighter margins";
+    out.note =
+        "the choice meets the limits on the search trials but not on the fresh trials: "
+        "use more trials or tighter margins";
   }
   return out;
 }

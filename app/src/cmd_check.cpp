@@ -1,13 +1,12 @@
 // fxmimo check: an RTL output dump against the expected words of a vector set, bit for bit.
-#include "commands.hpp"
-
-#include "fxmimo/vectors/compare.hpp"
-#include "fxmimo/vectors/vector_set.hpp"
-
 #include <fmt/core.h>
-#include <nlohmann/json.hpp>
 
 #include <memory>
+#include <nlohmann/json.hpp>
+
+#include "commands.hpp"
+#include "fxmimo/vectors/compare.hpp"
+#include "fxmimo/vectors/vector_set.hpp"
 
 namespace fxmimo::cli {
 
@@ -42,7 +41,8 @@ int run_check(const check_options& opt) {
 
 void add_check_command(CLI::App& app) {
   auto opt = std::make_shared<check_options>();
-  CLI::App* cmd = app.add_subcommand("check", "Compare an RTL output dump with the expected words of a vector set, bit for bit");
+  CLI::App* cmd =
+      app.add_subcommand("check", "Compare an RTL output dump with the expected words of a vector set, bit for bit");
   cmd->add_option("dir", opt->dir, "Vector set directory (holds manifest.json)")->required();
   cmd->add_option("-n,--node", opt->node, "Node whose expected (\"out\") words the dump must match")->required();
   cmd->add_option("-d,--dump", opt->dumps,

@@ -1,13 +1,12 @@
 // fxmimo diff: regression between two vector sets, record by record.
-#include "commands.hpp"
-
-#include "fxmimo/vectors/set_diff.hpp"
-#include "fxmimo/vectors/vector_set.hpp"
-
 #include <fmt/core.h>
-#include <nlohmann/json.hpp>
 
 #include <memory>
+#include <nlohmann/json.hpp>
+
+#include "commands.hpp"
+#include "fxmimo/vectors/set_diff.hpp"
+#include "fxmimo/vectors/vector_set.hpp"
 
 namespace fxmimo::cli {
 
@@ -36,7 +35,8 @@ int run_diff(const diff_options& opt) {
 
 void add_diff_command(CLI::App& app) {
   auto opt = std::make_shared<diff_options>();
-  CLI::App* cmd = app.add_subcommand("diff", "Compare two vector sets node by node (regression after a datapath change)");
+  CLI::App* cmd =
+      app.add_subcommand("diff", "Compare two vector sets node by node (regression after a datapath change)");
   cmd->add_option("dir_a", opt->dir_a, "Reference vector set (A)")->required();
   cmd->add_option("dir_b", opt->dir_b, "New vector set (B)")->required();
   cmd->add_option("--allow", opt->allowed, "Nodes whose change is intended (reported, not failed)");

@@ -1,15 +1,14 @@
 // fxmimo quant: decimal values to words and words back to values, in one format.
-#include "commands.hpp"
+#include <fmt/core.h>
 
+#include <iostream>
+#include <nlohmann/json.hpp>
+#include <optional>
+
+#include "commands.hpp"
 #include "fxmimo/fixedpoint/conversions.hpp"
 #include "fxmimo/fixedpoint/format.hpp"
 #include "fxmimo/fixedpoint/words.hpp"
-
-#include <fmt/core.h>
-#include <nlohmann/json.hpp>
-
-#include <iostream>
-#include <optional>
 
 namespace fxmimo::cli {
 
@@ -80,9 +79,13 @@ int run_quant(const quant_options& opt) {
     throw usage_error(e.what());
   }
   const auto rnd = fp::parse_rounding_mode(opt.rounding_text);
-  if (!rnd) throw usage_error(fmt::format("bad rounding mode '{}': expected one of {}", opt.rounding_text, fp::list_rounding_modes()));
+  if (!rnd)
+    throw usage_error(
+        fmt::format("bad rounding mode '{}': expected one of {}", opt.rounding_text, fp::list_rounding_modes()));
   const auto ovf = fp::parse_overflow_mode(opt.overflow_text);
-  if (!ovf) throw usage_error(fmt::format("bad overflow mode '{}': expected one of {}", opt.overflow_text, fp::list_overflow_modes()));
+  if (!ovf)
+    throw usage_error(
+        fmt::format("bad overflow mode '{}': expected one of {}", opt.overflow_text, fp::list_overflow_modes()));
   tgt.rounding = *rnd;
   tgt.overflow = *ovf;
 
@@ -148,10 +151,8 @@ void add_quant_command(CLI::App& app) {
   CLI::App* cmd = app.add_subcommand("quant", "Convert decimal values to words of a format, and words back to values");
   cmd->add_option("-f,--format", opt->format_text, "Format: Qm.n, UQm.n, W,F or uW,F (signed Qm.n = 1+m+n bits)")
       ->required();
-  cmd->add_option("-r,--rounding", opt->rounding_text, "Rounding: " + fp::list_rounding_modes())
-      ->capture_default_str();
-  cmd->add_option("-o,--overflow", opt->overflow_text, "Overflow: " + fp::list_overflow_modes())
-      ->capture_default_str();
+  cmd->add_option("-r,--rounding", opt->rounding_text, "Rounding: " + fp::list_rounding_modes())->capture_default_str();
+  cmd->add_option("-o,--overflow", opt->overflow_text, "Overflow: " + fp::list_overflow_modes())->capture_default_str();
   cmd->add_flag("--json", opt->json, "Print JSON instead of a table");
   cmd->add_option("values", opt->values,
                   "Decimal values (exact: 0.1 is ten tenths, not a double) or words 0x... / 0b...; "

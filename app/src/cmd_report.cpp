@@ -1,13 +1,12 @@
 // fxmimo report: results files of run, range, sweep and tune drawn into one self-contained HTML page.
-#include "commands.hpp"
-#include "output_files.hpp"
-
-#include "fxmimo/report/report_html.hpp"
-
 #include <fmt/core.h>
 
 #include <filesystem>
 #include <fstream>
+
+#include "commands.hpp"
+#include "fxmimo/report/report_html.hpp"
+#include "output_files.hpp"
 
 namespace fxmimo::cli {
 
@@ -38,8 +37,7 @@ void add_report_command(CLI::App& app) {
   auto opt = std::make_shared<report_options>();
   CLI::App* cmd =
       app.add_subcommand("report", "Draw results files (run, range, sweep, tune JSON) into one HTML report");
-  cmd->add_option("results", opt->inputs, "Results files written with --json by run, range, sweep or tune")
-      ->required();
+  cmd->add_option("results", opt->inputs, "Results files written with --json by run, range, sweep or tune")->required();
   cmd->add_option("-o,--out", opt->out_path, "The HTML file to write")->required();
   cmd->footer(
       "The page is self-contained (inline SVG, no scripts, no external resources) and prints in black\n"

@@ -1,20 +1,19 @@
 // fxmimo run and fxmimo demo: the side-by-side model of a scenario, as a table and JSON.
-#include "commands.hpp"
-#include "output_files.hpp"
-#include "progress.hpp"
-#include "scenario_input.hpp"
-
-#include "fxmimo/analysis/range.hpp"
-#include "fxmimo/report/report.hpp"
-#include "fxmimo/report/report_html.hpp"
-#include "fxmimo/analysis/sweep.hpp"
-#include "fxmimo/analysis/tune.hpp"
-#include "fxmimo/analysis/runner.hpp"
-
 #include <fmt/core.h>
 
 #include <filesystem>
 #include <fstream>
+
+#include "commands.hpp"
+#include "fxmimo/analysis/range.hpp"
+#include "fxmimo/analysis/runner.hpp"
+#include "fxmimo/analysis/sweep.hpp"
+#include "fxmimo/analysis/tune.hpp"
+#include "fxmimo/report/report.hpp"
+#include "fxmimo/report/report_html.hpp"
+#include "output_files.hpp"
+#include "progress.hpp"
+#include "scenario_input.hpp"
 
 namespace fxmimo::cli {
 
@@ -31,7 +30,7 @@ analysis::run_results run_scenario(const scenario_input& in, int num_trials, uns
   const int trials = in.trials_or_default(num_trials);
   progress_line progress("trials");
   return analysis::run_trials(in.scen, in.config, analysis::first_trials(trials), num_threads,
-                             [&](std::size_t done, std::size_t total) { progress.update(done, total); });
+                              [&](std::size_t done, std::size_t total) { progress.update(done, total); });
 }
 
 int run_run(const run_options& opt) {
@@ -53,8 +52,9 @@ int run_demo(const demo_options& opt) {
   fs::create_directories(opt.out_dir);
   const fs::path dir(opt.out_dir);
   write_file_atomically(dir / "scenario.toml", in.text);
-  fmt::print("fxmimo demo: {} antennas, {} users per cell, {} cells, {}, ZF/LDL precoding\n\n", in.scen.array.num_antennas,
-             in.scen.cells.num_users, in.scen.cells.num_cells, golden::modulation_name(in.scen.data.mod));
+  fmt::print("fxmimo demo: {} antennas, {} users per cell, {} cells, {}, ZF/LDL precoding\n\n",
+             in.scen.array.num_antennas, in.scen.cells.num_users, in.scen.cells.num_cells,
+             golden::modulation_name(in.scen.data.mod));
 
   // 1. The scenario's own widths, side by side with the golden model.
   const analysis::run_results results = run_scenario(in, 0, opt.num_threads);
@@ -74,10 +74,10 @@ int run_demo(const demo_options& opt) {
   const int sweep_trials = 8;
   fmt::print("\n== sweep: fraction bits of weights and dac, {} trials per point ==\n", sweep_trials);
   progress_line sweep_progress("sweep trials");
-  const analysis::sweep_results sweep = analysis::run_sweep(
-      in.scen, in.config, {datapath::node_id::weights, datapath::node_id::dac}, 8, 14, analysis::sweep_axis::frac,
-      analysis::first_trials(sweep_trials), opt.num_threads,
-      [&](std::size_t d, std::size_t t) { sweep_progress.update(d, t); });
+  const analysis::sweep_results sweep =
+      analysis::run_sweep(in.scen, in.config, {datapath::node_id::weights, datapath::node_id::dac}, 8, 14,
+                          analysis::sweep_axis::frac, analysis::first_trials(sweep_trials), opt.num_threads,
+                          [&](std::size_t d, std::size_t t) { sweep_progress.update(d, t); });
   fmt::print("{}", report::format_sweep_table(sweep));
   const nlohmann::json sweep_json = report::to_json(sweep);
   write_file_atomically(dir / "sweep.json", sweep_json.dump(2) + "\n");
@@ -88,20 +88,20 @@ int run_demo(const demo_options& opt) {
   limits.max_evm_pct = 0.1 * *analysis::bs_evm_limit_pct(in.scen.data.mod);
   limits.max_overflow_rate = 1e-6;
   const int tune_trials = 12;
-  fmt::print("\n== tune: SINR loss <= {} dB, implementation EVM <= {} % (a tenth of the TS 38.104 limit), "
-             "{} trials, verified on {} fresh ones ==\n",
-             limits.max_sinr_loss_db, limits.max_evm_pct, tune_trials, tune_trials);
-  const analysis::tune_results tuned =
-      analysis::tune_widths(in.scen, in.config, limits, analysis::cost_model::bits, tune_trials, opt.num_threads, 1e-6, 0.1,
-                           show_status);
+  fmt::print(
+      "\n== tune: SINR loss <= {} dB, implementation EVM <= {} % (a tenth of the TS 38.104 limit), "
+      "{} trials, verified on {} fresh ones ==\n",
+      limits.max_sinr_loss_db, limits.max_evm_pct, tune_trials, tune_trials);
+  const analysis::tune_results tuned = analysis::tune_widths(in.scen, in.config, limits, analysis::cost_model::bits,
+                                                             tune_trials, opt.num_threads, 1e-6, 0.1, show_status);
   show_status("");
   fmt::print("{}", report::format_tune_table(tuned));
   const nlohmann::json tune_json = report::to_json(in.scen, tuned);
   write_file_atomically(dir / "tune.json", tune_json.dump(2) + "\n");
   write_file_atomically(dir / "tuned.toml",
-                        datapath::scenario_with_nodes(in.text, tuned.config, tuned.nodes,
-                                                     fmt::format("Widths chosen by fxmimo tune in the demo: cost {:.0f} bits",
-                                                                 tuned.cost)));
+                        datapath::scenario_with_nodes(
+                            in.text, tuned.config, tuned.nodes,
+                            fmt::format("Widths chosen by fxmimo tune in the demo: cost {:.0f} bits", tuned.cost)));
 
   // 5. One page with all of it.
   const std::string html = report::render_report_html(
@@ -109,8 +109,9 @@ int run_demo(const demo_options& opt) {
   write_file_atomically(dir / "report.html", html);
   fmt::print("\nwrote {}: scenario.toml, run.json, range.json, sweep.json, tune.json, tuned.toml\n", dir.string());
   fmt::print("report: {}\n", (dir / "report.html").string());
-  fmt::print("Results are simulations: sign-off belongs to RTL/gate-level verification and the applicable "
-             "conformance tests.\n");
+  fmt::print(
+      "Results are simulations: sign-off belongs to RTL/gate-level verification and the applicable "
+      "conformance tests.\n");
   return exit_ok;
 }
 
@@ -120,7 +121,8 @@ void add_run_command(CLI::App& app) {
   auto opt = std::make_shared<run_options>();
   CLI::App* cmd = app.add_subcommand("run", "Run a scenario's golden model and bit-true datapath side by side");
   cmd->add_option("-c,--scenario", opt->scenario_path, "Scenario file (TOML)")->required();
-  cmd->add_option("--trials", opt->num_trials, "Number of trials (default: the scenario's)")->check(CLI::PositiveNumber);
+  cmd->add_option("--trials", opt->num_trials, "Number of trials (default: the scenario's)")
+      ->check(CLI::PositiveNumber);
   cmd->add_option("--threads", opt->num_threads, "Worker threads (default: all cores)");
   cmd->add_option("--json", opt->json_path, "Also write the results as JSON to this file");
   cmd->footer(

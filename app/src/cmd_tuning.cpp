@@ -1,17 +1,16 @@
 // fxmimo range, sweep and tune: from the side-by-side model to word lengths.
-#include "commands.hpp"
-#include "output_files.hpp"
-#include "progress.hpp"
-#include "scenario_input.hpp"
+#include <fmt/core.h>
 
+#include <charconv>
+
+#include "commands.hpp"
 #include "fxmimo/analysis/range.hpp"
 #include "fxmimo/analysis/sweep.hpp"
 #include "fxmimo/analysis/tune.hpp"
 #include "fxmimo/report/report.hpp"
-
-#include <fmt/core.h>
-
-#include <charconv>
+#include "output_files.hpp"
+#include "progress.hpp"
+#include "scenario_input.hpp"
 
 namespace fxmimo::cli {
 
@@ -33,16 +32,16 @@ int run_range(const range_options& opt) {
   progress_line progress("golden trials");
   const analysis::range_results r =
       analysis::profile_ranges(in.scen, in.config, in.trials_or_default(opt.num_trials), opt.num_threads,
-                              opt.overflow_prob, [&](std::size_t d, std::size_t t) { progress.update(d, t); });
+                               opt.overflow_prob, [&](std::size_t d, std::size_t t) { progress.update(d, t); });
   fmt::print("{}", report::format_range_table(r));
   if (!opt.json_path.empty()) write_file_atomically(opt.json_path, report::to_json(r).dump(2) + "\n");
   if (!opt.scenario_out.empty()) {
     const datapath::datapath_config proposed = analysis::apply_proposal(in.config, r);
-    write_file_atomically(opt.scenario_out,
-                          datapath::scenario_with_nodes(in.text, proposed, datapath::active_nodes(in.scen),
-                                                       fmt::format("Integer bits proposed by fxmimo range for overflow "
-                                                                   "probability {:g}; fraction bits kept",
-                                                                   opt.overflow_prob)));
+    write_file_atomically(opt.scenario_out, datapath::scenario_with_nodes(
+                                                in.text, proposed, datapath::active_nodes(in.scen),
+                                                fmt::format("Integer bits proposed by fxmimo range for overflow "
+                                                            "probability {:g}; fraction bits kept",
+                                                            opt.overflow_prob)));
     fmt::print("wrote {}\n", opt.scenario_out);
   }
   return exit_ok;
@@ -70,7 +69,7 @@ std::pair<int, int> parse_bit_range(const std::string& text) {
   };
   const std::string_view all(text);
   if (colon == std::string::npos ? !(parse(all, lo) && (hi = lo, true))
-                                 : !(parse(all.substr(0, colon), lo) && parse(all.substr(colon + 1), hi)) ) {
+                                 : !(parse(all.substr(0, colon), lo) && parse(all.substr(colon + 1), hi))) {
     throw usage_error(fmt::format("bad --bits '{}': expected A:B, e.g. 8:16", text));
   }
   if (lo > hi) throw usage_error(fmt::format("bad --bits '{}': A must not exceed B", text));
@@ -101,15 +100,18 @@ int run_sweep_command(const sweep_options& opt) {
   const auto nodes = parse_node_list(opt.nodes_text, in.scen);
   const auto [lo, hi] = parse_bit_range(opt.bits_text);
   analysis::sweep_axis axis = analysis::sweep_axis::frac;
-  if (opt.vary == "word") axis = analysis::sweep_axis::word;
-  else if (opt.vary == "int") axis = analysis::sweep_axis::int_bits;
-  else if (opt.vary != "frac") throw usage_error(fmt::format("bad --vary '{}': expected frac, word or int", opt.vary));
+  if (opt.vary == "word")
+    axis = analysis::sweep_axis::word;
+  else if (opt.vary == "int")
+    axis = analysis::sweep_axis::int_bits;
+  else if (opt.vary != "frac")
+    throw usage_error(fmt::format("bad --vary '{}': expected frac, word or int", opt.vary));
   progress_line progress("sweep trials");
   analysis::sweep_results r;
   try {
     r = analysis::run_sweep(in.scen, in.config, nodes, lo, hi, axis,
-                           analysis::first_trials(in.trials_or_default(opt.num_trials)), opt.num_threads,
-                           [&](std::size_t d, std::size_t t) { progress.update(d, t); });
+                            analysis::first_trials(in.trials_or_default(opt.num_trials)), opt.num_threads,
+                            [&](std::size_t d, std::size_t t) { progress.update(d, t); });
   } catch (const std::invalid_argument& e) {
     throw usage_error(e.what());
   }
@@ -168,10 +170,11 @@ int run_tune(const tune_options& opt) {
     throw usage_error("give --max-evm PCT or --modulation NAME (with --evm-budget FRACTION)");
   }
   const analysis::cost_model model = opt.cost == "area" ? analysis::cost_model::area : analysis::cost_model::bits;
-  if (opt.cost != "area" && opt.cost != "bits") throw usage_error(fmt::format("bad --cost '{}': expected bits or area", opt.cost));
-  const analysis::tune_results r = analysis::tune_widths(
-      in.scen, in.config, limits, model, in.trials_or_default(opt.num_trials), opt.num_threads, opt.overflow_prob,
-      opt.margin, show_status);
+  if (opt.cost != "area" && opt.cost != "bits")
+    throw usage_error(fmt::format("bad --cost '{}': expected bits or area", opt.cost));
+  const analysis::tune_results r =
+      analysis::tune_widths(in.scen, in.config, limits, model, in.trials_or_default(opt.num_trials), opt.num_threads,
+                            opt.overflow_prob, opt.margin, show_status);
   show_status("");
   fmt::print("{}", report::format_tune_table(r));
   write_file_atomically(opt.out_path, datapath::scenario_with_nodes(
@@ -193,7 +196,8 @@ void add_range_command(CLI::App& app) {
   cmd->add_option("--trials", opt->num_trials, "Golden trials (default: the scenario's)")->check(CLI::PositiveNumber);
   cmd->add_option("--threads", opt->num_threads, "Worker threads (default: all cores)");
   cmd->add_option("--overflow-prob", opt->overflow_prob, "Target probability that a value overflows")
-      ->capture_default_str()->check(CLI::Range(1e-15, 0.5));
+      ->capture_default_str()
+      ->check(CLI::Range(1e-15, 0.5));
   cmd->add_option("--json", opt->json_path, "Write the profile (with log2 histograms) as JSON");
   cmd->add_option("--write-scenario", opt->scenario_out, "Write the scenario with the proposed integer bits");
   cmd->footer(
@@ -208,12 +212,15 @@ void add_range_command(CLI::App& app) {
 
 void add_sweep_command(CLI::App& app) {
   auto opt = std::make_shared<sweep_options>();
-  CLI::App* cmd = app.add_subcommand("sweep", "Vary one node's width at a time and record SINR loss, EVM, SQNR, overflows");
+  CLI::App* cmd =
+      app.add_subcommand("sweep", "Vary one node's width at a time and record SINR loss, EVM, SQNR, overflows");
   cmd->add_option("-c,--scenario", opt->scenario_path, "Scenario file (TOML)")->required();
   cmd->add_option("--node", opt->nodes_text, "Node name, comma-separated names, or 'all'")->required();
   cmd->add_option("--bits", opt->bits_text, "Range A:B of the varied quantity")->required();
-  cmd->add_option("--vary", opt->vary, "frac (fraction bits), word (word bits) or int (integer bits)")->capture_default_str();
-  cmd->add_option("--trials", opt->num_trials, "Trials per point (default: the scenario's)")->check(CLI::PositiveNumber);
+  cmd->add_option("--vary", opt->vary, "frac (fraction bits), word (word bits) or int (integer bits)")
+      ->capture_default_str();
+  cmd->add_option("--trials", opt->num_trials, "Trials per point (default: the scenario's)")
+      ->check(CLI::PositiveNumber);
   cmd->add_option("--threads", opt->num_threads, "Worker threads (default: all cores)");
   cmd->add_option("--json", opt->json_path, "Write the points as JSON (input of fxmimo report)");
   cmd->add_option("--csv", opt->csv_path, "Write the points as CSV");
@@ -228,25 +235,33 @@ void add_sweep_command(CLI::App& app) {
 
 void add_tune_command(CLI::App& app) {
   auto opt = std::make_shared<tune_options>();
-  CLI::App* cmd = app.add_subcommand("tune", "Find the cheapest widths that keep SINR loss, EVM and overflows inside limits");
+  CLI::App* cmd =
+      app.add_subcommand("tune", "Find the cheapest widths that keep SINR loss, EVM and overflows inside limits");
   cmd->add_option("-c,--scenario", opt->scenario_path, "Scenario file (TOML)")->required();
   cmd->add_option("--max-sinr-loss", opt->max_sinr_loss_db, "Largest mean SINR loss, dB")->capture_default_str();
   cmd->add_option("--max-evm", opt->max_evm_pct, "Largest implementation EVM at the DAC, %");
   cmd->add_option("--modulation", opt->modulation,
                   "Take the EVM limit from 3GPP TS 38.104 for this modulation ('scenario' = the scenario's)");
   cmd->add_option("--evm-budget", opt->evm_budget, "Fraction of the 3GPP EVM limit given to the datapath")
-      ->capture_default_str()->check(CLI::Range(1e-6, 1.0));
-  cmd->add_option("--max-overflow-rate", opt->max_overflow_rate, "Largest overflow rate of any node")->capture_default_str();
+      ->capture_default_str()
+      ->check(CLI::Range(1e-6, 1.0));
+  cmd->add_option("--max-overflow-rate", opt->max_overflow_rate, "Largest overflow rate of any node")
+      ->capture_default_str();
   cmd->add_option("--max-power-error", opt->max_power_error_db,
                   "Largest transmit-power error of the fixed block against the golden one, dB (worst trial)")
       ->capture_default_str();
-  cmd->add_option("--cost", opt->cost, "bits (total word bits) or area (a stated proxy, README)")->capture_default_str();
-  cmd->add_option("--trials", opt->num_trials, "Trials per evaluation (default: the scenario's); the verification uses as many fresh ones")
+  cmd->add_option("--cost", opt->cost, "bits (total word bits) or area (a stated proxy, README)")
+      ->capture_default_str();
+  cmd->add_option("--trials", opt->num_trials,
+                  "Trials per evaluation (default: the scenario's); the verification uses as many fresh ones")
       ->check(CLI::PositiveNumber);
   cmd->add_option("--threads", opt->num_threads, "Worker threads (default: all cores)");
-  cmd->add_option("--overflow-prob", opt->overflow_prob, "Overflow probability for the integer bits")->capture_default_str();
-  cmd->add_option("--margin", opt->margin, "The search aims this fraction below the SINR-loss, EVM and power-error limits")
-      ->capture_default_str()->check(CLI::Range(0.0, 0.9));
+  cmd->add_option("--overflow-prob", opt->overflow_prob, "Overflow probability for the integer bits")
+      ->capture_default_str();
+  cmd->add_option("--margin", opt->margin,
+                  "The search aims this fraction below the SINR-loss, EVM and power-error limits")
+      ->capture_default_str()
+      ->check(CLI::Range(0.0, 0.9));
   cmd->add_option("-o,--out", opt->out_path, "Write the tuned scenario here")->required();
   cmd->add_option("--json", opt->json_path, "Write the result as JSON (input of fxmimo report)");
   cmd->footer(
@@ -254,7 +269,8 @@ void add_tune_command(CLI::App& app) {
       "Exit code 1 when the choice does not meet the limits on the fresh verification trials.\n"
       "Examples:\n"
       "  fxmimo tune -c examples/rooftop-64.toml --max-sinr-loss 0.05 --max-evm 0.5 -o tuned.toml\n"
-      "  fxmimo tune -c examples/tower-128-neumann.toml --modulation scenario --evm-budget 0.2 --cost area -o t.toml --json t.json");
+      "  fxmimo tune -c examples/tower-128-neumann.toml --modulation scenario --evm-budget 0.2 --cost area -o t.toml "
+      "--json t.json");
   cmd->callback([opt] { run_guarded("tune", [opt] { return run_tune(*opt); }); });
 }
 

@@ -17,8 +17,8 @@
 #include <vector>
 
 #include "commands.hpp"
-#include "fxmimo/golden/trial.hpp"
 #include "fxmimo/datapath/datapath.hpp"
+#include "fxmimo/golden/trial.hpp"
 #include "fxmimo/vectors/vector_set.hpp"
 #include "progress.hpp"
 #include "scenario_input.hpp"

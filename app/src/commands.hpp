@@ -4,7 +4,6 @@
 // (3 for an internal error).
 
 #include <CLI/CLI.hpp>
-
 #include <functional>
 #include <string>
 

@@ -2,11 +2,11 @@
 // Files the commands write: through a temporary name and a rename, so a failure never leaves a
 // file that looks complete.
 
-#include "commands.hpp"
-
 #include <filesystem>
 #include <fstream>
 #include <string>
+
+#include "commands.hpp"
 
 namespace fxmimo::cli {
 

@@ -1,9 +1,9 @@
 #include "scenario_input.hpp"
 
-#include "commands.hpp"
-
 #include <fstream>
 #include <sstream>
+
+#include "commands.hpp"
 
 namespace fxmimo::cli {
 

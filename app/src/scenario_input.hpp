@@ -2,10 +2,10 @@
 // A scenario file read once and parsed twice: the golden model's sections and the datapath's
 // [nodes] tables.
 
-#include "fxmimo/golden/scenario.hpp"
-#include "fxmimo/datapath/config.hpp"
-
 #include <string>
+
+#include "fxmimo/datapath/config.hpp"
+#include "fxmimo/golden/scenario.hpp"
 
 namespace fxmimo::cli {
 

@@ -11,9 +11,10 @@ namespace fxmimo::datapath {
 fixed_trial run_fixed_datapath(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
                                const golden::trial_data& trial) {
   if (config.nodes.size() != node_count()) {
-    throw std::logic_error(fmt::format("datapath_config holds {} nodes, the node table {}: build the configuration after "
-                                       "registering nodes",
-                                       config.nodes.size(), node_count()));
+    throw std::logic_error(
+        fmt::format("datapath_config holds {} nodes, the node table {}: build the configuration after "
+                    "registering nodes",
+                    config.nodes.size(), node_count()));
   }
   fixed_trial out;
   out.words.resize(node_count());

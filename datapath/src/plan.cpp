@@ -1,14 +1,14 @@
 // stages_for: the only place that reads the scenario's algorithm choice.
 #include "fxmimo/datapath/plan.hpp"
 
-#include "fxmimo/golden/precoder.hpp"
-#include "stages/stages.hpp"
-
 #include <fmt/core.h>
 
 #include <algorithm>
 #include <cmath>
 #include <stdexcept>
+
+#include "fxmimo/golden/precoder.hpp"
+#include "stages/stages.hpp"
 
 namespace fxmimo::datapath {
 
@@ -47,7 +47,8 @@ void datapath_plan::insert_before(node_id id, std::shared_ptr<stage> s, std::opt
                                   std::optional<node_id> replacement) {
   const auto at = std::find_if(stages.begin(), stages.end(), [&](const auto& st) { return st->outputs(id); });
   if (at == stages.end()) {
-    throw std::invalid_argument(fmt::format("insert_before: no stage of this datapath computes node {}", node_name(id)));
+    throw std::invalid_argument(
+        fmt::format("insert_before: no stage of this datapath computes node {}", node_name(id)));
   }
   const auto pos = stages.insert(at, std::move(s));
   if (replaced && replacement) {
@@ -73,8 +74,9 @@ datapath_plan stages_for(const golden::scenario& scen) {
   s.push_back(make_golden_converter(node_id::adc, [](const golden::trial_data& t) { return t.adc; }));
   s.push_back(make_golden_converter(node_id::pilot_rom, [](const golden::trial_data& t) { return t.pilots; }));
   s.push_back(detail::make_correlator());
-  s.push_back(make_golden_converter(
-      node_id::est_scale, [](const golden::trial_data& t) { return Eigen::MatrixXcd(t.est_scale.cast<std::complex<double>>()); }));
+  s.push_back(make_golden_converter(node_id::est_scale, [](const golden::trial_data& t) {
+    return Eigen::MatrixXcd(t.est_scale.cast<std::complex<double>>());
+  }));
   if (scen.estimator.kind == golden::estimator_kind::perfect) {
     // Perfect channel knowledge: the estimate is the golden channel converted into words.
     s.push_back(make_golden_converter(node_id::chan_est, [](const golden::trial_data& t) { return t.chan_est; }));
@@ -96,8 +98,8 @@ datapath_plan stages_for(const golden::scenario& scen) {
   s.push_back(detail::make_power(per_antenna));
   const double p_dig = golden::digital_power(scen);
   const double gain = std::sqrt(per_antenna ? p_dig / scen.array.num_antennas : p_dig);
-  s.push_back(make_golden_converter(node_id::tx_gain,
-                                    [gain](const golden::trial_data&) { return Eigen::MatrixXcd::Constant(1, 1, gain); }));
+  s.push_back(make_golden_converter(
+      node_id::tx_gain, [gain](const golden::trial_data&) { return Eigen::MatrixXcd::Constant(1, 1, gain); }));
   s.push_back(detail::make_weights());
   s.push_back(make_golden_converter(node_id::symbols, [](const golden::trial_data& t) { return t.symbols; }));
   s.push_back(detail::make_transmit());

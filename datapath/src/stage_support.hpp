@@ -3,15 +3,15 @@
 // chosen once per stage, conversions of golden values into words and the exact operations the
 // stages compose. Private to the datapath room.
 
+#include <algorithm>
+#include <initializer_list>
+#include <utility>
+
 #include "fxmimo/datapath/stage.hpp"
 #include "fxmimo/fixedpoint/accumulator.hpp"
 #include "fxmimo/fixedpoint/conversions.hpp"
 #include "fxmimo/fixedpoint/dot_kernel.hpp"
 #include "fxmimo/fixedpoint/width.hpp"
-
-#include <algorithm>
-#include <initializer_list>
-#include <utility>
 
 namespace fxmimo::datapath::detail {
 

@@ -6,13 +6,12 @@
 // The coefficients are this example's own invention: unit magnitude, a phase of
 // 0.4 degrees x sin(m), so the calibrated beam stays close to the uncalibrated one.
 // Built against the installed package: find_package(fxmimo), linking fxmimo::app.
+#include <cmath>
 #include <fxmimo/app/program.hpp>
 #include <fxmimo/datapath/plan.hpp>
 #include <fxmimo/datapath/stage_kit.hpp>
 #include <fxmimo/fixedpoint/complex.hpp>
 #include <fxmimo/fixedpoint/width.hpp>
-
-#include <cmath>
 #include <numbers>
 
 namespace d = fxmimo::datapath;
@@ -44,8 +43,7 @@ class calibration_stage final : public d::stage {
   void compute(d::fixed_context& ctx) const override {
     const d::word_matrix& x = ctx.words_of(source(0, 0));
     const d::word_matrix& cal = ctx.words_of(source(0, 1));
-    const int product_frac =
-        ctx.config[source(0, 0)].spec.fmt.frac_bits + ctx.config[source(0, 1)].spec.fmt.frac_bits;
+    const int product_frac = ctx.config[source(0, 0)].spec.fmt.frac_bits + ctx.config[source(0, 1)].spec.fmt.frac_bits;
     d::word_matrix& out = ctx.words[d::index_of(output(0))];
     fp::counters& counters = ctx.counters[d::index_of(output(0))];
     out = d::word_matrix(x.rows, x.cols, true);
@@ -83,7 +81,8 @@ int main(int argc, char** argv) {
   d::register_plan_extension([cal_rom, tx_cal](d::datapath_plan& plan, const fxmimo::golden::scenario& scen) {
     const Eigen::MatrixXcd table = calibration_table(scen.array.num_antennas);
     plan.insert_before(d::node_id::dac, d::make_golden_converter(cal_rom, [table](const auto&) { return table; }));
-    plan.insert_before(d::node_id::dac, std::make_shared<calibration_stage>(tx_cal, cal_rom), d::node_id::tx_acc, tx_cal);
+    plan.insert_before(d::node_id::dac, std::make_shared<calibration_stage>(tx_cal, cal_rom), d::node_id::tx_acc,
+                       tx_cal);
   });
   // 3. Every fxmimo command, on the extended datapath.
   return fxmimo::app::run_program(argc, argv);

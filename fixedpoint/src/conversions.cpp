@@ -15,9 +15,7 @@ binary_rational decompose(double v) {
 }
 
 decimal_value parse_decimal(std::string_view text) {
-  auto bad = [&](const char* why) {
-    return std::invalid_argument("bad number '" + std::string(text) + "': " + why);
-  };
+  auto bad = [&](const char* why) { return std::invalid_argument("bad number '" + std::string(text) + "': " + why); };
   std::size_t i = 0;
   bool negative = false;
   if (i < text.size() && (text[i] == '+' || text[i] == '-')) negative = text[i++] == '-';
@@ -64,7 +62,8 @@ std::string exact_decimal(const big_int& raw, int frac) {
   big_int scaled = negative ? big_int(-raw) : raw;
   for (int i = 0; i < frac; ++i) scaled *= 5;
   std::string digits = scaled.str();
-  if (digits.size() <= static_cast<std::size_t>(frac)) digits.insert(0, static_cast<std::size_t>(frac) + 1 - digits.size(), '0');
+  if (digits.size() <= static_cast<std::size_t>(frac))
+    digits.insert(0, static_cast<std::size_t>(frac) + 1 - digits.size(), '0');
   std::string out = digits.substr(0, digits.size() - static_cast<std::size_t>(frac)) + "." +
                     digits.substr(digits.size() - static_cast<std::size_t>(frac));
   while (out.back() == '0') out.pop_back();

@@ -9,10 +9,14 @@ big_int round_with_sticky(const big_int& r_floor, bool exact, int guard_bits, ro
   const big_int rest = r_floor - shift_left(q, guard_bits);
   const big_int half = pow2<big_int>(guard_bits - 1);
   remainder_class f;
-  if (rest == 0) f = exact ? remainder_class::zero : remainder_class::below_half;
-  else if (rest < half) f = remainder_class::below_half;
-  else if (rest == half) f = exact ? remainder_class::half : remainder_class::above_half;
-  else f = remainder_class::above_half;
+  if (rest == 0)
+    f = exact ? remainder_class::zero : remainder_class::below_half;
+  else if (rest < half)
+    f = remainder_class::below_half;
+  else if (rest == half)
+    f = exact ? remainder_class::half : remainder_class::above_half;
+  else
+    f = remainder_class::above_half;
   inexact = f != remainder_class::zero;
   return apply_rounding(q, f, false, mode);
 }

@@ -104,7 +104,8 @@ std::string to_q_string(const format& fmt) {
 }
 
 std::string describe(const format& fmt) {
-  return to_q_string(fmt) + " (" + std::to_string(fmt.word_bits) + (fmt.is_signed ? " bits signed)" : " bits unsigned)");
+  return to_q_string(fmt) + " (" + std::to_string(fmt.word_bits) +
+         (fmt.is_signed ? " bits signed)" : " bits unsigned)");
 }
 
 }  // namespace fxmimo::fixedpoint

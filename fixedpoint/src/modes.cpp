@@ -1,8 +1,8 @@
 #include "fxmimo/fixedpoint/modes.hpp"
 
-#include "fxmimo/fixedpoint/accumulator.hpp"
-
 #include <utility>
+
+#include "fxmimo/fixedpoint/accumulator.hpp"
 
 namespace fxmimo::fixedpoint {
 

@@ -56,9 +56,12 @@ std::optional<big_int> parse_word(std::string_view digits, int base, const forma
   big_int pattern = 0;
   for (char ch : digits) {
     int d = -1;
-    if (ch >= '0' && ch <= '9') d = ch - '0';
-    else if (ch >= 'a' && ch <= 'f') d = ch - 'a' + 10;
-    else if (ch >= 'A' && ch <= 'F') d = ch - 'A' + 10;
+    if (ch >= '0' && ch <= '9')
+      d = ch - '0';
+    else if (ch >= 'a' && ch <= 'f')
+      d = ch - 'a' + 10;
+    else if (ch >= 'A' && ch <= 'F')
+      d = ch - 'A' + 10;
     if (d < 0 || d >= base) return std::nullopt;
     pattern = pattern * base + d;
   }

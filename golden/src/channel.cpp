@@ -9,7 +9,8 @@ Eigen::VectorXcd array_response(const array_config& array, double azimuth, doubl
   const int num_ant = array.num_antennas;
   const int num_columns = array.layout == array_layout::upa ? array.num_columns : num_ant;
   const double two_pi_d = 2.0 * std::numbers::pi * array.spacing;
-  const double column_phase = two_pi_d * std::sin(azimuth) * (array.layout == array_layout::upa ? std::cos(elevation) : 1.0);
+  const double column_phase =
+      two_pi_d * std::sin(azimuth) * (array.layout == array_layout::upa ? std::cos(elevation) : 1.0);
   const double row_phase = two_pi_d * std::sin(elevation);
   Eigen::VectorXcd a(num_ant);
   for (int i_ant = 0; i_ant < num_ant; ++i_ant) {
@@ -41,7 +42,8 @@ Eigen::VectorXcd correlate_exponential(const array_config& array, double r, cons
   return x;
 }
 
-Eigen::MatrixXcd draw_channel(const scenario& scen, const large_scale& gains, int i_bs, int i_cell, random_stream& rng) {
+Eigen::MatrixXcd draw_channel(const scenario& scen, const large_scale& gains, int i_bs, int i_cell,
+                              random_stream& rng) {
   const int num_ant = scen.array.num_antennas;
   const int num_users = scen.cells.num_users;
   Eigen::MatrixXcd h(num_ant, num_users);
@@ -58,21 +60,19 @@ Eigen::MatrixXcd draw_channel(const scenario& scen, const large_scale& gains, in
       z(i_ant) = rng.complex_normal();
     }
     switch (scen.channel.model) {
-    case channel_model::rayleigh:
-      h.col(i_user) = amplitude * z;
-      break;
-    case channel_model::correlated:
-      h.col(i_user) = amplitude * correlate_exponential(scen.array, scen.channel.correlation, z);
-      break;
-    case channel_model::rician: {
-      const Eigen::VectorXcd a = array_response(scen.array, gains.azimuth[idx], gains.elevation[idx]);
-      h.col(i_user) = amplitude * (std::sqrt(kappa / (kappa + 1.0)) * std::polar(1.0, los_phase) * a +
-                                   std::sqrt(1.0 / (kappa + 1.0)) * z);
-      break;
-    }
+      case channel_model::rayleigh: h.col(i_user) = amplitude * z; break;
+      case channel_model::correlated:
+        h.col(i_user) = amplitude * correlate_exponential(scen.array, scen.channel.correlation, z);
+        break;
+      case channel_model::rician: {
+        const Eigen::VectorXcd a = array_response(scen.array, gains.azimuth[idx], gains.elevation[idx]);
+        h.col(i_user) = amplitude * (std::sqrt(kappa / (kappa + 1.0)) * std::polar(1.0, los_phase) * a +
+                                     std::sqrt(1.0 / (kappa + 1.0)) * z);
+        break;
+      }
     }
   }
   return h;
 }
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

@@ -73,4 +73,4 @@ Eigen::VectorXd estimation_scales(const scenario& scen, const large_scale& gains
   return scale;
 }
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

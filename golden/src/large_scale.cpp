@@ -10,10 +10,8 @@ namespace {
 
 // Centre, first ring counter-clockwise from angle 0, second ring counter-clockwise from angle 0.
 constexpr std::array<std::pair<int, int>, 19> hex_layout = {{
-    {0, 0},
-    {1, 0}, {0, 1}, {-1, 1}, {-1, 0}, {0, -1}, {1, -1},
-    {2, 0}, {1, 1}, {0, 2}, {-1, 2}, {-2, 2}, {-2, 1}, {-2, 0}, {-1, -1}, {0, -2}, {1, -2},
-    {2, -2}, {2, -1},
+    {0, 0},  {1, 0},  {0, 1},  {-1, 1}, {-1, 0},  {0, -1}, {1, -1}, {2, 0},  {1, 1},  {0, 2},
+    {-1, 2}, {-2, 2}, {-2, 1}, {-2, 0}, {-1, -1}, {0, -2}, {1, -2}, {2, -2}, {2, -1},
 }};
 
 int positive_mod(int value, int modulus) { return ((value % modulus) + modulus) % modulus; }
@@ -34,7 +32,7 @@ bool inside_hexagon(double x, double y, double radius) {
   return ax <= 0.5 * std::sqrt(3.0) * radius && std::abs(y) <= radius - ax / std::sqrt(3.0);
 }
 
-} // namespace
+}  // namespace
 
 std::pair<int, int> hex_cell_axial(int i_cell) { return hex_layout.at(static_cast<std::size_t>(i_cell)); }
 
@@ -112,4 +110,4 @@ large_scale draw_large_scale(const scenario& scen, random_stream& rng) {
   return ls;
 }
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

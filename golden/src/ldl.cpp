@@ -54,4 +54,4 @@ Eigen::MatrixXcd ldl_inverse(const ldl_factors& factors) {
   return inv;
 }
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

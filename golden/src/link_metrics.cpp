@@ -1,9 +1,9 @@
 #include "fxmimo/golden/link_metrics.hpp"
 
+#include <fmt/format.h>
+
 #include <cmath>
 #include <stdexcept>
-
-#include <fmt/format.h>
 
 #include "fxmimo/golden/precoder.hpp"
 #include "fxmimo/golden/trial.hpp"
@@ -27,7 +27,7 @@ link_metrics measure_link(const Eigen::MatrixXcd& received, const Eigen::MatrixX
       error_power += std::norm(received(i_user, i_sym) - g * symbols(i_user, i_sym));
     }
     error_power /= static_cast<double>(num_sym);
-    const double signal_power = std::norm(g); // times E|s|^2 = 1
+    const double signal_power = std::norm(g);  // times E|s|^2 = 1
     const double sinr = signal_power / (error_power + noise_power);
     const double evm = std::sqrt(error_power / signal_power);
     m.gain.push_back(g);
@@ -71,4 +71,4 @@ double implementation_evm(const Eigen::MatrixXcd& x_fixed, const Eigen::MatrixXc
   return (a * x_fixed - x_golden).norm() / x_golden.norm();
 }
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

@@ -35,4 +35,4 @@ double neumann_spectral_radius(const Eigen::MatrixXcd& a) {
 
 bool neumann_converges(const Eigen::MatrixXcd& a) { return neumann_spectral_radius(a) < 1.0; }
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

@@ -30,4 +30,4 @@ Eigen::MatrixXcd pilot_matrix(const scenario& scen, int i_cell) {
   return family.middleCols(first, num_users);
 }
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

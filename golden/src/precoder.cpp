@@ -53,19 +53,19 @@ precoder_output compute_precoder(const scenario& scen, const Eigen::MatrixXcd& c
       out.gram.diagonal().array() += scen.rzf_regularizer();
     }
     switch (cfg.inversion) {
-    case inversion_kind::ldl:
-      out.ldl = ldl_decompose(out.gram);
-      out.inverse = ldl_inverse(*out.ldl);
-      break;
-    case inversion_kind::neumann:
-      out.inverse = neumann_inverse(out.gram, cfg.neumann_terms);
-      out.neumann_radius = neumann_spectral_radius(out.gram);
-      break;
-    case inversion_kind::reference: {
-      const Eigen::Index n = out.gram.rows();
-      out.inverse = out.gram.ldlt().solve(Eigen::MatrixXcd::Identity(n, n));
-      break;
-    }
+      case inversion_kind::ldl:
+        out.ldl = ldl_decompose(out.gram);
+        out.inverse = ldl_inverse(*out.ldl);
+        break;
+      case inversion_kind::neumann:
+        out.inverse = neumann_inverse(out.gram, cfg.neumann_terms);
+        out.neumann_radius = neumann_spectral_radius(out.gram);
+        break;
+      case inversion_kind::reference: {
+        const Eigen::Index n = out.gram.rows();
+        out.inverse = out.gram.ldlt().solve(Eigen::MatrixXcd::Identity(n, n));
+        break;
+      }
     }
     out.precoder = (chan_est * out.inverse).conjugate();
   }
@@ -78,4 +78,4 @@ precoder_output compute_precoder(const scenario& scen, const Eigen::MatrixXcd& c
   return out;
 }
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

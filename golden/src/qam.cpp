@@ -19,15 +19,15 @@ double qam_scale(int bits) {
   return std::sqrt(3.0 / (2.0 * (num_points - 1.0)));
 }
 
-} // namespace
+}  // namespace
 
 int bits_per_symbol(modulation mod) {
   switch (mod) {
-  case modulation::qpsk: return 2;
-  case modulation::qam16: return 4;
-  case modulation::qam64: return 6;
-  case modulation::qam256: return 8;
-  case modulation::qam1024: return 10;
+    case modulation::qpsk: return 2;
+    case modulation::qam16: return 4;
+    case modulation::qam64: return 6;
+    case modulation::qam256: return 8;
+    case modulation::qam1024: return 10;
   }
   return 2;
 }
@@ -66,4 +66,4 @@ std::uint32_t qam_demap(modulation mod, std::complex<double> point) {
   return (axis_label(point.real()) << half) | axis_label(point.imag());
 }
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

@@ -9,7 +9,7 @@ namespace {
 constexpr std::uint64_t golden_gamma = 0x9e3779b97f4a7c15ULL;
 
 std::uint64_t rotl(std::uint64_t x, int k) { return (x << k) | (x >> (64 - k)); }
-} // namespace
+}  // namespace
 
 std::uint64_t splitmix64_mix(std::uint64_t x) {
   x ^= x >> 30;
@@ -21,8 +21,7 @@ std::uint64_t splitmix64_mix(std::uint64_t x) {
 }
 
 std::uint64_t trial_seed(std::uint64_t scenario_seed, std::uint64_t trial_index) {
-  return splitmix64_mix(splitmix64_mix(scenario_seed + golden_gamma) ^
-                        splitmix64_mix(trial_index + 2 * golden_gamma));
+  return splitmix64_mix(splitmix64_mix(scenario_seed + golden_gamma) ^ splitmix64_mix(trial_index + 2 * golden_gamma));
 }
 
 random_stream::random_stream(std::uint64_t seed) {
@@ -51,9 +50,7 @@ std::uint64_t random_stream::next_u64() {
   return result;
 }
 
-double random_stream::uniform() {
-  return static_cast<double>(next_u64() >> 11) * 0x1.0p-53;
-}
+double random_stream::uniform() { return static_cast<double>(next_u64() >> 11) * 0x1.0p-53; }
 
 double random_stream::uniform_open_zero() { return 1.0 - uniform(); }
 
@@ -75,4 +72,4 @@ std::complex<double> random_stream::complex_normal() {
 
 double random_stream::real_normal() { return std::numbers::sqrt2 * complex_normal().real(); }
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

@@ -1,5 +1,8 @@
 #include "fxmimo/golden/scenario.hpp"
 
+#include <fmt/format.h>
+#include <toml++/toml.h>
+
 #include <algorithm>
 #include <cmath>
 #include <fstream>
@@ -9,17 +12,15 @@
 #include <sstream>
 #include <utility>
 
-#include <fmt/format.h>
-#include <toml++/toml.h>
-
 #include "fxmimo/golden/large_scale.hpp"
 
 namespace fxmimo::golden {
 
-scenario_error::scenario_error(std::string file_name, int line_number, std::string key_name,
-                               const std::string& message)
+scenario_error::scenario_error(std::string file_name, int line_number, std::string key_name, const std::string& message)
     : std::runtime_error(fmt::format("{}:{}: {}: {}", file_name, line_number, key_name, message)),
-      file(std::move(file_name)), line(line_number), key(std::move(key_name)) {}
+      file(std::move(file_name)),
+      line(line_number),
+      key(std::move(key_name)) {}
 
 double scenario::pilot_snr() const { return std::pow(10.0, pilots.snr_db / 10.0); }
 double scenario::downlink_snr() const { return std::pow(10.0, data.snr_db / 10.0); }
@@ -38,11 +39,11 @@ int scenario::pilot_group(int i_cell) const {
 
 std::string_view modulation_name(modulation mod) {
   switch (mod) {
-  case modulation::qpsk: return "qpsk";
-  case modulation::qam16: return "16qam";
-  case modulation::qam64: return "64qam";
-  case modulation::qam256: return "256qam";
-  case modulation::qam1024: return "1024qam";
+    case modulation::qpsk: return "qpsk";
+    case modulation::qam16: return "16qam";
+    case modulation::qam64: return "64qam";
+    case modulation::qam256: return "256qam";
+    case modulation::qam1024: return "1024qam";
   }
   return "?";
 }
@@ -61,7 +62,7 @@ int line_of(const toml::source_region& region) { return static_cast<int>(region.
 // Reads one table of the scenario, remembering which keys were consumed so that leftovers can be
 // reported as unknown, and where each value sits in the file.
 class table_reader {
-public:
+ public:
   table_reader(const std::string& file, const toml::table& table, std::string prefix)
       : file_(file), table_(table), prefix_(std::move(prefix)) {}
 
@@ -71,7 +72,9 @@ public:
     throw scenario_error(file_, std::max(line, 1), key(name), message);
   }
 
-  std::string key(std::string_view name) const { return prefix_.empty() ? std::string(name) : prefix_ + "." + std::string(name); }
+  std::string key(std::string_view name) const {
+    return prefix_.empty() ? std::string(name) : prefix_ + "." + std::string(name);
+  }
 
   bool has(std::string_view name) const { return table_.contains(name); }
 
@@ -126,7 +129,8 @@ public:
   }
 
   template <typename Enum>
-  std::optional<Enum> choice(std::string_view name, std::initializer_list<std::pair<std::string_view, Enum>> options) const {
+  std::optional<Enum> choice(std::string_view name,
+                             std::initializer_list<std::pair<std::string_view, Enum>> options) const {
     const toml::node* node = table_.get(name);
     if (node == nullptr) {
       return std::nullopt;
@@ -168,7 +172,7 @@ public:
   const toml::table& table() const { return table_; }
   const std::string& file() const { return file_; }
 
-private:
+ private:
   const std::string& file_;
   const toml::table& table_;
   std::string prefix_;
@@ -187,8 +191,8 @@ const toml::table& sub_table(const table_reader& root, std::string_view name) {
 }
 
 // Reads a flat array of numbers within [lo, hi], failing at the offending element's line.
-std::vector<double> number_list(const table_reader& reader, std::string_view name, const toml::node& node,
-                                double lo, double hi) {
+std::vector<double> number_list(const table_reader& reader, std::string_view name, const toml::node& node, double lo,
+                                double hi) {
   if (!node.is_array()) {
     reader.fail(name, "expected an array of numbers");
   }
@@ -233,8 +237,8 @@ void read_array(const table_reader& root, scenario& scen) {
 
 void read_cells(const table_reader& root, scenario& scen) {
   const table_reader r(root.file(), sub_table(root, "cells"), "cells");
-  r.only({"count", "users_per_cell", "radius_m", "min_distance_m", "pathloss_exponent", "shadowing_db",
-          "user_gains_db", "cross_gain_db", "gains_db"});
+  r.only({"count", "users_per_cell", "radius_m", "min_distance_m", "pathloss_exponent", "shadowing_db", "user_gains_db",
+          "cross_gain_db", "gains_db"});
   cells_config& cells = scen.cells;
   const bool explicit_matrix = r.has("gains_db");
   const bool per_user = r.has("user_gains_db");
@@ -291,7 +295,8 @@ void read_cells(const table_reader& root, scenario& scen) {
       r.fail("count", fmt::format("count = {} but gains_db describes {} cells", *count, num_cells));
     }
     if (users && *users != num_users) {
-      r.fail("users_per_cell", fmt::format("users_per_cell = {} but gains_db has {} users per cell", *users, num_users));
+      r.fail("users_per_cell",
+             fmt::format("users_per_cell = {} but gains_db has {} users per cell", *users, num_users));
     }
     cells.num_cells = num_cells;
     cells.num_users = num_users;
@@ -306,8 +311,8 @@ void read_cells(const table_reader& root, scenario& scen) {
     reject_geometry("user_gains_db");
     cells.user_gains_db = number_list(r, "user_gains_db", *r.table().get("user_gains_db"), gain_db_lo, gain_db_hi);
     if (static_cast<int>(cells.user_gains_db.size()) != cells.num_users) {
-      r.fail("user_gains_db", fmt::format("needs {} values (users_per_cell), got {}", cells.num_users,
-                                          cells.user_gains_db.size()));
+      r.fail("user_gains_db",
+             fmt::format("needs {} values (users_per_cell), got {}", cells.num_users, cells.user_gains_db.size()));
     }
     if (cells.num_cells > 1) {
       cells.cross_gain_db = r.required("cross_gain_db", r.number("cross_gain_db", gain_db_lo, gain_db_hi));
@@ -382,8 +387,8 @@ void read_pilots(const table_reader& root, scenario& scen) {
   }
   p.length = static_cast<int>(r.integer("length", 1, 8192).value_or(default_length));
   if (p.length < needed) {
-    r.fail("length", fmt::format("{} orthogonal pilots needed (users_per_cell {} x reuse {}) but length is {}",
-                                 needed, scen.cells.num_users, p.reuse, p.length));
+    r.fail("length", fmt::format("{} orthogonal pilots needed (users_per_cell {} x reuse {}) but length is {}", needed,
+                                 scen.cells.num_users, p.reuse, p.length));
   }
   if (p.sequence == pilot_sequence::walsh && (p.length & (p.length - 1)) != 0) {
     r.fail("length", fmt::format("Walsh–Hadamard sequences need a power-of-two length, not {}", p.length));
@@ -393,17 +398,18 @@ void read_pilots(const table_reader& root, scenario& scen) {
 void read_estimator(const table_reader& root, scenario& scen) {
   const table_reader r(root.file(), sub_table(root, "estimator"), "estimator");
   r.only({"kind"});
-  scen.estimator.kind = r.choice<estimator_kind>("kind", {{"ls", estimator_kind::ls},
-                                                          {"mmse", estimator_kind::mmse},
-                                                          {"perfect", estimator_kind::perfect}})
-                            .value_or(estimator_kind::mmse);
+  scen.estimator.kind =
+      r.choice<estimator_kind>(
+           "kind", {{"ls", estimator_kind::ls}, {"mmse", estimator_kind::mmse}, {"perfect", estimator_kind::perfect}})
+          .value_or(estimator_kind::mmse);
 }
 
 void read_precoder(const table_reader& root, scenario& scen) {
   const table_reader r(root.file(), sub_table(root, "precoder"), "precoder");
   r.only({"kind", "inversion", "neumann_terms", "regularizer", "normalization"});
   precoder_config& pc = scen.precoder;
-  pc.kind = r.choice<precoder_kind>("kind", {{"mf", precoder_kind::mf}, {"zf", precoder_kind::zf}, {"rzf", precoder_kind::rzf}})
+  pc.kind = r.choice<precoder_kind>("kind",
+                                    {{"mf", precoder_kind::mf}, {"zf", precoder_kind::zf}, {"rzf", precoder_kind::rzf}})
                 .value_or(precoder_kind::zf);
   if (pc.kind == precoder_kind::mf) {
     for (std::string_view name : {"inversion", "neumann_terms", "regularizer"}) {
@@ -461,7 +467,7 @@ void read_frontend(const table_reader& root, scenario& scen) {
   scen.frontend.dac_backoff_db = r.number("dac_backoff_db", -20.0, 60.0).value_or(12.0);
 }
 
-} // namespace
+}  // namespace
 
 scenario parse_scenario_text(std::string_view toml_text, std::string source_name) {
   toml::table root_table;
@@ -490,8 +496,8 @@ scenario parse_scenario_text(std::string_view toml_text, std::string source_name
                                scen.array.num_antennas * scen.cells.num_users;
   if (entries > (std::int64_t{1} << 26)) {
     const table_reader cells(source_name, sub_table(root, "cells"), "cells");
-    cells.fail("users_per_cell", fmt::format("cells^2 x antennas x users = {} channel coefficients per trial exceeds 2^26",
-                                     entries));
+    cells.fail("users_per_cell",
+               fmt::format("cells^2 x antennas x users = {} channel coefficients per trial exceeds 2^26", entries));
   }
   read_channel(root, scen);
   read_pilots(root, scen);
@@ -512,4 +518,4 @@ scenario load_scenario_file(const std::string& path) {
   return parse_scenario_text(text.str(), path);
 }
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

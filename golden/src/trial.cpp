@@ -14,11 +14,9 @@ namespace {
 // x = weights * symbols. Eigen's blocked product: the summation order over users differs from the
 // datapath's sequential MAC only at the level of double rounding (about 1e-16 relative), far below
 // any fixed-point effect, and it keeps the golden trial fast.
-Eigen::MatrixXcd precode(const Eigen::MatrixXcd& weights, const Eigen::MatrixXcd& symbols) {
-  return weights * symbols;
-}
+Eigen::MatrixXcd precode(const Eigen::MatrixXcd& weights, const Eigen::MatrixXcd& symbols) { return weights * symbols; }
 
-} // namespace
+}  // namespace
 
 trial_data run_trial(const scenario& scen, std::uint64_t trial_index) {
   trial_data td;
@@ -91,4 +89,4 @@ trial_data run_trial(const scenario& scen, std::uint64_t trial_index) {
   return td;
 }
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

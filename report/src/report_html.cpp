@@ -7,8 +7,6 @@
 // line dash, never by colour alone, and every data point carries a <title> with its value.
 #include "fxmimo/report/report_html.hpp"
 
-#include "fxmimo/datapath/config.hpp"
-
 #include <fmt/core.h>
 
 #include <algorithm>
@@ -22,6 +20,8 @@
 #include <set>
 #include <sstream>
 #include <string_view>
+
+#include "fxmimo/datapath/config.hpp"
 
 namespace fxmimo::report {
 
@@ -308,7 +308,7 @@ struct xy_chart {
   std::string title;
   std::string x_label;
   std::string y_label;
-  bool log_y = false;  ///< log10 axis; values <= 0 sit on a separate floor row labelled "0"
+  bool log_y = false;                ///< log10 axis; values <= 0 sit on a separate floor row labelled "0"
   std::vector<chart_series> series;  ///< at most two: solid with filled circles, dashed with open squares
 };
 
@@ -318,8 +318,8 @@ std::string svg_open(std::string& out, const std::string& id, const std::string&
       "<svg class=\"chart\" id=\"{}\" data-chart=\"{}\" data-node=\"{}\" width=\"{}\" height=\"{}\" "
       "viewBox=\"0 0 {} {}\" role=\"img\" aria-label=\"{}\">\n<title>{}</title>\n",
       esc(id), esc(kind), esc(node), chart_width, chart_height, chart_width, chart_height, esc(title), esc(title));
-  out += fmt::format("<rect x=\"0\" y=\"0\" width=\"{}\" height=\"{}\" fill=\"#fff\" stroke=\"none\"/>\n",
-                     chart_width, chart_height);
+  out += fmt::format("<rect x=\"0\" y=\"0\" width=\"{}\" height=\"{}\" fill=\"#fff\" stroke=\"none\"/>\n", chart_width,
+                     chart_height);
   out += fmt::format("<text class=\"chart-title\" x=\"{}\" y=\"17\" text-anchor=\"middle\">{}</text>\n",
                      px(chart_width / 2), esc(title));
   return out;
@@ -330,17 +330,19 @@ void draw_axes(std::string& out, const plot_area& pa, const axis& xa, const line
                const linear_map& my, const std::string& x_label, const std::string& y_label) {
   for (const tick& t : ya.ticks) {
     const double y = my(t.value);
-    out += fmt::format("<line class=\"grid\" x1=\"{}\" y1=\"{}\" x2=\"{}\" y2=\"{}\" stroke=\"#c8c8c8\" "
-                       "stroke-width=\"0.6\"/>\n",
-                       px(pa.left), px(y), px(pa.right), px(y));
+    out += fmt::format(
+        "<line class=\"grid\" x1=\"{}\" y1=\"{}\" x2=\"{}\" y2=\"{}\" stroke=\"#c8c8c8\" "
+        "stroke-width=\"0.6\"/>\n",
+        px(pa.left), px(y), px(pa.right), px(y));
   }
-  out += fmt::format("<rect class=\"plot-frame\" x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"none\" "
-                     "stroke=\"#000\" stroke-width=\"1\"/>\n",
-                     px(pa.left), px(pa.top), px(pa.right - pa.left), px(pa.bottom - pa.top));
+  out += fmt::format(
+      "<rect class=\"plot-frame\" x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"none\" "
+      "stroke=\"#000\" stroke-width=\"1\"/>\n",
+      px(pa.left), px(pa.top), px(pa.right - pa.left), px(pa.bottom - pa.top));
   for (const tick& t : xa.ticks) {
     const double x = mx(t.value);
-    out += fmt::format("<line class=\"tick-x\" x1=\"{0}\" y1=\"{1}\" x2=\"{0}\" y2=\"{2}\" stroke=\"#000\"/>\n",
-                       px(x), px(pa.bottom), px(pa.bottom + 4));
+    out += fmt::format("<line class=\"tick-x\" x1=\"{0}\" y1=\"{1}\" x2=\"{0}\" y2=\"{2}\" stroke=\"#000\"/>\n", px(x),
+                       px(pa.bottom), px(pa.bottom + 4));
     if (!t.label.empty()) {
       out += fmt::format("<text class=\"tick-label-x\" x=\"{}\" y=\"{}\" text-anchor=\"middle\">{}</text>\n", px(x),
                          px(pa.bottom + 16), esc(t.label));
@@ -368,14 +370,16 @@ void draw_axes(std::string& out, const plot_area& pa, const axis& xa, const line
 void draw_marker(std::string& out, std::size_t s, double x, double y, bool missing, const std::string& title) {
   const std::string cls = fmt::format("marker s{}{}", s + 1, missing ? " missing" : "");
   if (s == 0) {
-    out += fmt::format("<circle class=\"{}\" cx=\"{}\" cy=\"{}\" r=\"3.5\" fill=\"{}\" stroke=\"#000\" "
-                       "stroke-width=\"1.2\"><title>{}</title></circle>\n",
-                       cls, px(x), px(y), missing ? "#fff" : "#000", esc(title));
+    out += fmt::format(
+        "<circle class=\"{}\" cx=\"{}\" cy=\"{}\" r=\"3.5\" fill=\"{}\" stroke=\"#000\" "
+        "stroke-width=\"1.2\"><title>{}</title></circle>\n",
+        cls, px(x), px(y), missing ? "#fff" : "#000", esc(title));
   } else {
     // Unfilled, so a filled circle of the first series at the same place shows through.
-    out += fmt::format("<rect class=\"{}\" x=\"{}\" y=\"{}\" width=\"7\" height=\"7\" fill=\"none\" stroke=\"#000\" "
-                       "stroke-width=\"1.4\"><title>{}</title></rect>\n",
-                       cls, px(x - 3.5), px(y - 3.5), esc(title));
+    out += fmt::format(
+        "<rect class=\"{}\" x=\"{}\" y=\"{}\" width=\"7\" height=\"7\" fill=\"none\" stroke=\"#000\" "
+        "stroke-width=\"1.4\"><title>{}</title></rect>\n",
+        cls, px(x - 3.5), px(y - 3.5), esc(title));
   }
 }
 
@@ -384,7 +388,7 @@ std::string dash_of(std::size_t s) { return s == 0 ? "" : " stroke-dasharray=\"5
 /// One entry of a chart's legend: a line sample in the series' dash with its marker.
 struct legend_item {
   std::string name;
-  std::size_t series;           ///< 0: solid, filled circle; 1: dashed, open square
+  std::size_t series;  ///< 0: solid, filled circle; 1: dashed, open square
   double stroke_width;
   bool with_marker = true;
 };
@@ -393,15 +397,17 @@ struct legend_item {
 /// text width (6.2 px per character at 11 px sans-serif).
 void draw_legend(std::string& out, const std::vector<legend_item>& items, double x, double y) {
   for (const legend_item& item : items) {
-    out += fmt::format("<g class=\"legend-item\"><line x1=\"{0}\" y1=\"{1}\" x2=\"{2}\" y2=\"{1}\" stroke=\"#000\" "
-                       "stroke-width=\"{3}\"{4}/>",
-                       px(x), px(y), px(x + 24), item.stroke_width, dash_of(item.series));
+    out += fmt::format(
+        "<g class=\"legend-item\"><line x1=\"{0}\" y1=\"{1}\" x2=\"{2}\" y2=\"{1}\" stroke=\"#000\" "
+        "stroke-width=\"{3}\"{4}/>",
+        px(x), px(y), px(x + 24), item.stroke_width, dash_of(item.series));
     if (item.with_marker && item.series == 0) {
       out += fmt::format("<circle cx=\"{}\" cy=\"{}\" r=\"3.5\" fill=\"#000\" stroke=\"#000\"/>", px(x + 12), px(y));
     } else if (item.with_marker) {
-      out += fmt::format("<rect x=\"{}\" y=\"{}\" width=\"7\" height=\"7\" fill=\"#fff\" stroke=\"#000\" "
-                         "stroke-width=\"1.4\"/>",
-                         px(x + 8.5), px(y - 3.5));
+      out += fmt::format(
+          "<rect x=\"{}\" y=\"{}\" width=\"7\" height=\"7\" fill=\"#fff\" stroke=\"#000\" "
+          "stroke-width=\"1.4\"/>",
+          px(x + 8.5), px(y - 3.5));
     }
     out += fmt::format("<text x=\"{}\" y=\"{}\" dominant-baseline=\"middle\">{}</text></g>\n", px(x + 29), px(y),
                        esc(item.name));
@@ -466,9 +472,10 @@ std::string render_xy_chart(const xy_chart& c) {
   svg_open(out, c.id, c.kind, c.node, c.title);
   draw_axes(out, pa, xa, mx, ya, my, c.x_label, c.y_label);
   if (zero_row) {
-    out += fmt::format("<text class=\"tick-label-y zero-row\" x=\"{}\" y=\"{}\" text-anchor=\"end\" "
-                       "dominant-baseline=\"middle\">0</text>\n",
-                       px(pa.left - 6), px(pa.bottom));
+    out += fmt::format(
+        "<text class=\"tick-label-y zero-row\" x=\"{}\" y=\"{}\" text-anchor=\"end\" "
+        "dominant-baseline=\"middle\">0</text>\n",
+        px(pa.left - 6), px(pa.bottom));
     out += fmt::format("<line class=\"tick-y\" x1=\"{0}\" y1=\"{1}\" x2=\"{2}\" y2=\"{1}\" stroke=\"#000\"/>\n",
                        px(pa.left - 4), px(pa.bottom), px(pa.left));
     // A break in the axis: the zero row is not on the log scale.
@@ -491,9 +498,10 @@ std::string render_xy_chart(const xy_chart& c) {
     }
     for (const std::string& r : runs) {
       if (r.find(' ') == std::string::npos) continue;
-      out += fmt::format("<polyline class=\"line s{}\" points=\"{}\" fill=\"none\" stroke=\"#000\" "
-                         "stroke-width=\"1.4\"{}/>\n",
-                         s + 1, r, dash_of(s));
+      out += fmt::format(
+          "<polyline class=\"line s{}\" points=\"{}\" fill=\"none\" stroke=\"#000\" "
+          "stroke-width=\"1.4\"{}/>\n",
+          s + 1, r, dash_of(s));
     }
     for (const chart_point& p : c.series[s].points) {
       draw_marker(out, s, mx(p.x), y_pixel(p), !p.y || !std::isfinite(*p.y), p.title);
@@ -563,9 +571,10 @@ std::string render_histogram(const histogram_chart& h) {
   }
   const auto mark = [&](const char* cls, int m, std::size_t style, const std::string& label) {
     const double x = mx(m);
-    out += fmt::format("<line class=\"{}\" data-bits=\"{}\" x1=\"{}\" y1=\"{}\" x2=\"{}\" y2=\"{}\" stroke=\"#000\" "
-                       "stroke-width=\"2\"{}><title>{}</title></line>\n",
-                       cls, m, px(x), px(pa.top), px(x), px(pa.bottom), dash_of(style), esc(label));
+    out += fmt::format(
+        "<line class=\"{}\" data-bits=\"{}\" x1=\"{}\" y1=\"{}\" x2=\"{}\" y2=\"{}\" stroke=\"#000\" "
+        "stroke-width=\"2\"{}><title>{}</title></line>\n",
+        cls, m, px(x), px(pa.top), px(x), px(pa.bottom), dash_of(style), esc(label));
   };
   std::vector<legend_item> legend{{fmt::format("proposed m = {}", h.proposed_int_bits), 0, 2.0, false}};
   mark("mark-proposed", h.proposed_int_bits, 0, legend[0].name);
@@ -678,32 +687,41 @@ void render_sweep(page& pg, const input_view& in) {
   for (const auto& [name, pts] : by_node) nodes.push_back(name);
   nodes = datapath_order(std::move(nodes));
 
-  pg.out += fmt::format("<p>Scenario <b>{}</b>, {} trials per point; {} of {} swept, every other node as in the "
-                        "scenario. SINR loss and EVM are means over cell 0's users; implementation EVM compares the "
-                        "fixed-point DAC samples with the golden model's.</p>\n",
-                        esc(in.scenario), in.trials ? num(*in.trials, 10) : "?", esc(vary_words(vary)),
-                        nodes.size() == 1 ? "one node" : fmt::format("{} nodes", nodes.size()));
+  pg.out += fmt::format(
+      "<p>Scenario <b>{}</b>, {} trials per point; {} of {} swept, every other node as in the "
+      "scenario. SINR loss and EVM are means over cell 0's users; implementation EVM compares the "
+      "fixed-point DAC samples with the golden model's.</p>\n",
+      esc(in.scenario), in.trials ? num(*in.trials, 10) : "?", esc(vary_words(vary)),
+      nodes.size() == 1 ? "one node" : fmt::format("{} nodes", nodes.size()));
   if (nodes.empty()) pg.out += "<p>The sweep has no points.</p>\n";
   const std::string sym = vary_symbol(vary);
   for (const std::string& node : nodes) {
     std::vector<sweep_point>& pts = by_node[node];
-    std::stable_sort(pts.begin(), pts.end(), [](const sweep_point& a, const sweep_point& b) { return a.bits < b.bits; });
+    std::stable_sort(pts.begin(), pts.end(),
+                     [](const sweep_point& a, const sweep_point& b) { return a.bits < b.bits; });
     const auto where_text = [&](const sweep_point& p) {
       return fmt::format("{}{}, {} = {}", node, p.format.empty() ? "" : " " + p.format, sym, p.bits);
     };
-    xy_chart sinr{pg.next_id("sinr"), "sweep-sinr", node, node + ": SINR loss", vary_axis_label(vary),
-                  "SINR loss (dB)", false, {{"SINR loss", {}}}};
-    xy_chart evm{pg.next_id("evm"), "sweep-evm", node, node + ": EVM", vary_axis_label(vary), "EVM (%)", false,
-                 {{"implementation", {}}, {"fixed, at users", {}}}};
-    xy_chart ovf{pg.next_id("overflow"), "sweep-overflow", node, node + ": overflow rate", vary_axis_label(vary),
-                 "overflows per value (log)", true, {{"this node", {}}}};
+    xy_chart sinr{pg.next_id("sinr"),    "sweep-sinr",     node,  node + ": SINR loss",
+                  vary_axis_label(vary), "SINR loss (dB)", false, {{"SINR loss", {}}}};
+    xy_chart evm{pg.next_id("evm"),     "sweep-evm", node,  node + ": EVM",
+                 vary_axis_label(vary), "EVM (%)",   false, {{"implementation", {}}, {"fixed, at users", {}}}};
+    xy_chart ovf{pg.next_id("overflow"),
+                 "sweep-overflow",
+                 node,
+                 node + ": overflow rate",
+                 vary_axis_label(vary),
+                 "overflows per value (log)",
+                 true,
+                 {{"this node", {}}}};
     bool all_have_max = true;
     for (const sweep_point& p : pts) all_have_max = all_have_max && p.max_overflow_rate.has_value();
     if (all_have_max) ovf.series.push_back({"worst node", {}});
     for (const sweep_point& p : pts) {
       const double x = p.bits;
       const std::string at = where_text(p);
-      sinr.series[0].points.push_back({x, p.sinr_loss_db, fmt::format("{}: SINR loss {} dB", at, num_or_dash(p.sinr_loss_db))});
+      sinr.series[0].points.push_back(
+          {x, p.sinr_loss_db, fmt::format("{}: SINR loss {} dB", at, num_or_dash(p.sinr_loss_db))});
       evm.series[0].points.push_back(
           {x, p.evm_impl_pct, fmt::format("{}: implementation EVM {} %", at, num_or_dash(p.evm_impl_pct))});
       evm.series[1].points.push_back(
@@ -711,10 +729,12 @@ void render_sweep(page& pg, const input_view& in) {
       const auto rate_text = [](const std::optional<double>& r) {
         return !r ? std::string("no value") : *r > 0 ? num(*r, 3) : std::string("0 (no overflow)");
       };
-      ovf.series[0].points.push_back({x, p.overflow_rate, fmt::format("{}: overflow rate {}", at, rate_text(p.overflow_rate))});
+      ovf.series[0].points.push_back(
+          {x, p.overflow_rate, fmt::format("{}: overflow rate {}", at, rate_text(p.overflow_rate))});
       if (all_have_max) {
         ovf.series[1].points.push_back(
-            {x, p.max_overflow_rate, fmt::format("{}: worst node's overflow rate {}", at, rate_text(p.max_overflow_rate))});
+            {x, p.max_overflow_rate,
+             fmt::format("{}: worst node's overflow rate {}", at, rate_text(p.max_overflow_rate))});
       }
     }
     pg.out += fmt::format("<div class=\"node-group\">\n<h3>{}</h3>\n<div class=\"charts\">\n", esc(node));
@@ -768,7 +788,8 @@ void render_range(page& pg, const input_view& in) {
     const auto cell = [&](std::string_view key) { return num_or_dash(optional_number(n, wn, key)); };
     table += "<tr>";
     for (const std::string& c :
-         {fmt::format("<td class=\"l\">{}</td>", esc(name)), fmt::format("<td>{}</td>", num_or_dash(optional_number(n, wn, "values"), 15)),
+         {fmt::format("<td class=\"l\">{}</td>", esc(name)),
+          fmt::format("<td>{}</td>", num_or_dash(optional_number(n, wn, "values"), 15)),
           fmt::format("<td>{}</td>", cell("max_abs")), fmt::format("<td>{}</td>", cell("p99")),
           fmt::format("<td>{}</td>", cell("p99_99")), fmt::format("<td>{}</td>", cell("p99_9999")),
           fmt::format("<td><b>{}</b></td>", h.proposed_int_bits),
@@ -803,13 +824,15 @@ void render_tune(page& pg, const input_view& in) {
   const bool meets = meets_json.get<bool>();
   const json* met_json = find_member(doc, "met");
   const bool search_met = met_json == nullptr || !met_json->is_boolean() || met_json->get<bool>();
-  const std::string unit = cost_model == "bits" ? "register bits" : "area units (proxy: multiplier widths products, "
-                                                                     "register and memory bits)";
+  const std::string unit = cost_model == "bits" ? "register bits"
+                                                : "area units (proxy: multiplier widths products, "
+                                                  "register and memory bits)";
   const std::optional<double> verify_trials = optional_number(verification, wv, "trials");
 
-  pg.out += fmt::format("<p>Scenario <b>{}</b>. Cheapest widths found under cost model <b>{}</b>: total cost "
-                        "<b>{}</b> {}.</p>\n",
-                        esc(in.scenario), esc(cost_model), num(cost, 10), esc(unit));
+  pg.out += fmt::format(
+      "<p>Scenario <b>{}</b>. Cheapest widths found under cost model <b>{}</b>: total cost "
+      "<b>{}</b> {}.</p>\n",
+      esc(in.scenario), esc(cost_model), num(cost, 10), esc(unit));
   pg.out += fmt::format(
       "<p class=\"verdict {}\">Re-verification on {} fresh trials: <b>{}</b> — {}</p>\n", meets ? "pass" : "fail",
       verify_trials ? num(*verify_trials, 10) : "?", meets ? "PASS" : "FAIL",
@@ -877,7 +900,9 @@ void render_run(page& pg, const input_view& in) {
       const json* sqnr = find_member(n, "sqnr_db");
       pg.row({esc(name), esc(optional_text(n, "format", "—")), esc(optional_text(n, "rounding", "—")),
               esc(optional_text(n, "overflow", "—")),
-              sqnr == nullptr ? "—" : sqnr->is_null() ? "exact" : num_or_dash(optional_number(n, wn, "sqnr_db")),
+              sqnr == nullptr   ? "—"
+              : sqnr->is_null() ? "exact"
+                                : num_or_dash(optional_number(n, wn, "sqnr_db")),
               num_or_dash(optional_number(n, wn, "max_err_lsb")), num_or_dash(optional_number(n, wn, "overflows"), 12),
               num_or_dash(optional_number(n, wn, "overflow_rate"), 3)},
              false, "llll");
@@ -893,8 +918,8 @@ void render_run(page& pg, const input_view& in) {
             u("evm_fixed_pct")});
   }
   pg.out += "</table>\n";
-  if (const json* warnings = find_member(doc, "warnings"); warnings != nullptr && warnings->is_array() &&
-                                                           !warnings->empty()) {
+  if (const json* warnings = find_member(doc, "warnings");
+      warnings != nullptr && warnings->is_array() && !warnings->empty()) {
     pg.out += "<ul class=\"warnings\">\n";
     for (const json& wtext : *warnings) {
       pg.out += fmt::format("<li>warning: {}</li>\n", esc(wtext.is_string() ? wtext.get<std::string>() : wtext.dump()));
@@ -942,9 +967,9 @@ input_view view_of(const std::string& file, const json& doc) {
     case report_kind::tune: {
       const json& ver = object_member(doc, w, "verification");
       const json* meets = find_member(ver, "meets_limits");
-      v.headline = fmt::format("cost {} ({}); re-verification {}", num(number(doc, w, "cost"), 10),
-                               text(doc, w, "cost_model"),
-                               meets != nullptr && meets->is_boolean() && meets->get<bool>() ? "PASS" : "FAIL");
+      v.headline =
+          fmt::format("cost {} ({}); re-verification {}", num(number(doc, w, "cost"), 10), text(doc, w, "cost_model"),
+                      meets != nullptr && meets->is_boolean() && meets->get<bool>() ? "PASS" : "FAIL");
       break;
     }
   }
@@ -1035,12 +1060,14 @@ std::string render_report_html(const std::vector<std::pair<std::string, json>>& 
   for (const auto& [file, doc] : inputs) views.push_back(view_of(file, doc));
 
   page pg;
-  pg.out += "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n"
-            "<title>fxmimo word-length report</title>\n<style>";
+  pg.out +=
+      "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n"
+      "<title>fxmimo word-length report</title>\n<style>";
   pg.out += page_style;
   pg.out += "</style>\n</head>\n<body>\n<h1>fxmimo word-length report</h1>\n";
-  pg.out += "<p class=\"note\">Simulated results of the bit-true datapath model against its golden model. "
-            "Sign-off belongs to RTL or gate-level verification and the applicable conformance tests.</p>\n";
+  pg.out +=
+      "<p class=\"note\">Simulated results of the bit-true datapath model against its golden model. "
+      "Sign-off belongs to RTL or gate-level verification and the applicable conformance tests.</p>\n";
 
   pg.out += "<h2 id=\"summary\">Scenario summary</h2>\n<table>\n";
   pg.row({"file", "kind", "scenario", "trials", "result"}, true, "lllrl");
@@ -1058,9 +1085,10 @@ std::string render_report_html(const std::vector<std::pair<std::string, json>>& 
   if (scenarios.size() > 1) {
     std::string list;
     for (const std::string& s : scenarios) list += (list.empty() ? "" : ", ") + esc(s);
-    pg.out += fmt::format("<p class=\"note\"><b>Note:</b> the inputs come from {} different scenarios ({}); their "
-                          "numbers are not directly comparable.</p>\n",
-                          scenarios.size(), list);
+    pg.out += fmt::format(
+        "<p class=\"note\"><b>Note:</b> the inputs come from {} different scenarios ({}); their "
+        "numbers are not directly comparable.</p>\n",
+        scenarios.size(), list);
   }
 
   for (std::size_t i = 0; i < views.size(); ++i) {

@@ -1,8 +1,8 @@
-#include "fxmimo/report/report.hpp"
-
 #include <fmt/core.h>
 
 #include <cmath>
+
+#include "fxmimo/report/report.hpp"
 
 namespace fxmimo::report {
 
@@ -24,9 +24,10 @@ std::string format_run_table(const analysis::run_results& r) {
   for (const analysis::node_result& n : r.nodes) {
     const std::string fmt_text = fp::to_q_string(n.spec.fmt) + (n.is_default ? "*" : "");
     any_default = any_default || n.is_default;
-    out += fmt::format("{:<15} {:<10} {:>5} {:<17} {:<18} {:>11.4g} {:>9} {:>12.3g} {:>10}\n", datapath::node_name(n.id), fmt_text,
-                       n.spec.fmt.word_bits, fp::to_string(n.spec.rounding), fp::to_string(n.spec.overflow),
-                       n.max_abs_golden, sqnr_text(n.sqnr_db()), n.max_err_lsb, n.counters.overflowed);
+    out +=
+        fmt::format("{:<15} {:<10} {:>5} {:<17} {:<18} {:>11.4g} {:>9} {:>12.3g} {:>10}\n", datapath::node_name(n.id),
+                    fmt_text, n.spec.fmt.word_bits, fp::to_string(n.spec.rounding), fp::to_string(n.spec.overflow),
+                    n.max_abs_golden, sqnr_text(n.sqnr_db()), n.max_err_lsb, n.counters.overflowed);
   }
   if (any_default) out += "* no [nodes.NAME] table in the scenario: the wide default Q20.43, half_even, saturate\n";
   out += "(signed Qm.n = 1 + m + n bits; UQm.n = m + n bits)\n\n";
@@ -89,9 +90,12 @@ nlohmann::json to_json(const analysis::run_results& r) {
                             {"evm_fixed_pct", u.evm_fixed_pct}});
   }
   const analysis::run_summary& s = r.summary;
-  out["summary"] = {{"sinr_golden_db", s.sinr_golden_db}, {"sinr_fixed_db", s.sinr_fixed_db},
-                    {"sinr_loss_db", s.sinr_loss_db},     {"evm_golden_pct", s.evm_golden_pct},
-                    {"evm_fixed_pct", s.evm_fixed_pct},   {"evm_impl_pct", s.evm_impl_pct},
+  out["summary"] = {{"sinr_golden_db", s.sinr_golden_db},
+                    {"sinr_fixed_db", s.sinr_fixed_db},
+                    {"sinr_loss_db", s.sinr_loss_db},
+                    {"evm_golden_pct", s.evm_golden_pct},
+                    {"evm_fixed_pct", s.evm_fixed_pct},
+                    {"evm_impl_pct", s.evm_impl_pct},
                     {"tx_power_error_db", s.tx_power_error_db},
                     {"max_abs_tx_power_error_db", s.max_abs_tx_power_error_db},
                     {"rms_tx_power_error_db", s.rms_tx_power_error_db},

@@ -1,11 +1,11 @@
 // The sweep results as a text table and as JSON.
-#include "fxmimo/report/report.hpp"
-
 #include <fmt/core.h>
 
 #include <algorithm>
 #include <cmath>
 #include <sstream>
+
+#include "fxmimo/report/report.hpp"
 
 namespace fxmimo::report {
 
@@ -17,9 +17,9 @@ std::string format_sweep_table(const analysis::sweep_results& r) {
   out += fmt::format("{:<15} {:>5} {:<10} {:>12} {:>12} {:>11} {:>9} {:>11} {:>12}\n", "node", "bits", "format",
                      "SINR loss dB", "EVM fixed %", "EVM impl %", "SQNR dB", "ovf rate", "max ovf rate");
   for (const analysis::sweep_point& p : r.points) {
-    out += fmt::format("{:<15} {:>5} {:<10} {:>12.4f} {:>12.3f} {:>11.4f} {:>9} {:>11.3g} {:>12.3g}\n", datapath::node_name(p.id),
-                       p.bits, fp::to_q_string(p.fmt), p.summary.sinr_loss_db, p.summary.evm_fixed_pct,
-                       p.summary.evm_impl_pct,
+    out += fmt::format("{:<15} {:>5} {:<10} {:>12.4f} {:>12.3f} {:>11.4f} {:>9} {:>11.3g} {:>12.3g}\n",
+                       datapath::node_name(p.id), p.bits, fp::to_q_string(p.fmt), p.summary.sinr_loss_db,
+                       p.summary.evm_fixed_pct, p.summary.evm_impl_pct,
                        std::isinf(p.node_sqnr_db) ? std::string("exact") : fmt::format("{:.1f}", p.node_sqnr_db),
                        p.node_overflow_rate, p.max_overflow_rate);
   }
@@ -34,28 +34,30 @@ nlohmann::json to_json(const analysis::sweep_results& r) {
   out["vary"] = std::string(to_string(r.axis));
   out["points"] = nlohmann::json::array();
   for (const analysis::sweep_point& p : r.points) {
-    out["points"].push_back({{"node", std::string(datapath::node_name(p.id))},
-                             {"bits", p.bits},
-                             {"format", fp::to_q_string(p.fmt)},
-                             {"word_bits", p.fmt.word_bits},
-                             {"frac_bits", p.fmt.frac_bits},
-                             {"int_bits", p.fmt.int_bits()},
-                             {"sinr_loss_db", p.summary.sinr_loss_db},
-                             {"sinr_fixed_db", p.summary.sinr_fixed_db},
-                             {"evm_fixed_pct", p.summary.evm_fixed_pct},
-                             {"evm_impl_pct", p.summary.evm_impl_pct},
-                             {"sqnr_db", std::isinf(p.node_sqnr_db) ? nlohmann::json(nullptr) : nlohmann::json(p.node_sqnr_db)},
-                             {"overflow_rate", p.node_overflow_rate},
-                             {"max_overflow_rate", p.max_overflow_rate}});
+    out["points"].push_back(
+        {{"node", std::string(datapath::node_name(p.id))},
+         {"bits", p.bits},
+         {"format", fp::to_q_string(p.fmt)},
+         {"word_bits", p.fmt.word_bits},
+         {"frac_bits", p.fmt.frac_bits},
+         {"int_bits", p.fmt.int_bits()},
+         {"sinr_loss_db", p.summary.sinr_loss_db},
+         {"sinr_fixed_db", p.summary.sinr_fixed_db},
+         {"evm_fixed_pct", p.summary.evm_fixed_pct},
+         {"evm_impl_pct", p.summary.evm_impl_pct},
+         {"sqnr_db", std::isinf(p.node_sqnr_db) ? nlohmann::json(nullptr) : nlohmann::json(p.node_sqnr_db)},
+         {"overflow_rate", p.node_overflow_rate},
+         {"max_overflow_rate", p.max_overflow_rate}});
   }
   return out;
 }
 
 std::string to_csv(const analysis::sweep_results& r) {
-  std::string out = "node,bits,format,sinr_loss_db,evm_fixed_pct,evm_impl_pct,sqnr_db,overflow_rate,max_overflow_rate\n";
+  std::string out =
+      "node,bits,format,sinr_loss_db,evm_fixed_pct,evm_impl_pct,sqnr_db,overflow_rate,max_overflow_rate\n";
   for (const analysis::sweep_point& p : r.points) {
-    out += fmt::format("{},{},{},{:.6g},{:.6g},{:.6g},{},{:.6g},{:.6g}\n", datapath::node_name(p.id), p.bits, fp::to_q_string(p.fmt),
-                       p.summary.sinr_loss_db, p.summary.evm_fixed_pct, p.summary.evm_impl_pct,
+    out += fmt::format("{},{},{},{:.6g},{:.6g},{:.6g},{},{:.6g},{:.6g}\n", datapath::node_name(p.id), p.bits,
+                       fp::to_q_string(p.fmt), p.summary.sinr_loss_db, p.summary.evm_fixed_pct, p.summary.evm_impl_pct,
                        std::isinf(p.node_sqnr_db) ? std::string("inf") : fmt::format("{:.6g}", p.node_sqnr_db),
                        p.node_overflow_rate, p.max_overflow_rate);
   }

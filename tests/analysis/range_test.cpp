@@ -4,7 +4,6 @@
 // checked by running the bit-true datapath on fresh trials; int_bits_for against std::frexp;
 // the analytic growth rules against an exhaustive search over every word of small formats.
 #include "fxmimo/analysis/range.hpp"
-#include "fxmimo/analysis/runner.hpp"
 
 #include <gtest/gtest.h>
 
@@ -17,6 +16,8 @@
 #include <stdexcept>
 #include <string>
 #include <vector>
+
+#include "fxmimo/analysis/runner.hpp"
 
 namespace fp = fxmimo::fixedpoint;
 namespace h = fxmimo::analysis;
@@ -281,7 +282,8 @@ count = 1
 users_per_cell = 2
 user_gains_db = [0.0, 0.0]
 [pilots]
-length = )" + std::to_string(c.pilot_length) + R"(
+length = )" + std::to_string(c.pilot_length) +
+                           R"(
 sequence = "dft"
 snr_db = 10.0
 [precoder]
@@ -292,8 +294,9 @@ normalization = "total"
 modulation = "qpsk"
 symbols = 4
 snr_db = 10.0
-)" + table("adc", c.adc) + table("pilot_rom", c.pilot_rom) + table("chan_est", c.chan_est) +
-                           table("precoder", c.precoder) + table("weights", c.weights) + table("symbols", c.symbols);
+)" + table("adc", c.adc) + table("pilot_rom", c.pilot_rom) +
+                           table("chan_est", c.chan_est) + table("precoder", c.precoder) + table("weights", c.weights) +
+                           table("symbols", c.symbols);
   const g::scenario scen = g::parse_scenario_text(text, c.name);
   const d::datapath_config config = d::parse_datapath_config(text, c.name);
   const h::range_results r = h::profile_ranges(scen, config, 1, 1, 1e-3);

@@ -3,13 +3,9 @@
 // set by hand, on a scenario text written and parsed back, and `fxmimo run` on that file. Also
 // swept_format's arithmetic, SQNR against the 6.02 dB per bit of rounding noise (common practice),
 // and the command line's exit codes.
-#include "fxmimo/report/report.hpp"
 #include "fxmimo/analysis/sweep.hpp"
-#include "fxmimo/analysis/tune.hpp"
 
 #include <gtest/gtest.h>
-#include <nlohmann/json.hpp>
-
 #include <sys/wait.h>
 #include <unistd.h>
 
@@ -18,9 +14,13 @@
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
+#include <nlohmann/json.hpp>
 #include <sstream>
 #include <string>
 #include <vector>
+
+#include "fxmimo/analysis/tune.hpp"
+#include "fxmimo/report/report.hpp"
 
 namespace fp = fxmimo::fixedpoint;
 namespace h = fxmimo::analysis;
@@ -174,12 +174,12 @@ TEST(sweep, swept_format_sets_one_quantity) {
   EXPECT_THROW((void)h::swept_format(q2_10, h::sweep_axis::int_bits, 54), std::invalid_argument);
   // A sweep with one bad point fails before running any.
   const fixture_data in = load();
-  EXPECT_THROW((void)h::run_sweep(in.scen, in.config, {d::node_id::weights}, 60, 64, h::sweep_axis::frac,
-                                  h::first_trials(1), 1),
-               std::invalid_argument);
-  EXPECT_THROW((void)h::run_sweep(in.scen, in.config, {d::node_id::weights}, 9, 8, h::sweep_axis::frac,
-                                  h::first_trials(1), 1),
-               std::invalid_argument);
+  EXPECT_THROW(
+      (void)h::run_sweep(in.scen, in.config, {d::node_id::weights}, 60, 64, h::sweep_axis::frac, h::first_trials(1), 1),
+      std::invalid_argument);
+  EXPECT_THROW(
+      (void)h::run_sweep(in.scen, in.config, {d::node_id::weights}, 9, 8, h::sweep_axis::frac, h::first_trials(1), 1),
+      std::invalid_argument);
 }
 
 TEST(sweep, node_sqnr_rises_six_db_per_bit) {
@@ -286,7 +286,8 @@ TEST(sweep_cli, json_and_csv_points_equal_fxmimo_run) {
     write_text(point_file, d::scenario_with_nodes(sweep_scenario_text, c, {d::node_id::weights, d::node_id::dac},
                                                   "weights at " + std::to_string(bits) + " fraction bits"));
     const fs::path run_json = dir / ("run-" + std::to_string(bits) + ".json");
-    const command_result rr = run_fxmimo("run -c " + quote(point_file.string()) + " --json " + quote(run_json.string()), dir);
+    const command_result rr =
+        run_fxmimo("run -c " + quote(point_file.string()) + " --json " + quote(run_json.string()), dir);
     ASSERT_EQ(rr.exit_code, 0) << rr.err;
     const nlohmann::json run = nlohmann::json::parse(read_text(run_json));
     const std::string what = "weights frac " + std::to_string(bits);
@@ -297,7 +298,8 @@ TEST(sweep_cli, json_and_csv_points_equal_fxmimo_run) {
     EXPECT_EQ(p.at("overflow_rate"), run.at("nodes").at("weights").at("overflow_rate")) << what;
     EXPECT_EQ(p.at("format"), run.at("nodes").at("weights").at("format")) << what;
     double max_rate = 0;
-    for (const auto& [name, n] : run.at("nodes").items()) max_rate = std::max(max_rate, n.at("overflow_rate").get<double>());
+    for (const auto& [name, n] : run.at("nodes").items())
+      max_rate = std::max(max_rate, n.at("overflow_rate").get<double>());
     EXPECT_EQ(p.at("max_overflow_rate").get<double>(), max_rate) << what;
   }
 }

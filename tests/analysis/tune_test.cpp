@@ -8,8 +8,8 @@
 
 #include <algorithm>
 #include <cmath>
-#include <cstdio>
 #include <cstdint>
+#include <cstdio>
 #include <ostream>
 #include <random>
 #include <string>
@@ -126,7 +126,8 @@ TEST_P(tune_greedy, within_one_bit_of_an_exhaustive_optimum_and_meets_limits) {
   bool near_one = false;
   for (const std::vector<int>& o : optima) {
     bool near = true;
-    for (int i = 0; i < num_vars; ++i) near = near && std::abs(x[static_cast<std::size_t>(i)] - o[static_cast<std::size_t>(i)]) <= 1;
+    for (int i = 0; i < num_vars; ++i)
+      near = near && std::abs(x[static_cast<std::size_t>(i)] - o[static_cast<std::size_t>(i)]) <= 1;
     near_one = near_one || near;
   }
   const std::string report = "greedy " + describe(x) + " cost " + std::to_string(s.cost(x)) + "; exhaustive optimum " +
@@ -214,8 +215,9 @@ TEST(tune, tiny_scenario_meets_limits_on_fresh_trials) {
   std::printf("tune-8x2: %d evaluations, cost %g, verification SINR loss %g dB, EVM %g %%\n", r.evaluations, r.cost,
               r.verification.sinr_loss_db, r.verification.evm_pct);
   EXPECT_EQ(r.met, r.verification.meets(limits)) << "the verdict is the verification's";
-  EXPECT_TRUE(r.verification.meets(limits)) << "SINR loss " << r.verification.sinr_loss_db << " dB, EVM "
-                                            << r.verification.evm_pct << " %, overflow " << r.verification.max_overflow_rate;
+  EXPECT_TRUE(r.verification.meets(limits))
+      << "SINR loss " << r.verification.sinr_loss_db << " dB, EVM " << r.verification.evm_pct << " %, overflow "
+      << r.verification.max_overflow_rate;
   EXPECT_TRUE(r.met == r.note.empty()) << r.note;
   // Verification trials: as many, none of them searched.
   EXPECT_EQ(r.search_trials.size(), static_cast<std::size_t>(num_trials));

@@ -5,17 +5,17 @@
 // deliberate semantic change, in its own commit that says why. To rewrite it:
 //   FXMIMO_WRITE_BASELINE=tests/bit_identity/baseline.json ./build/release/tests/fxmimo_bit_identity_tests
 // Digests: SHA-256 (FIPS 180-4) of a canonical byte string defined in words_digest below.
-#include "fxmimo/datapath/datapath.hpp"
-#include "fxmimo/datapath/config.hpp"
-#include "fxmimo/analysis/runner.hpp"
-#include "fxmimo/vectors/sha256.hpp"
-
 #include <gtest/gtest.h>
-#include <nlohmann/json.hpp>
 
 #include <cstdlib>
 #include <fstream>
+#include <nlohmann/json.hpp>
 #include <sstream>
+
+#include "fxmimo/analysis/runner.hpp"
+#include "fxmimo/datapath/config.hpp"
+#include "fxmimo/datapath/datapath.hpp"
+#include "fxmimo/vectors/sha256.hpp"
 
 namespace h = fxmimo::analysis;
 namespace d = fxmimo::datapath;
@@ -67,17 +67,17 @@ nlohmann::json compute_scenario(const std::string& relative_path) {
     const d::fixed_trial fixed = d::run_fixed_datapath(scen, config, trial);
     nlohmann::json nodes = nlohmann::json::object();
     for (d::node_id id : d::active_nodes(scen)) {
-      nodes[std::string(d::node_name(id))] = words_digest(fixed.words[d::index_of(id)], fixed.counters[d::index_of(id)]);
+      nodes[std::string(d::node_name(id))] =
+          words_digest(fixed.words[d::index_of(id)], fixed.counters[d::index_of(id)]);
     }
     out["trials"].push_back(nodes);
   }
   const h::run_results r = h::run_trials(scen, config, h::first_trials(num_baseline_trials), 1);
   const h::run_summary& s = r.summary;
-  out["metrics"] = {{"sinr_golden_db", s.sinr_golden_db},   {"sinr_fixed_db", s.sinr_fixed_db},
-                    {"sinr_loss_db", s.sinr_loss_db},       {"evm_golden_pct", s.evm_golden_pct},
-                    {"evm_fixed_pct", s.evm_fixed_pct},     {"evm_impl_pct", s.evm_impl_pct},
-                    {"tx_power_error_db", s.tx_power_error_db},
-                    {"rms_tx_power_error_db", s.rms_tx_power_error_db}};
+  out["metrics"] = {{"sinr_golden_db", s.sinr_golden_db},       {"sinr_fixed_db", s.sinr_fixed_db},
+                    {"sinr_loss_db", s.sinr_loss_db},           {"evm_golden_pct", s.evm_golden_pct},
+                    {"evm_fixed_pct", s.evm_fixed_pct},         {"evm_impl_pct", s.evm_impl_pct},
+                    {"tx_power_error_db", s.tx_power_error_db}, {"rms_tx_power_error_db", s.rms_tx_power_error_db}};
   for (const h::node_result& n : r.nodes) {
     out["node_metrics"][std::string(d::node_name(n.id))] = {
         {"error_energy", n.error_energy}, {"signal_energy", n.signal_energy}, {"max_err_lsb", n.max_err_lsb}};
@@ -112,7 +112,8 @@ TEST(BitIdentity, EveryNodeWordAndMetricMatchesTheBaseline) {
     for (const auto& [key, value] : want["metrics"].items()) EXPECT_EQ(got["metrics"][key], value) << key;
     for (const auto& [node, figures] : want["node_metrics"].items()) {
       ASSERT_TRUE(got["node_metrics"].contains(node)) << node;
-      for (const auto& [key, value] : figures.items()) EXPECT_EQ(got["node_metrics"][node][key], value) << node << " " << key;
+      for (const auto& [key, value] : figures.items())
+        EXPECT_EQ(got["node_metrics"][node][key], value) << node << " " << key;
     }
   }
 }

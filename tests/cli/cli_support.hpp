@@ -32,7 +32,8 @@ inline command_result run_fxmimo(const std::string& args, const std::string& std
   const auto err_path = dir / ("err" + std::to_string(++counter));
   const auto in_path = dir / ("in" + std::to_string(counter));
   std::ofstream(in_path) << stdin_text;
-  const std::string command = std::string(FXMIMO_EXE) + " " + args + " <" + in_path.string() + " 2>" + err_path.string();
+  const std::string command =
+      std::string(FXMIMO_EXE) + " " + args + " <" + in_path.string() + " 2>" + err_path.string();
   command_result r;
   FILE* pipe = popen(command.c_str(), "r");
   if (pipe == nullptr) return r;

@@ -2,13 +2,13 @@
 // examples/village-16-mf.toml: a vector set of norm and dac for trial 0 as hex and as .npy,
 // and the run, sweep and tune results JSON) must stay readable: teams keep such files for years
 // and regress against them. check, diff and report read them; a newer schema is one clear error.
-#include "cli_support.hpp"
-
 #include <gtest/gtest.h>
-#include <nlohmann/json.hpp>
 
 #include <filesystem>
 #include <fstream>
+#include <nlohmann/json.hpp>
+
+#include "cli_support.hpp"
 
 namespace fs = std::filesystem;
 using fxmimo::test::read_text;
@@ -44,8 +44,8 @@ TEST(OldFiles, CheckAcceptsTheSetsOwnWordsAndNamesAPlantedMismatch) {
     out << line << "\n";
   }
   out.close();
-  const auto bad = run_fxmimo("check " + quoted(set) + " --node dac --dump " + quoted(dir / "dac_re.hex") +
-                              " --dump " + quoted(set / "dac.out.im.hex"));
+  const auto bad = run_fxmimo("check " + quoted(set) + " --node dac --dump " + quoted(dir / "dac_re.hex") + " --dump " +
+                              quoted(set / "dac.out.im.hex"));
   EXPECT_EQ(bad.exit_code, 1) << bad.out << bad.err;
   EXPECT_NE(bad.out.find("symbol=5"), std::string::npos) << bad.out;
 }

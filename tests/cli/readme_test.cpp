@@ -1,15 +1,15 @@
 // The README's output blocks are real output: every fenced block whose lines start with
 // "$ fxmimo ..." is rerun here (in a scratch directory holding the examples, the inputs under
-// tests/cli/readme_inputs/ and the vector sets of tests/fixtures/ as vec/ and vec_npy/) and what the program prints, stdout and stderr as a terminal shows
-// them, must equal the lines under each command, character for character. Outputs are
-// deterministic (every trial's randomness depends only on the scenario seed and the trial).
-#include "cli_support.hpp"
-
+// tests/cli/readme_inputs/ and the vector sets of tests/fixtures/ as vec/ and vec_npy/) and what the program prints,
+// stdout and stderr as a terminal shows them, must equal the lines under each command, character for character. Outputs
+// are deterministic (every trial's randomness depends only on the scenario seed and the trial).
 #include <gtest/gtest.h>
 
 #include <filesystem>
 #include <sstream>
 #include <vector>
+
+#include "cli_support.hpp"
 
 namespace fs = std::filesystem;
 

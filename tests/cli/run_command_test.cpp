@@ -1,11 +1,11 @@
 // fxmimo run / demo / quant as a user meets them: exit codes (0 ok, 2 bad input), one-line
 // errors naming file, line and key, the JSON keys the README promises, help with examples.
-#include "cli_support.hpp"
-
 #include <gtest/gtest.h>
+#include <unistd.h>
+
 #include <nlohmann/json.hpp>
 
-#include <unistd.h>
+#include "cli_support.hpp"
 
 namespace {
 
@@ -56,7 +56,8 @@ INSTANTIATE_TEST_SUITE_P(
                       bad_case{"bad_q", "format = \"Q2.15\"", "format = \"Q2.x5\"", "nodes.norm.format"},
                       bad_case{"too_wide", "format = \"Q2.15\"", "format = \"Q100.40\"", "nodes.norm.format"},
                       bad_case{"w_over_64", "format = \"Q2.15\"", "format = \"Q30.40\"", "nodes.norm.format"},
-                      bad_case{"bad_rounding", "rounding = \"half_up\"", "rounding = \"nearest\"", "nodes.adc.rounding"},
+                      bad_case{"bad_rounding", "rounding = \"half_up\"", "rounding = \"nearest\"",
+                               "nodes.adc.rounding"},
                       bad_case{"negative_trials", "trials = 24", "trials = -3", "trials"},
                       bad_case{"zero_antennas", "antennas = 64", "antennas = 0", "array.antennas"},
                       bad_case{"unknown_key", "snr_db = 20.0", "snr_dB = 20.0", "data.snr_dB"}),
@@ -71,7 +72,8 @@ TEST(run_command, missing_file_is_exit_2_naming_it) {
 TEST(run_command, json_has_the_promised_keys) {
   const auto dir = scratch_dir("json");
   const auto json_path = dir / "run.json";
-  const auto r = run_fxmimo("run -c " + example("rooftop-64.toml") + " --trials 2 --threads 2 --json " + json_path.string());
+  const auto r =
+      run_fxmimo("run -c " + example("rooftop-64.toml") + " --trials 2 --threads 2 --json " + json_path.string());
   ASSERT_EQ(r.exit_code, 0) << r.err;
   EXPECT_NE(r.out.find("implementation EVM at the DAC"), std::string::npos);
   EXPECT_NE(r.out.find("TS 38.104"), std::string::npos);
@@ -87,7 +89,8 @@ TEST(run_command, json_has_the_promised_keys) {
   ASSERT_EQ(j["users"].size(), 8U);
   for (const char* key : {"sinr_golden_db", "sinr_fixed_db", "evm_golden_pct", "evm_fixed_pct"})
     EXPECT_TRUE(j["users"][0].contains(key)) << key;
-  for (const char* key : {"sinr_loss_db", "evm_impl_pct", "evm_fixed_pct"}) EXPECT_TRUE(j["summary"].contains(key)) << key;
+  for (const char* key : {"sinr_loss_db", "evm_impl_pct", "evm_fixed_pct"})
+    EXPECT_TRUE(j["summary"].contains(key)) << key;
   EXPECT_EQ(j["summary"]["evm_limit_pct"], 8.0) << "64-QAM: TS 38.104 Table 6.5.2.2-1";
 }
 
@@ -95,7 +98,8 @@ TEST(demo_command, writes_its_results_and_says_where) {
   const auto dir = scratch_dir("demo");
   const auto r = run_fxmimo("demo --out " + dir.string());
   ASSERT_EQ(r.exit_code, 0) << r.err;
-  for (const char* file : {"scenario.toml", "run.json", "range.json", "sweep.json", "tune.json", "tuned.toml", "report.html"})
+  for (const char* file :
+       {"scenario.toml", "run.json", "range.json", "sweep.json", "tune.json", "tuned.toml", "report.html"})
     EXPECT_TRUE(std::filesystem::exists(dir / file)) << file;
   EXPECT_NE(r.out.find("report: " + (dir / "report.html").string()), std::string::npos) << r.out;
   EXPECT_NE(r.out.find("verification on fresh trials: PASS"), std::string::npos) << r.out;

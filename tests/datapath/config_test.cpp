@@ -1,9 +1,10 @@
 // The [nodes] tables of a scenario (datapath/src/config.cpp): accumulation orders, their errors
 // (one line naming file, line and key), the documented default and the TOML written back.
 #include "fxmimo/datapath/config.hpp"
-#include "fxmimo/golden/scenario.hpp"
 
 #include <gtest/gtest.h>
+
+#include "fxmimo/golden/scenario.hpp"
 
 namespace d = fxmimo::datapath;
 namespace fp = fxmimo::fixedpoint;

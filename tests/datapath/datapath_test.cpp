@@ -2,12 +2,13 @@
 // the golden model with wide formats, and against quantisation theory (6.02 dB per bit, common
 // practice; Widrow & Kollár 2008) and independent overflow counts.
 #include "fxmimo/datapath/datapath.hpp"
-#include "fxmimo/report/report.hpp"
-#include "fxmimo/analysis/runner.hpp"
 
 #include <gtest/gtest.h>
 
 #include <cmath>
+
+#include "fxmimo/analysis/runner.hpp"
+#include "fxmimo/report/report.hpp"
 
 namespace fp = fxmimo::fixedpoint;
 namespace h = fxmimo::analysis;
@@ -92,7 +93,8 @@ symbols = 2
 snr_db = 10.0
 [frontend]
 dac_backoff_db = 0.0
-)", "hand.toml");
+)",
+                                                  "hand.toml");
   g::trial_data trial;
   trial.adc.resize(2, 1);
   trial.adc << std::complex<double>(1, 2), std::complex<double>(3, -1);
@@ -132,21 +134,21 @@ dac_backoff_db = 0.0
       EXPECT_EQ(w.im, im) << d::node_name(id) << " imaginary parts";
     }
   };
-  expect_words(d::node_id::adc, {16, 48}, {32, -16});             // 1+2j, 3-1j in LSBs of 1/16
-  expect_words(d::node_id::pilot_rom, {4}, {0});                  // 1 in Q1.2
-  expect_words(d::node_id::pilot_acc, {16, 48}, {32, -16});       // y * conj(1)
-  expect_words(d::node_id::est_scale, {8}, {});                   // 0.5
-  expect_words(d::node_id::chan_est, {8, 24}, {16, -8});          // 0.5+1j, 1.5-0.5j
-  expect_words(d::node_id::gram, {60}, {0});                      // 1.25 + 2.5 = 3.75
-  expect_words(d::node_id::ldl_acc, {60}, {0});                   // d = 3.75
-  expect_words(d::node_id::inv_diag_recip, {68}, {});             // 256/3.75 = 68.27 -> 68
-  expect_words(d::node_id::inv_fwd, {64}, {0});                   // y = 1
-  expect_words(d::node_id::inv_out, {68}, {0});                   // 1 * 68/256
-  expect_words(d::node_id::precoder, {8, 26}, {-17, 8});          // 8.5 -> 8 and 25.5 -> 26 (ties to even)
-  expect_words(d::node_id::power_acc, {68}, {});                  // Q(353/16) + Q(740/16) = 22 + 46
-  expect_words(d::node_id::norm, {497}, {});                      // 256/sqrt(68/256) = 496.7
-  expect_words(d::node_id::tx_gain, {23}, {});                    // 16 sqrt(2) = 22.6
-  expect_words(d::node_id::weights, {89, 290}, {-190, 89});       // W * 497 * 23 / 1024
+  expect_words(d::node_id::adc, {16, 48}, {32, -16});        // 1+2j, 3-1j in LSBs of 1/16
+  expect_words(d::node_id::pilot_rom, {4}, {0});             // 1 in Q1.2
+  expect_words(d::node_id::pilot_acc, {16, 48}, {32, -16});  // y * conj(1)
+  expect_words(d::node_id::est_scale, {8}, {});              // 0.5
+  expect_words(d::node_id::chan_est, {8, 24}, {16, -8});     // 0.5+1j, 1.5-0.5j
+  expect_words(d::node_id::gram, {60}, {0});                 // 1.25 + 2.5 = 3.75
+  expect_words(d::node_id::ldl_acc, {60}, {0});              // d = 3.75
+  expect_words(d::node_id::inv_diag_recip, {68}, {});        // 256/3.75 = 68.27 -> 68
+  expect_words(d::node_id::inv_fwd, {64}, {0});              // y = 1
+  expect_words(d::node_id::inv_out, {68}, {0});              // 1 * 68/256
+  expect_words(d::node_id::precoder, {8, 26}, {-17, 8});     // 8.5 -> 8 and 25.5 -> 26 (ties to even)
+  expect_words(d::node_id::power_acc, {68}, {});             // Q(353/16) + Q(740/16) = 22 + 46
+  expect_words(d::node_id::norm, {497}, {});                 // 256/sqrt(68/256) = 496.7
+  expect_words(d::node_id::tx_gain, {23}, {});               // 16 sqrt(2) = 22.6
+  expect_words(d::node_id::weights, {89, 290}, {-190, 89});  // W * 497 * 23 / 1024
   expect_words(d::node_id::symbols, {16, -16}, {16, 0});
   expect_words(d::node_id::tx_acc, {279, -89, 201, -290}, {-101, 190, 379, -89});
   // dac from frac 8 to 6: 69.75 -> 70 saturates to 63; -25.25 -> -25; -22.25 -> -22; 47.5 -> 48;
@@ -209,7 +211,8 @@ TEST(datapath, overflow_counts_match_an_independent_count) {
   for (std::uint64_t t = 0; t < 3; ++t) {
     const g::trial_data trial = g::run_trial(scen, t);
     for (Eigen::Index i = 0; i < trial.adc.size(); ++i) {
-      for (double v : {trial.adc(i).real(), trial.adc(i).imag()}) expected += (v >= 2047.5 / 4096 || v < -2048.5 / 4096);
+      for (double v : {trial.adc(i).real(), trial.adc(i).imag()})
+        expected += (v >= 2047.5 / 4096 || v < -2048.5 / 4096);
     }
   }
   ASSERT_GT(expected, 0U) << "the test needs some overflow";

@@ -14,7 +14,8 @@ namespace {
 
 TEST(accumulator, saturation_happens_in_index_order) {
   // Q3.0 (4 bits, [-8, 7]): 6 + 6 saturates to 7, then -6 gives 1; the exact sum 6 would fit.
-  const fp::requantizer<std::int64_t> q(fp::target{{true, 4, 0}, fp::rounding_mode::floor, fp::overflow_mode::saturate});
+  const fp::requantizer<std::int64_t> q(
+      fp::target{{true, 4, 0}, fp::rounding_mode::floor, fp::overflow_mode::saturate});
   fp::accumulator<std::int64_t> acc(q);
   fp::counters c;
   for (std::int64_t term : {6, 6, -6}) acc.add(term, 0, c);
@@ -96,7 +97,8 @@ class accumulation_orders : public testing::TestWithParam<order_case> {};
 
 TEST_P(accumulation_orders, hand_computed_saturation_order) {
   const order_case& c = GetParam();
-  const fp::requantizer<std::int64_t> q(fp::target{{true, 4, 0}, fp::rounding_mode::floor, fp::overflow_mode::saturate});
+  const fp::requantizer<std::int64_t> q(
+      fp::target{{true, 4, 0}, fp::rounding_mode::floor, fp::overflow_mode::saturate});
   fp::accumulator<std::int64_t> acc(q, c.how);
   fp::counters counters;
   for (std::int64_t t : c.terms) acc.add(t, 0, counters);
@@ -133,14 +135,15 @@ TEST(accumulation_orders_property, all_orders_agree_without_overflow) {
   const std::uint64_t seed = 909;
   std::mt19937_64 rng(seed);
   std::uniform_int_distribution<std::int64_t> term(-(1 << 15), (1 << 15) - 1);
-  const fp::requantizer<std::int64_t> q(fp::target{{true, 40, 0}, fp::rounding_mode::floor, fp::overflow_mode::saturate});
+  const fp::requantizer<std::int64_t> q(
+      fp::target{{true, 40, 0}, fp::rounding_mode::floor, fp::overflow_mode::saturate});
   for (std::size_t n : {1U, 2U, 3U, 7U, 8U, 9U, 15U, 16U, 17U, 31U, 64U, 65U}) {
     std::vector<std::int64_t> terms(n);
     std::int64_t exact = 0;
     for (auto& t : terms) exact += (t = term(rng));
     for (int lanes = 1; lanes <= 9; ++lanes) {
-      for (fp::accumulation how : {fp::accumulation{accumulation_order::pairwise, 1},
-                                   fp::accumulation{accumulation_order::lanes, lanes}}) {
+      for (fp::accumulation how :
+           {fp::accumulation{accumulation_order::pairwise, 1}, fp::accumulation{accumulation_order::lanes, lanes}}) {
         fp::accumulator<std::int64_t> acc(q, how);
         fp::counters c;
         for (std::int64_t t : terms) acc.add(t, 0, c);
@@ -152,7 +155,8 @@ TEST(accumulation_orders_property, all_orders_agree_without_overflow) {
 }
 
 TEST(accumulation_orders_property, names_round_trip) {
-  for (fp::accumulation_order o : fp::all_accumulation_orders) EXPECT_EQ(fp::parse_accumulation_order(fp::to_string(o)), o);
+  for (fp::accumulation_order o : fp::all_accumulation_orders)
+    EXPECT_EQ(fp::parse_accumulation_order(fp::to_string(o)), o);
   EXPECT_FALSE(fp::parse_accumulation_order("tree"));
   EXPECT_EQ(fp::list_accumulation_orders(), "sequential, pairwise, lanes");
 }

@@ -32,10 +32,12 @@ TEST(from_decimal, decimal_text_is_exact_unlike_a_double) {
             big_int(3602879701896397));
   // -2.5 at F = 0 is a tie: half_even -> -2, half_away -> -3.
   const fp::decimal_value m25 = fp::parse_decimal("-25e-1");
-  EXPECT_EQ(fp::from_decimal<big_int>(m25, {{true, 8, 0}, fp::rounding_mode::half_even, fp::overflow_mode::saturate}, c),
-            big_int(-2));
-  EXPECT_EQ(fp::from_decimal<big_int>(m25, {{true, 8, 0}, fp::rounding_mode::half_away, fp::overflow_mode::saturate}, c),
-            big_int(-3));
+  EXPECT_EQ(
+      fp::from_decimal<big_int>(m25, {{true, 8, 0}, fp::rounding_mode::half_even, fp::overflow_mode::saturate}, c),
+      big_int(-2));
+  EXPECT_EQ(
+      fp::from_decimal<big_int>(m25, {{true, 8, 0}, fp::rounding_mode::half_away, fp::overflow_mode::saturate}, c),
+      big_int(-3));
 }
 
 TEST(from_decimal, rejects_what_is_not_a_number) {
@@ -54,15 +56,18 @@ TEST(exact_decimal, binary_fractions_print_exactly) {
 
 TEST(from_double, infinities_overflow_and_nan_is_refused) {
   fp::counters c;
-  const fp::requantizer<std::int64_t> sat(fp::target{{true, 16, 15}, fp::rounding_mode::floor, fp::overflow_mode::saturate});
-  const fp::requantizer<std::int64_t> wrap(fp::target{{true, 16, 15}, fp::rounding_mode::floor, fp::overflow_mode::wrap});
+  const fp::requantizer<std::int64_t> sat(
+      fp::target{{true, 16, 15}, fp::rounding_mode::floor, fp::overflow_mode::saturate});
+  const fp::requantizer<std::int64_t> wrap(
+      fp::target{{true, 16, 15}, fp::rounding_mode::floor, fp::overflow_mode::wrap});
   EXPECT_EQ(fp::from_double(std::numeric_limits<double>::infinity(), sat, c), 32767);
   EXPECT_EQ(fp::from_double(-std::numeric_limits<double>::infinity(), sat, c), -32768);
   EXPECT_EQ(fp::from_double(std::numeric_limits<double>::infinity(), wrap, c), 0);
   EXPECT_EQ(c.overflowed, 3U);
   EXPECT_THROW((void)fp::from_double(std::nan(""), sat, c), std::domain_error);
   // The smallest subnormal rounds to 0 or 1 LSB depending on the mode.
-  const fp::requantizer<std::int64_t> ceil_q(fp::target{{true, 16, 15}, fp::rounding_mode::ceil, fp::overflow_mode::saturate});
+  const fp::requantizer<std::int64_t> ceil_q(
+      fp::target{{true, 16, 15}, fp::rounding_mode::ceil, fp::overflow_mode::saturate});
   EXPECT_EQ(fp::from_double(std::numeric_limits<double>::denorm_min(), ceil_q, c), 1);
   EXPECT_EQ(fp::from_double(-std::numeric_limits<double>::denorm_min(), sat, c), -1);
 }

@@ -4,9 +4,9 @@
 // mode's tie rule), then the overflow mode.
 #include "fxmimo/fixedpoint/divide.hpp"
 
-#include <boost/multiprecision/cpp_int.hpp>
 #include <gtest/gtest.h>
 
+#include <boost/multiprecision/cpp_int.hpp>
 #include <random>
 
 namespace fp = fxmimo::fixedpoint;
@@ -57,10 +57,11 @@ TEST(divide, quotients_round_by_definition) {
       std::int64_t n = num(rng), d = den(rng);
       if (d == 0) d = 3;
       if (i % 7 == 0) n = d * (2 * (i % 11) + 1);  // ties: n/d * 2^(F + fd - fn) lands on halves
-      const int nf = 8, df = 8;                     // raw = n 2^16 / d, below 2^36: no overflow
+      const int nf = 8, df = 8;                    // raw = n 2^16 / d, below 2^36: no overflow
       const std::int64_t q = fp::divide<std::int64_t>(n, nf, d, df, tgt, c);
       // (Boost 1.74 cpp_rational refuses a negative denominator: move the sign up.)
-      const cpp_rational exact = cpp_rational(big_int(d < 0 ? -n : n), big_int(d < 0 ? -d : d)) * pow2q(tgt.fmt.frac_bits + df - nf);
+      const cpp_rational exact =
+          cpp_rational(big_int(d < 0 ? -n : n), big_int(d < 0 ? -d : d)) * pow2q(tgt.fmt.frac_bits + df - nf);
       ASSERT_TRUE(rounds_by_definition(big_int(q), exact, mode)) << "n=" << n << " d=" << d;
     }
     EXPECT_EQ(c.overflowed, 0U);
@@ -86,9 +87,11 @@ TEST(divide, by_zero_is_an_overflow_toward_infinity) {
   fp::counters c;
   const fp::format f{true, 12, 4};
   EXPECT_EQ(fp::divide<std::int64_t>(5, 0, 0, 0, {f, fp::rounding_mode::floor, fp::overflow_mode::saturate}, c), 2047);
-  EXPECT_EQ(fp::divide<std::int64_t>(-5, 0, 0, 0, {f, fp::rounding_mode::floor, fp::overflow_mode::saturate}, c), -2048);
-  EXPECT_EQ(fp::divide<std::int64_t>(-5, 0, 0, 0, {f, fp::rounding_mode::floor, fp::overflow_mode::saturate_symmetric}, c),
-            -2047);
+  EXPECT_EQ(fp::divide<std::int64_t>(-5, 0, 0, 0, {f, fp::rounding_mode::floor, fp::overflow_mode::saturate}, c),
+            -2048);
+  EXPECT_EQ(
+      fp::divide<std::int64_t>(-5, 0, 0, 0, {f, fp::rounding_mode::floor, fp::overflow_mode::saturate_symmetric}, c),
+      -2047);
   EXPECT_EQ(fp::divide<std::int64_t>(5, 0, 0, 0, {f, fp::rounding_mode::floor, fp::overflow_mode::wrap}, c), 0);
   EXPECT_EQ(fp::divide<std::int64_t>(0, 0, 0, 0, {f, fp::rounding_mode::floor, fp::overflow_mode::saturate}, c), 0);
   EXPECT_EQ(c.overflowed, 5U);
@@ -124,11 +127,13 @@ TEST(square_root, roots_round_by_definition) {
             const bool even_q = q % 2 == 0;
             if (w == above2) {  // tie rounded down (value positive)
               ASSERT_TRUE(mode == fp::rounding_mode::half_down || mode == fp::rounding_mode::half_toward_zero ||
-                          (mode == fp::rounding_mode::half_even && even_q)) << fp::to_string(mode) << " x=" << x;
+                          (mode == fp::rounding_mode::half_even && even_q))
+                  << fp::to_string(mode) << " x=" << x;
             }
             if (w == below2) {  // tie rounded up
               ASSERT_TRUE(mode == fp::rounding_mode::half_up || mode == fp::rounding_mode::half_away ||
-                          (mode == fp::rounding_mode::half_even && even_q)) << fp::to_string(mode) << " x=" << x;
+                          (mode == fp::rounding_mode::half_even && even_q))
+                  << fp::to_string(mode) << " x=" << x;
             }
           }
         }
@@ -166,8 +171,10 @@ TEST(square_root, reciprocal_root_rounds_by_definition) {
   }
   fp::counters c;
   // rsqrt(0) overflows toward +infinity; rsqrt(1/4) = 2 exactly.
-  EXPECT_EQ(fp::rsqrt<std::int64_t>(0, 0, {{false, 8, 4}, fp::rounding_mode::floor, fp::overflow_mode::saturate}, c), 255);
-  EXPECT_EQ(fp::rsqrt<std::int64_t>(1, 2, {{false, 8, 4}, fp::rounding_mode::floor, fp::overflow_mode::saturate}, c), 32);
+  EXPECT_EQ(fp::rsqrt<std::int64_t>(0, 0, {{false, 8, 4}, fp::rounding_mode::floor, fp::overflow_mode::saturate}, c),
+            255);
+  EXPECT_EQ(fp::rsqrt<std::int64_t>(1, 2, {{false, 8, 4}, fp::rounding_mode::floor, fp::overflow_mode::saturate}, c),
+            32);
   EXPECT_EQ(c.inexact, 0U);
 }
 

@@ -31,9 +31,11 @@ void check_against_twin(int a_bits, int b_bits, const fp::format& acc_fmt, std::
         b[0] = {-b_half, -b_half};
         const int product_frac = a_bits + b_bits - 4;
         fp::counters c_fast, c_twin;
-        const cw fast = fp::dot_accumulate<Form>(a.data(), 1, b.data(), stride_b, n, a_bits, b_bits, product_frac, q, c_fast);
+        const cw fast =
+            fp::dot_accumulate<Form>(a.data(), 1, b.data(), stride_b, n, a_bits, b_bits, product_frac, q, c_fast);
         fp::complex_accumulator<fp::int128> twin(q_twin);
-        for (std::size_t i = 0; i < n; ++i) twin.add(fp::form_product<Form, fp::int128>(a[i], b[i * stride_b]), product_frac, c_twin);
+        for (std::size_t i = 0; i < n; ++i)
+          twin.add(fp::form_product<Form, fp::int128>(a[i], b[i * stride_b]), product_frac, c_twin);
         ASSERT_EQ(fast.re, fp::convert_int<std::int64_t>(twin.value().re))
             << fp::to_string(rnd) << "/" << fp::to_string(ovf) << " n=" << n << " seed " << seed;
         ASSERT_EQ(fast.im, fp::convert_int<std::int64_t>(twin.value().im))

@@ -31,18 +31,14 @@ TEST_P(parse_q, parses_and_prints) {
 
 INSTANTIATE_TEST_SUITE_P(
     trade_notation, parse_q,
-    ::testing::Values(q_case{"Q15", true, 16, 15, "Q0.15"},      // Q15 = 16-bit signed fraction (common practice)
-                      q_case{"Q0.15", true, 16, 15, "Q0.15"},
-                      q_case{"Q1.14", true, 16, 14, "Q1.14"},
-                      q_case{"q3.12", true, 16, 12, "Q3.12"},
-                      q_case{"UQ1.15", false, 16, 15, "UQ1.15"},
+    ::testing::Values(q_case{"Q15", true, 16, 15, "Q0.15"},  // Q15 = 16-bit signed fraction (common practice)
+                      q_case{"Q0.15", true, 16, 15, "Q0.15"}, q_case{"Q1.14", true, 16, 14, "Q1.14"},
+                      q_case{"q3.12", true, 16, 12, "Q3.12"}, q_case{"UQ1.15", false, 16, 15, "UQ1.15"},
                       q_case{"UQ16", false, 16, 16, "UQ0.16"},
                       q_case{"Q-2.17", true, 16, 17, "Q-2.17"},  // F > W: values below 2^-3
                       q_case{"Q20.-4", true, 17, -4, "Q20.-4"},  // negative F: LSB = 16
-                      q_case{"16,15", true, 16, 15, "Q0.15"},
-                      q_case{"u12,4", false, 12, 4, "UQ8.4"},
-                      q_case{"128,64", true, 128, 64, "Q63.64"},
-                      q_case{"Q127.0", true, 128, 0, "Q127.0"}));
+                      q_case{"16,15", true, 16, 15, "Q0.15"}, q_case{"u12,4", false, 12, 4, "UQ8.4"},
+                      q_case{"128,64", true, 128, 64, "Q63.64"}, q_case{"Q127.0", true, 128, 0, "Q127.0"}));
 
 TEST(format, range_and_lsb_follow_the_q_convention) {
   const fp::format q15 = fp::parse_format("Q0.15");
@@ -58,8 +54,8 @@ TEST(format, range_and_lsb_follow_the_q_convention) {
 }
 
 TEST(format, bad_texts_name_the_text) {
-  for (const char* bad : {"", "Q", "Qx.3", "Q1.2.3", "R1.15", "Q200.0", "129,0", "0,0", "u0,0", "Q1.", "16;15",
-                          "Q0.0", "1,0"}) {
+  for (const char* bad :
+       {"", "Q", "Qx.3", "Q1.2.3", "R1.15", "Q200.0", "129,0", "0,0", "u0,0", "Q1.", "16;15", "Q0.0", "1,0"}) {
     try {
       (void)fp::parse_format(bad);
       ADD_FAILURE() << "accepted '" << bad << "'";

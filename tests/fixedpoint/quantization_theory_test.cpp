@@ -7,14 +7,14 @@
 //    fine grid by dropping k bits gives floor mean -(Delta/2)(1 - 2^-k), variance
 //    (Delta^2/12)(1 - 2^-2k); half_up mean +(Delta/2) 2^-k; half_even mean 0, variance
 //    (Delta^2/12)(1 + 2^(1-2k)).
-#include "fxmimo/fixedpoint/conversions.hpp"
-#include "fxmimo/fixedpoint/requantize.hpp"
-
 #include <gtest/gtest.h>
 
 #include <cmath>
 #include <numbers>
 #include <random>
+
+#include "fxmimo/fixedpoint/conversions.hpp"
+#include "fxmimo/fixedpoint/requantize.hpp"
 
 namespace fp = fxmimo::fixedpoint;
 
@@ -87,8 +87,8 @@ TEST(quantization_theory, full_scale_sine_sqnr_is_6_02_n_plus_1_76_db) {
   // rate, quantised to N bits (Q0.(N-1), half_even). Within 0.2 dB for N = 8..16.
   const int num_samples = 1 << 16;
   for (int bits = 8; bits <= 16; ++bits) {
-    const fp::requantizer<std::int64_t> q(fp::target{{true, bits, bits - 1}, fp::rounding_mode::half_even,
-                                                     fp::overflow_mode::saturate});
+    const fp::requantizer<std::int64_t> q(
+        fp::target{{true, bits, bits - 1}, fp::rounding_mode::half_even, fp::overflow_mode::saturate});
     fp::counters c;
     const double amplitude = 1.0 - std::ldexp(1.0, -(bits - 1));
     double signal = 0, noise = 0;

@@ -4,9 +4,9 @@
 // The bit-for-bit check against IEEE 1666 SystemC lives in systemc/requantize_vs_systemc.cpp.
 #include "fxmimo/fixedpoint/requantize.hpp"
 
-#include <boost/multiprecision/cpp_int.hpp>
 #include <gtest/gtest.h>
 
+#include <boost/multiprecision/cpp_int.hpp>
 #include <random>
 
 namespace fp = fxmimo::fixedpoint;
@@ -141,12 +141,14 @@ TEST(requantize, native_type_corners) {
   EXPECT_EQ(fp::requantize<std::int64_t>(std::int64_t{1} << 62, 63, down, c), 0);
   // -2^63 / 2^65 = -1/4: rounds to 0 for nearest modes, -1 for floor.
   EXPECT_EQ(fp::requantize<std::int64_t>(min64, 65, even, c), 0);
-  EXPECT_EQ(fp::requantize<std::int64_t>(min64, 65, {{true, 8, 0}, fp::rounding_mode::floor, fp::overflow_mode::wrap}, c),
-            -1);
+  EXPECT_EQ(
+      fp::requantize<std::int64_t>(min64, 65, {{true, 8, 0}, fp::rounding_mode::floor, fp::overflow_mode::wrap}, c),
+      -1);
   // 3 * 2^70 does not fit int64: saturates; wraps to 0 in 8 bits (the low 70 bits are zero).
   const fp::target sat{{true, 64, 0}, fp::rounding_mode::floor, fp::overflow_mode::saturate};
   EXPECT_EQ(fp::requantize<std::int64_t>(3, -70, sat, c), std::numeric_limits<std::int64_t>::max());
-  EXPECT_EQ(fp::requantize<std::int64_t>(-3, -70, {{true, 8, 0}, fp::rounding_mode::floor, fp::overflow_mode::wrap}, c), 0);
+  EXPECT_EQ(fp::requantize<std::int64_t>(-3, -70, {{true, 8, 0}, fp::rounding_mode::floor, fp::overflow_mode::wrap}, c),
+            0);
   // 9 * 2^60 = 2^63 + 2^60 leaves int64; wrapped in 64 bits its pattern reads -2^63 + 2^60.
   EXPECT_EQ(fp::requantize<std::int64_t>(9, -60, {{true, 64, 0}, fp::rounding_mode::floor, fp::overflow_mode::wrap}, c),
             std::numeric_limits<std::int64_t>::min() + (std::int64_t{1} << 60));

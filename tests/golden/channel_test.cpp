@@ -2,14 +2,14 @@
 // correlation model and the Rician line-of-sight component.
 #include "fxmimo/golden/channel.hpp"
 
+#include <fmt/format.h>
+#include <gtest/gtest.h>
+
 #include <algorithm>
 #include <cmath>
 #include <numbers>
 #include <string>
 #include <vector>
-
-#include <fmt/format.h>
-#include <gtest/gtest.h>
 
 #include "fxmimo/golden/trial.hpp"
 #include "golden_test_support.hpp"
@@ -35,7 +35,8 @@ TEST(gram_eigenvalues, marchenko_pastur_support_and_moments) {
   const int num_ant = 256;
   const int num_users = 64;
   const std::uint64_t seed = 1967;
-  const scenario scen = make_scenario(fmt::format(R"(seed = {}
+  const scenario scen =
+      make_scenario(fmt::format(R"(seed = {}
 [array]
 antennas = {}
 [cells]
@@ -52,7 +53,7 @@ inversion = "reference"
 symbols = 1
 snr_db = 10
 )",
-                                                  seed, num_ant, num_users, fmt::join(std::vector<int>(num_users, 0), ", ")));
+                                seed, num_ant, num_users, fmt::join(std::vector<int>(num_users, 0), ", ")));
   const double sm = std::sqrt(static_cast<double>(num_ant));
   const double sk = std::sqrt(static_cast<double>(num_users));
   const double upper = (sm + sk) * (sm + sk);
@@ -176,7 +177,8 @@ snr_db = 0
   gains.elevation = {0.0};
   const Eigen::VectorXcd a = array_response(scen.array, 0.4, 0.0);
   // Steering vector of a ULA: a_m = exp(j 2 pi d m sin theta).
-  EXPECT_NEAR(std::arg(a(1) * std::conj(a(0))), std::remainder(std::numbers::pi * std::sin(0.4), 2.0 * std::numbers::pi), 1e-12);
+  EXPECT_NEAR(std::arg(a(1) * std::conj(a(0))),
+              std::remainder(std::numbers::pi * std::sin(0.4), 2.0 * std::numbers::pi), 1e-12);
   random_stream rng(77);
   const int num_draws = 4000;
   std::vector<double> projection;
@@ -192,5 +194,5 @@ snr_db = 0
   EXPECT_NEAR(e.mean, 1.0, 5.0 * e.se) << "seed 77";
 }
 
-} // namespace
-} // namespace fxmimo::golden
+}  // namespace
+}  // namespace fxmimo::golden

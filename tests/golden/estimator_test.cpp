@@ -1,15 +1,15 @@
 // Uplink channel estimation against the closed-form estimation errors of uncorrelated Rayleigh
 // fading with pilot contamination.
 #include "fxmimo/golden/estimator.hpp"
-#include "fxmimo/golden/pilots.hpp"
+
+#include <fmt/format.h>
+#include <gtest/gtest.h>
 
 #include <cmath>
 #include <string>
 #include <vector>
 
-#include <fmt/format.h>
-#include <gtest/gtest.h>
-
+#include "fxmimo/golden/pilots.hpp"
 #include "fxmimo/golden/trial.hpp"
 #include "golden_test_support.hpp"
 
@@ -124,14 +124,11 @@ TEST_P(estimation_error, matches_closed_form) {
   }
 }
 
-INSTANTIATE_TEST_SUITE_P(bjornson_2017, estimation_error,
-                         ::testing::Values(estimation_case{"mmse_reuse1", "mmse", 1, 12.0},
-                                           estimation_case{"ls_reuse1", "ls", 1, 12.0},
-                                           estimation_case{"mmse_reuse3", "mmse", 3, 20.0},
-                                           estimation_case{"ls_reuse3", "ls", 3, 3.0}),
-                         [](const ::testing::TestParamInfo<estimation_case>& param_info) {
-                           return param_info.param.name;
-                         });
+INSTANTIATE_TEST_SUITE_P(
+    bjornson_2017, estimation_error,
+    ::testing::Values(estimation_case{"mmse_reuse1", "mmse", 1, 12.0}, estimation_case{"ls_reuse1", "ls", 1, 12.0},
+                      estimation_case{"mmse_reuse3", "mmse", 3, 20.0}, estimation_case{"ls_reuse3", "ls", 3, 3.0}),
+    [](const ::testing::TestParamInfo<estimation_case>& param_info) { return param_info.param.name; });
 
 // AGC: with unit-modulus pilots E|Y[m,t]|^2 = rho_p sum_{l,k} beta^0_{lk} + 1, so the mean adc
 // power must be 10^(-agc_backoff_db/10) (definition of the AGC set point).
@@ -159,9 +156,10 @@ TEST(pilots, families_are_orthogonal) {
   }
   for (int length : {3, 5, 12}) {
     const Eigen::MatrixXcd phi = pilot_family(pilot_sequence::dft, length);
-    EXPECT_LT((phi.adjoint() * phi - length * Eigen::MatrixXcd::Identity(length, length)).norm(), 1e-12 * length * length);
+    EXPECT_LT((phi.adjoint() * phi - length * Eigen::MatrixXcd::Identity(length, length)).norm(),
+              1e-12 * length * length);
   }
 }
 
-} // namespace
-} // namespace fxmimo::golden
+}  // namespace
+}  // namespace fxmimo::golden

@@ -1,13 +1,12 @@
 // Helpers shared by the golden-model tests: scenario text, Monte-Carlo statistics.
 #pragma once
 
+#include <Eigen/Dense>
 #include <algorithm>
 #include <cmath>
 #include <functional>
 #include <string>
 #include <vector>
-
-#include <Eigen/Dense>
 
 #include "fxmimo/golden/scenario.hpp"
 
@@ -72,4 +71,4 @@ inline mean_se jackknife(const std::vector<Eigen::VectorXd>& samples,
 
 inline double db_to_linear(double db) { return std::pow(10.0, db / 10.0); }
 
-} // namespace fxmimo::golden::test
+}  // namespace fxmimo::golden::test

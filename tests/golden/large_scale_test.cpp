@@ -1,11 +1,11 @@
 // Hexagonal layout, user drops and the gain normalisation.
 #include "fxmimo/golden/large_scale.hpp"
 
+#include <gtest/gtest.h>
+
 #include <cmath>
 #include <cstdlib>
 #include <vector>
-
-#include <gtest/gtest.h>
 
 #include "golden_test_support.hpp"
 
@@ -31,7 +31,8 @@ TEST(hex_layout, rings_and_reuse_colourings) {
     for (int a = 0; a < 19; ++a) {
       for (int b = a + 1; b < 19; ++b) {
         if (hex_distance(hex_cell_axial(a), hex_cell_axial(b)) == 1) {
-          EXPECT_NE(hex_pilot_group(a, reuse), hex_pilot_group(b, reuse)) << "reuse " << reuse << ", cells " << a << ", " << b;
+          EXPECT_NE(hex_pilot_group(a, reuse), hex_pilot_group(b, reuse))
+              << "reuse " << reuse << ", cells " << a << ", " << b;
         }
       }
     }
@@ -128,5 +129,5 @@ snr_db = 0
   EXPECT_EQ(scen.pilot_group(2), 2);
 }
 
-} // namespace
-} // namespace fxmimo::golden
+}  // namespace
+}  // namespace fxmimo::golden

@@ -1,12 +1,12 @@
 // The LDL^H kernel against a 50-digit Boost.Multiprecision evaluation on the same matrices.
 #include "fxmimo/golden/ldl.hpp"
 
+#include <fmt/format.h>
+#include <gtest/gtest.h>
+
 #include <cmath>
 #include <limits>
 #include <string>
-
-#include <fmt/format.h>
-#include <gtest/gtest.h>
 
 #include "fxmimo/golden/rng.hpp"
 #include "multiprecision_support.hpp"
@@ -96,13 +96,14 @@ TEST_P(ldl_against_multiprecision, inverse_and_factors) {
   }
 }
 
-INSTANTIATE_TEST_SUITE_P(
-    boost_multiprecision_50_digits, ldl_against_multiprecision,
-    ::testing::Values(ldl_case{"k1", 4, 1, 0.0, 1}, ldl_case{"k2", 8, 2, 0.0, 2}, ldl_case{"k7", 28, 7, 0.0, 3},
-                      ldl_case{"k8_m64", 64, 8, 0.0, 4}, ldl_case{"k16_m128", 128, 16, 0.0, 5},
-                      ldl_case{"k32_m128", 128, 32, 0.0, 6}, ldl_case{"k16_m128_rzf", 128, 16, 1.6, 7},
-                      ldl_case{"k16_m20_ill", 20, 16, 0.0, 8}, ldl_case{"k16_m16_square", 16, 16, 0.0, 9}),
-    [](const ::testing::TestParamInfo<ldl_case>& param_info) { return param_info.param.name; });
+INSTANTIATE_TEST_SUITE_P(boost_multiprecision_50_digits, ldl_against_multiprecision,
+                         ::testing::Values(ldl_case{"k1", 4, 1, 0.0, 1}, ldl_case{"k2", 8, 2, 0.0, 2},
+                                           ldl_case{"k7", 28, 7, 0.0, 3}, ldl_case{"k8_m64", 64, 8, 0.0, 4},
+                                           ldl_case{"k16_m128", 128, 16, 0.0, 5}, ldl_case{"k32_m128", 128, 32, 0.0, 6},
+                                           ldl_case{"k16_m128_rzf", 128, 16, 1.6, 7},
+                                           ldl_case{"k16_m20_ill", 20, 16, 0.0, 8},
+                                           ldl_case{"k16_m16_square", 16, 16, 0.0, 9}),
+                         [](const ::testing::TestParamInfo<ldl_case>& param_info) { return param_info.param.name; });
 
 TEST(ldl, diagonal_matrix_inverts_entry_by_entry) {
   Eigen::MatrixXcd a = Eigen::MatrixXcd::Zero(5, 5);
@@ -119,11 +120,11 @@ TEST(ldl, diagonal_matrix_inverts_entry_by_entry) {
 }
 
 TEST(ldl, singular_input_gives_non_finite_values_not_an_exception) {
-  const Eigen::MatrixXcd a = Eigen::MatrixXcd::Ones(3, 3); // rank 1: d_1 = d_2 = 0
+  const Eigen::MatrixXcd a = Eigen::MatrixXcd::Ones(3, 3);  // rank 1: d_1 = d_2 = 0
   const ldl_factors f = ldl_decompose(a);
   EXPECT_EQ(f.diag(1), 0.0);
   EXPECT_FALSE(ldl_inverse(f).allFinite());
 }
 
-} // namespace
-} // namespace fxmimo::golden
+}  // namespace
+}  // namespace fxmimo::golden

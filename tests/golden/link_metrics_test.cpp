@@ -1,9 +1,9 @@
 // Link metrics (DESIGN.md §6) on constructed received blocks whose SINR and EVM are known.
 #include "fxmimo/golden/link_metrics.hpp"
 
-#include <cmath>
-
 #include <gtest/gtest.h>
+
+#include <cmath>
 
 #include "fxmimo/golden/qam.hpp"
 #include "fxmimo/golden/rng.hpp"
@@ -56,9 +56,10 @@ TEST(link_metrics, additive_error_gives_evm_and_sinr) {
   const link_metrics m = measure_link(r, s, 1.0);
   const double rel = 5.0 / std::sqrt(static_cast<double>(num_sym));
   for (std::size_t k = 0; k < 2; ++k) {
-    EXPECT_NEAR(m.evm_pct[k], 8.0, 8.0 * rel / 2.0 + 1e-9) << "seed 11"; // sqrt halves the relative error
+    EXPECT_NEAR(m.evm_pct[k], 8.0, 8.0 * rel / 2.0 + 1e-9) << "seed 11";  // sqrt halves the relative error
     EXPECT_NEAR(m.evm_db[k], 20.0 * std::log10(0.08), 0.1) << "seed 11";
-    EXPECT_NEAR(m.sinr[k], std::norm(g) / (sigma * sigma + 1.0), rel * std::norm(g) / (sigma * sigma + 1.0)) << "seed 11";
+    EXPECT_NEAR(m.sinr[k], std::norm(g) / (sigma * sigma + 1.0), rel * std::norm(g) / (sigma * sigma + 1.0))
+        << "seed 11";
   }
 }
 
@@ -75,5 +76,5 @@ TEST(link_metrics, implementation_evm_definition) {
   EXPECT_NEAR(implementation_evm(std::complex<double>(0.5, -0.2) * golden, golden), 0.0, 1e-15);
 }
 
-} // namespace
-} // namespace fxmimo::golden
+}  // namespace
+}  // namespace fxmimo::golden

@@ -2,12 +2,11 @@
 // double-precision kernels: plain textbook algorithms, no Eigen.
 #pragma once
 
-#include <cstddef>
-#include <vector>
-
+#include <Eigen/Dense>
 #include <boost/multiprecision/cpp_bin_float.hpp>
 #include <boost/multiprecision/cpp_complex.hpp>
-#include <Eigen/Dense>
+#include <cstddef>
+#include <vector>
 
 namespace fxmimo::golden::test {
 
@@ -112,4 +111,4 @@ inline double mp_norm(const mp_matrix& a) {
   return static_cast<double>(sqrt(s));
 }
 
-} // namespace fxmimo::golden::test
+}  // namespace fxmimo::golden::test

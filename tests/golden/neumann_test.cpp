@@ -2,11 +2,11 @@
 // 50 digits (Boost.Multiprecision), and its convergence region for i.i.d. Rayleigh Gram matrices.
 #include "fxmimo/golden/neumann.hpp"
 
+#include <gtest/gtest.h>
+
 #include <cmath>
 #include <iostream>
 #include <string>
-
-#include <gtest/gtest.h>
 
 #include "fxmimo/golden/rng.hpp"
 #include "golden_test_support.hpp"
@@ -57,10 +57,10 @@ TEST_P(neumann_truncation, equals_the_analytical_error) {
       e(i, j) -= d_recip * a_mp(i, j);
     }
   }
-  mp_matrix e_power = test::mp_identity(n); // E^T
+  mp_matrix e_power = test::mp_identity(n);  // E^T
   for (int num_terms = 1; num_terms <= 8; ++num_terms) {
     e_power = test::mp_multiply(e_power, e);
-    const mp_matrix tail = test::mp_multiply(e_power, a_inv); // analytical error E^T A^-1
+    const mp_matrix tail = test::mp_multiply(e_power, a_inv);  // analytical error E^T A^-1
     mp_matrix expected = a_inv;
     for (std::size_t k = 0; k < expected.v.size(); ++k) {
       expected.v[k] -= tail.v[k];
@@ -79,8 +79,7 @@ TEST_P(neumann_truncation, equals_the_analytical_error) {
 
 INSTANTIATE_TEST_SUITE_P(boost_multiprecision_50_digits, neumann_truncation,
                          ::testing::Values(neumann_case{128, 8, 11}, neumann_case{128, 16, 12},
-                                           neumann_case{64, 16, 13}, neumann_case{64, 32, 14},
-                                           neumann_case{8, 1, 15}));
+                                           neumann_case{64, 16, 13}, neumann_case{64, 32, 14}, neumann_case{8, 1, 15}));
 
 // Spectral radius: the Hermitian shortcut used by the kernel must agree with the eigenvalues of
 // the non-Hermitian I - D^-1 A computed directly (Eigen's complex QR eigen-solver).
@@ -145,5 +144,5 @@ TEST(neumann, one_term_is_the_diagonal_inverse) {
   }
 }
 
-} // namespace
-} // namespace fxmimo::golden
+}  // namespace
+}  // namespace fxmimo::golden

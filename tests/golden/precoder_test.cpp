@@ -2,13 +2,13 @@
 // equal large-scale gains beta = 1, single cell.
 #include "fxmimo/golden/precoder.hpp"
 
+#include <fmt/format.h>
+#include <gtest/gtest.h>
+
 #include <cmath>
 #include <iostream>
 #include <string>
 #include <vector>
-
-#include <fmt/format.h>
-#include <gtest/gtest.h>
 
 #include "fxmimo/golden/trial.hpp"
 #include "golden_test_support.hpp"
@@ -52,7 +52,9 @@ snr_db = {}
 // Closed forms (long-term "use-and-then-forget" SINR, power rho_d / K per user, eta = 1/K).
 // MMSE estimate variance gamma = tau_p rho_p beta^2 / (1 + tau_p rho_p beta): Björnson, Hoydis &
 // Sanguinetti, Massive MIMO Networks (2017), eq. (3.9) (equation number from memory).
-double mmse_gamma(double beta, int tau_p, double rho_p) { return tau_p * rho_p * beta * beta / (1.0 + tau_p * rho_p * beta); }
+double mmse_gamma(double beta, int tau_p, double rho_p) {
+  return tau_p * rho_p * beta * beta / (1.0 + tau_p * rho_p * beta);
+}
 // MR: SINR = M rho gamma eta / (1 + rho beta); ZF: SINR = (M - K) rho gamma eta / (1 + rho (beta - gamma)).
 // Yang & Marzetta, IEEE JSAC 31(2), 2013 (beta = 1; perfect CSI gamma = beta); Björnson et al. 2017,
 // Sec. 6.3 for the imperfect-CSI forms (section from memory).
@@ -101,15 +103,15 @@ TEST_P(uatf_sinr, matches_closed_form) {
   const double rho_d_db = 10.0;
   const double rho_p_db = 0.0;
   const std::uint64_t seed = 777;
-  const scenario scen = make_scenario(single_cell_text(c.num_ant, c.num_users, c.estimator, c.precoder, rho_d_db,
-                                                       rho_p_db, 1, seed));
+  const scenario scen =
+      make_scenario(single_cell_text(c.num_ant, c.num_users, c.estimator, c.precoder, rho_d_db, rho_p_db, 1, seed));
   const double rho = test::db_to_linear(rho_d_db);
   const int num_trials = c.nominal_trials;
 
   std::vector<Eigen::VectorXd> samples;
   for (int i_trial = 0; i_trial < num_trials; ++i_trial) {
     const trial_data td = run_trial(scen, static_cast<std::uint64_t>(i_trial));
-    const Eigen::MatrixXcd a = td.channel_to_cell0[0].transpose() * td.precoder; // h_k^T w_j
+    const Eigen::MatrixXcd a = td.channel_to_cell0[0].transpose() * td.precoder;  // h_k^T w_j
     Eigen::VectorXd s(4);
     s(0) = td.precoder.squaredNorm();
     s(1) = a.diagonal().real().mean();
@@ -131,20 +133,20 @@ TEST_P(uatf_sinr, matches_closed_form) {
   // one standard error at these counts).
   EXPECT_NEAR(measured.mean, expected, 4.0 * measured.se)
       << c.name << ": seed " << seed << ", " << num_trials << " trials, se " << measured.se;
-  std::cout << c.name << ": measured " << measured.mean << " +- " << measured.se << ", closed form " << expected << "\n";
+  std::cout << c.name << ": measured " << measured.mean << " +- " << measured.se << ", closed form " << expected
+            << "\n";
   // The test must be able to fail: the tolerance stays below a 2 % error.
   EXPECT_LT(4.0 * measured.se, 0.02 * expected) << c.name;
 }
 
-INSTANTIATE_TEST_SUITE_P(
-    yang_marzetta_2013, uatf_sinr,
-    ::testing::Values(uatf_case{"mf_perfect_64x8", "perfect", "mf", 64, 8, 3000},
-                      uatf_case{"mf_perfect_128x16", "perfect", "mf", 128, 16, 1500},
-                      uatf_case{"zf_perfect_64x8", "perfect", "zf", 64, 8, 600},
-                      uatf_case{"zf_perfect_128x16", "perfect", "zf", 128, 16, 300},
-                      uatf_case{"mf_mmse_64x8", "mmse", "mf", 64, 8, 3000},
-                      uatf_case{"zf_mmse_64x8", "mmse", "zf", 64, 8, 600}),
-    [](const ::testing::TestParamInfo<uatf_case>& param_info) { return param_info.param.name; });
+INSTANTIATE_TEST_SUITE_P(yang_marzetta_2013, uatf_sinr,
+                         ::testing::Values(uatf_case{"mf_perfect_64x8", "perfect", "mf", 64, 8, 3000},
+                                           uatf_case{"mf_perfect_128x16", "perfect", "mf", 128, 16, 1500},
+                                           uatf_case{"zf_perfect_64x8", "perfect", "zf", 64, 8, 600},
+                                           uatf_case{"zf_perfect_128x16", "perfect", "zf", 128, 16, 300},
+                                           uatf_case{"mf_mmse_64x8", "mmse", "mf", 64, 8, 3000},
+                                           uatf_case{"zf_mmse_64x8", "mmse", "zf", 64, 8, 600}),
+                         [](const ::testing::TestParamInfo<uatf_case>& param_info) { return param_info.param.name; });
 
 // ---------------------------------------------------------------------------------------------
 // Zero forcing, perfect CSI, through the whole golden chain (normalisation, tx, evaluate_downlink).
@@ -184,8 +186,7 @@ TEST_P(zf_perfect_sinr, harmonic_mean_matches_inverse_wishart) {
   EXPECT_GE(arith.mean + 4.0 * arith.se, 1.0 / expected_inv) << "Jensen: E[SINR] >= 1 / E[1/SINR]";
 }
 
-INSTANTIATE_TEST_SUITE_P(tulino_verdu_2004, zf_perfect_sinr,
-                         ::testing::Values(std::pair{64, 8}, std::pair{128, 16}),
+INSTANTIATE_TEST_SUITE_P(tulino_verdu_2004, zf_perfect_sinr, ::testing::Values(std::pair{64, 8}, std::pair{128, 16}),
                          [](const ::testing::TestParamInfo<std::pair<int, int>>& param_info) {
                            return fmt::format("M{}_K{}", param_info.param.first, param_info.param.second);
                          });
@@ -250,5 +251,5 @@ TEST(precoder_convention, per_antenna_normalisation_sets_every_row) {
   }
 }
 
-} // namespace
-} // namespace fxmimo::golden
+}  // namespace
+}  // namespace fxmimo::golden

@@ -1,10 +1,10 @@
 // Gray-mapped square QAM: unit mean power, Gray property, decision round trip.
 #include "fxmimo/golden/qam.hpp"
 
+#include <gtest/gtest.h>
+
 #include <bit>
 #include <cmath>
-
-#include <gtest/gtest.h>
 
 namespace fxmimo::golden {
 namespace {
@@ -58,8 +58,10 @@ TEST_P(qam_orders, hard_decision_round_trip) {
     const auto expected = static_cast<std::uint32_t>(label);
     EXPECT_EQ(qam_demap(mod, points(label)), expected);
     // Just inside the decision region in every direction.
-    EXPECT_EQ(qam_demap(mod, points(label) + std::complex<double>(0.99 * half_spacing, -0.99 * half_spacing)), expected);
-    EXPECT_EQ(qam_demap(mod, points(label) - std::complex<double>(0.99 * half_spacing, -0.99 * half_spacing)), expected);
+    EXPECT_EQ(qam_demap(mod, points(label) + std::complex<double>(0.99 * half_spacing, -0.99 * half_spacing)),
+              expected);
+    EXPECT_EQ(qam_demap(mod, points(label) - std::complex<double>(0.99 * half_spacing, -0.99 * half_spacing)),
+              expected);
   }
 }
 
@@ -78,5 +80,5 @@ TEST(qam, qpsk_points) {
   EXPECT_NEAR(std::abs(qam_map(modulation::qpsk, 3) - std::complex<double>(h, h)), 0.0, 1e-15);
 }
 
-} // namespace
-} // namespace fxmimo::golden
+}  // namespace
+}  // namespace fxmimo::golden

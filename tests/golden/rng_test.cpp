@@ -1,11 +1,11 @@
 // The trial generator against the reference xoshiro256** and the Gaussian moments.
 #include "fxmimo/golden/rng.hpp"
 
+#include <gtest/gtest.h>
+
 #include <array>
 #include <cmath>
 #include <vector>
-
-#include <gtest/gtest.h>
 
 #include "golden_test_support.hpp"
 
@@ -82,5 +82,5 @@ TEST(rng, trial_seeds_differ_and_repeat) {
   EXPECT_NE(trial_seed(0, 0), trial_seed(0, 1));
 }
 
-} // namespace
-} // namespace fxmimo::golden
+}  // namespace
+}  // namespace fxmimo::golden

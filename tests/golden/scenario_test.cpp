@@ -2,10 +2,10 @@
 // harness-owned `nodes` table.
 #include "fxmimo/golden/scenario.hpp"
 
-#include <string>
-
 #include <fmt/format.h>
 #include <gtest/gtest.h>
+
+#include <string>
 
 namespace fxmimo::golden {
 namespace {
@@ -75,9 +75,9 @@ whatever = true
 
 TEST(scenario, walsh_default_length_is_a_power_of_two) {
   // users_per_cell = 3 and Walsh sequences: the default length is the next power of two, 4.
-  const scenario s = parse_scenario_text(edit("users_per_cell = 2", "users_per_cell = 3")
-                                             .insert(base_text.find("[data]"), "sequence = \"walsh\"\n"),
-                                         "unit.toml");
+  const scenario s = parse_scenario_text(
+      edit("users_per_cell = 2", "users_per_cell = 3").insert(base_text.find("[data]"), "sequence = \"walsh\"\n"),
+      "unit.toml");
   EXPECT_EQ(s.pilots.sequence, pilot_sequence::walsh);
   EXPECT_EQ(s.pilots.length, 4);
 }
@@ -87,7 +87,7 @@ struct error_case {
   std::string text;
   int line;
   std::string key;
-  std::string fragment; ///< part of the message
+  std::string fragment;  ///< part of the message
 };
 
 void PrintTo(const error_case& c, std::ostream* os) { *os << c.name; }
@@ -121,9 +121,9 @@ INSTANTIATE_TEST_SUITE_P(
         error_case{"reuse_2", edit("snr_db = 5", "snr_db = 5\nreuse = 2"), 10, "pilots.reuse", "1, 3 or 7"},
         error_case{"reuse_exceeds_cells", edit("snr_db = 5", "snr_db = 5\nreuse = 3"), 10, "pilots.reuse",
                    "needs at least 3 cells"},
-        error_case{"reuse_7_three_cells", edit("snr_db = 5", "snr_db = 5\nreuse = 7").insert(
-                                                    base_text.find("[pilots]"), "count = 3\n"),
-                   11, "pilots.reuse", "reuse 7 needs at least 7 cells"},
+        error_case{"reuse_7_three_cells",
+                   edit("snr_db = 5", "snr_db = 5\nreuse = 7").insert(base_text.find("[pilots]"), "count = 3\n"), 11,
+                   "pilots.reuse", "reuse 7 needs at least 7 cells"},
         error_case{"hex_count_5", edit("users_per_cell = 2", "users_per_cell = 2\ncount = 5"), 8, "cells.count",
                    "1, 3, 7 or 19"},
         error_case{"unknown_modulation", base_text + "modulation = \"8psk\"\n", 12, "data.modulation",
@@ -146,11 +146,13 @@ INSTANTIATE_TEST_SUITE_P(
                    "precoder.regularizer", "out of range"},
         error_case{"user_gains_length", edit("users_per_cell = 2", "users_per_cell = 2\nuser_gains_db = [0]"), 8,
                    "cells.user_gains_db", "needs 2 values"},
-        error_case{"min_distance_too_large", edit("users_per_cell = 2", "users_per_cell = 2\nradius_m = 100\nmin_distance_m = 90"),
-                   9, "cells.min_distance_m", "no room"},
+        error_case{"min_distance_too_large",
+                   edit("users_per_cell = 2", "users_per_cell = 2\nradius_m = 100\nmin_distance_m = 90"), 9,
+                   "cells.min_distance_m", "no room"},
         error_case{"gains_db_ragged", edit("users_per_cell = 2", "gains_db = [[[0, 0], [-10, -10]], [[-10, -10]]]"), 7,
                    "cells.gains_db", "each base station"},
-        error_case{"wrong_type", edit("antennas = 8", "antennas = \"eight\""), 5, "array.antennas", "expected an integer"},
+        error_case{"wrong_type", edit("antennas = 8", "antennas = \"eight\""), 5, "array.antennas",
+                   "expected an integer"},
         error_case{"missing_array", edit("[array]\nantennas = 8\n", ""), 1, "array", "missing required table"},
         error_case{"missing_data_snr", edit("snr_db = 10", "symbols = 4"), 10, "data.snr_db", "missing required key"},
         error_case{"syntax", edit("seed = 3", "seed = = 3"), 2, "(syntax)", ""}),
@@ -166,5 +168,5 @@ TEST(scenario, missing_file_names_the_path) {
   }
 }
 
-} // namespace
-} // namespace fxmimo::golden
+}  // namespace
+}  // namespace fxmimo::golden

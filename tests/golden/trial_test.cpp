@@ -2,14 +2,14 @@
 // reproducibility of a trial.
 #include "fxmimo/golden/trial.hpp"
 
+#include <fmt/format.h>
+#include <gtest/gtest.h>
+
 #include <cmath>
 #include <iostream>
 #include <string>
 #include <thread>
 #include <vector>
-
-#include <fmt/format.h>
-#include <gtest/gtest.h>
 
 #include "golden_test_support.hpp"
 
@@ -124,7 +124,8 @@ mean_se measured_contamination_sinr(int num_ant, int reuse, int num_trials) {
   }
   const double rho = test::db_to_linear(rho_d_db);
   return jackknife(samples, [rho](const Eigen::VectorXd& m) {
-    const double desired = rho / m(0) * (m(2 * num_cells) * m(2 * num_cells) + m(2 * num_cells + 1) * m(2 * num_cells + 1));
+    const double desired =
+        rho / m(0) * (m(2 * num_cells) * m(2 * num_cells) + m(2 * num_cells + 1) * m(2 * num_cells + 1));
     double total = 0.0;
     for (int l = 0; l < num_cells; ++l) {
       total += rho / m(l) * m(num_cells + l);
@@ -244,5 +245,5 @@ symbols = 50
   EXPECT_NEAR(implementation_evm(1.01 * td.tx, td.tx), 0.0, 1e-14);  // a gain is aligned away
 }
 
-} // namespace
-} // namespace fxmimo::golden
+}  // namespace
+}  // namespace fxmimo::golden

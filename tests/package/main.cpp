@@ -6,6 +6,7 @@
 //   report:     formats the run as JSON
 //   vectors:    SHA-256 of "abc" (FIPS 180-2 appendix B.1: ba7816bf...)
 //   app:        the fxmimo program's --version
+#include <cstdio>
 #include <fxmimo/analysis/runner.hpp>
 #include <fxmimo/app/program.hpp>
 #include <fxmimo/datapath/plan.hpp>
@@ -14,14 +15,13 @@
 #include <fxmimo/golden/scenario.hpp>
 #include <fxmimo/report/report.hpp>
 #include <fxmimo/vectors/sha256.hpp>
-
-#include <cstdio>
 #include <string>
 
 int main(int argc, char** argv) {
   namespace fp = fxmimo::fixedpoint;
   if (argc > 1) return fxmimo::app::run_program(argc, argv);  // consumer --version
-  const fp::requantizer<std::int64_t> q({fp::parse_format("Q0.15"), fp::rounding_mode::half_even, fp::overflow_mode::saturate});
+  const fp::requantizer<std::int64_t> q(
+      {fp::parse_format("Q0.15"), fp::rounding_mode::half_even, fp::overflow_mode::saturate});
   fp::counters c;
   std::printf("%s\n", fp::to_hex_word(fp::from_double(0.3, q, c), 16).c_str());
   const fxmimo::golden::scenario scen = fxmimo::golden::parse_scenario_text(R"(
@@ -41,7 +41,8 @@ kind = "mf"
 modulation = "qpsk"
 symbols = 4
 snr_db = 10.0
-)", "consumer");
+)",
+                                                                            "consumer");
   const auto nodes = fxmimo::datapath::stages_for(scen).nodes();
   std::printf("%zu %s %s\n", nodes.size(), std::string(fxmimo::datapath::node_name(nodes.front())).c_str(),
               std::string(fxmimo::datapath::node_name(nodes.back())).c_str());

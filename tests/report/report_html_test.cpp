@@ -7,8 +7,6 @@
 #include "fxmimo/report/report_html.hpp"
 
 #include <gtest/gtest.h>
-#include <nlohmann/json.hpp>
-
 #include <sys/wait.h>
 #include <unistd.h>
 
@@ -19,6 +17,7 @@
 #include <filesystem>
 #include <fstream>
 #include <map>
+#include <nlohmann/json.hpp>
 #include <sstream>
 #include <string>
 #include <vector>
@@ -241,7 +240,8 @@ TEST_P(sweep_charts, one_marker_per_swept_width_in_every_chart_of_every_node) {
     if (vary_int) {
       EXPECT_EQ(markers_of(ovf[0], "s1").size(), num_points) << node << " overflow rate";
     }
-    for (const json& c : sinr[0]["markers"]) EXPECT_FALSE(c["title"].is_null()) << node << ": every point has a <title>";
+    for (const json& c : sinr[0]["markers"])
+      EXPECT_FALSE(c["title"].is_null()) << node << ": every point has a <title>";
   }
 }
 
@@ -316,8 +316,8 @@ TEST_F(report_page, overflow_rate_on_a_log_scale_with_zero_rates_on_the_labelled
 }
 
 TEST_F(report_page, every_chart_has_a_title_labelled_axes_with_units_and_tick_labels) {
-  const json page = parse_page(render_fixtures(
-      {"report_sweep_frac.json", "report_sweep_int.json", "report_range.json"}, scratch_dir("axes")));
+  const json page = parse_page(
+      render_fixtures({"report_sweep_frac.json", "report_sweep_int.json", "report_range.json"}, scratch_dir("axes")));
   ASSERT_FALSE(page["charts"].empty());
   const std::map<std::string, std::pair<std::string, std::string>> units{
       {"sweep-sinr", {"(bits)", "(dB)"}},
@@ -469,7 +469,8 @@ TEST_F(report_page, the_whole_page_is_one_file_without_scripts_or_links_out) {
   }
   EXPECT_EQ(page["sections"].size(), 5u);
   std::string text = read_text(html);
-  std::transform(text.begin(), text.end(), text.begin(), [](unsigned char ch) { return static_cast<char>(std::tolower(ch)); });
+  std::transform(text.begin(), text.end(), text.begin(),
+                 [](unsigned char ch) { return static_cast<char>(std::tolower(ch)); });
   for (const char* banned : {"<script", "http:", "https:", "url(", "@import", "@font-face", "javascript:"}) {
     EXPECT_EQ(text.find(banned), std::string::npos) << banned;
   }
@@ -500,12 +501,24 @@ TEST_F(report_page, edge_cases_single_width_missing_values_empty_histogram) {
                       {"trials", 1},
                       {"vary", "int"},
                       {"points",
-                       {{{"node", "norm"}, {"bits", 4}, {"sinr_loss_db", nullptr}, {"evm_impl_pct", 0.0},
-                         {"evm_fixed_pct", nullptr}, {"overflow_rate", 0.0}},
-                        {{"node", "dac"}, {"bits", 1}, {"sinr_loss_db", -0.5}, {"evm_impl_pct", 0.0},
-                         {"evm_fixed_pct", 1.0}, {"overflow_rate", 1.0}},
-                        {{"node", "dac"}, {"bits", 40}, {"sinr_loss_db", -0.25}, {"evm_impl_pct", 0.0},
-                         {"evm_fixed_pct", 1.0}, {"overflow_rate", 0.0}}}}};
+                       {{{"node", "norm"},
+                         {"bits", 4},
+                         {"sinr_loss_db", nullptr},
+                         {"evm_impl_pct", 0.0},
+                         {"evm_fixed_pct", nullptr},
+                         {"overflow_rate", 0.0}},
+                        {{"node", "dac"},
+                         {"bits", 1},
+                         {"sinr_loss_db", -0.5},
+                         {"evm_impl_pct", 0.0},
+                         {"evm_fixed_pct", 1.0},
+                         {"overflow_rate", 1.0}},
+                        {{"node", "dac"},
+                         {"bits", 40},
+                         {"sinr_loss_db", -0.25},
+                         {"evm_impl_pct", 0.0},
+                         {"evm_fixed_pct", 1.0},
+                         {"overflow_rate", 0.0}}}}};
   const json range = {{"kind", "range"},
                       {"scenario", {{"name", "edge"}}},
                       {"trials", 1},
@@ -615,8 +628,8 @@ TEST_P(report_command_errors, exit_2_with_one_line_naming_the_file_and_an_earlie
   const fs::path bad = std::string(c.file).empty() ? dir / "missing.json" : fixture(c.file);
   const fs::path out = dir / "report.html";
   std::ofstream(out) << "earlier report";
-  const auto r = run_fxmimo("report " + shell_quoted(fixture("report_sweep_frac.json")) + " " + shell_quoted(bad) + " -o " +
-                                shell_quoted(out),
+  const auto r = run_fxmimo("report " + shell_quoted(fixture("report_sweep_frac.json")) + " " + shell_quoted(bad) +
+                                " -o " + shell_quoted(out),
                             dir);
   EXPECT_EQ(r.exit_code, 2) << r.err;
   EXPECT_EQ(std::count(r.err.begin(), r.err.end(), '\n'), 1) << "one line: " << r.err;
@@ -674,13 +687,14 @@ TEST(report_in_chromium, renders_to_a_png_without_console_errors_and_keeps_every
                                          "report_tune_fail.json", "report_run_nokind.json"},
                                         dir);
   const std::string page = read_text(html);
-  const std::string flags = "--headless --no-sandbox --disable-gpu --disable-background-networking "
-                            "--disable-component-update --disable-sync --no-first-run --enable-logging=stderr --v=0 ";
+  const std::string flags =
+      "--headless --no-sandbox --disable-gpu --disable-background-networking "
+      "--disable-component-update --disable-sync --no-first-run --enable-logging=stderr --v=0 ";
   const fs::path png = dir / "report.png";
-  const auto shot = run_command(std::string(chromium_exe) + " " + flags + "--user-data-dir=" +
-                                    shell_quoted(dir / "profile-shot") + " --screenshot=" + shell_quoted(png) +
-                                    " --window-size=1200,2000 " + shell_quoted("file://" + html.string()),
-                                dir / "chromium-shot.err");
+  const auto shot = run_command(
+      std::string(chromium_exe) + " " + flags + "--user-data-dir=" + shell_quoted(dir / "profile-shot") +
+          " --screenshot=" + shell_quoted(png) + " --window-size=1200,2000 " + shell_quoted("file://" + html.string()),
+      dir / "chromium-shot.err");
   EXPECT_EQ(shot.exit_code, 0) << shot.err;
   ASSERT_TRUE(fs::exists(png)) << shot.err;
   const std::string image = read_text(png);
@@ -693,9 +707,10 @@ TEST(report_in_chromium, renders_to_a_png_without_console_errors_and_keeps_every
   EXPECT_EQ(shot.err.find("CONSOLE"), std::string::npos) << shot.err;
 
   // Chromium's own HTML parser keeps every marker and bar of the page (nothing swallowed).
-  const auto dom = run_command(std::string(chromium_exe) + " " + flags + "--user-data-dir=" +
-                                   shell_quoted(dir / "profile-dom") + " --dump-dom " + shell_quoted("file://" + html.string()),
-                               dir / "chromium-dom.err");
+  const auto dom =
+      run_command(std::string(chromium_exe) + " " + flags + "--user-data-dir=" + shell_quoted(dir / "profile-dom") +
+                      " --dump-dom " + shell_quoted("file://" + html.string()),
+                  dir / "chromium-dom.err");
   EXPECT_EQ(dom.exit_code, 0) << dom.err;
   EXPECT_EQ(dom.err.find("CONSOLE"), std::string::npos) << dom.err;
   ASSERT_GT(count_of(page, "class=\"marker "), 0u);

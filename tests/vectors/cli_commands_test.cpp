@@ -1,12 +1,13 @@
 // The check and diff commands as a CI job sees them: exit codes 0 / 1 / 2 and one-line errors
 // naming file and line. The vector set and dumps are built here from planted words.
+#include <fmt/core.h>
+#include <gtest/gtest.h>
+
+#include <nlohmann/json.hpp>
+
 #include "fxmimo/vectors/hex_file.hpp"
 #include "fxmimo/vectors/vector_set.hpp"
 #include "test_support.hpp"
-
-#include <fmt/core.h>
-#include <gtest/gtest.h>
-#include <nlohmann/json.hpp>
 
 namespace fxmimo::vectors {
 namespace {
@@ -70,7 +71,9 @@ TEST(CliDiff, ExitCodes) {
   write_vector_set(dir / "b", {}, {r});
   r.re[3] = 500;
   write_vector_set(dir / "c", {}, {r});
-  const auto pair = [&](const char* x, const char* y) { return exe() + " diff '" + (dir / x).string() + "' '" + (dir / y).string() + "'"; };
+  const auto pair = [&](const char* x, const char* y) {
+    return exe() + " diff '" + (dir / x).string() + "' '" + (dir / y).string() + "'";
+  };
   EXPECT_EQ(run_command(pair("a", "b"), dir / "log.txt").exit_code, 0);
   const auto changed = run_command(pair("a", "c"), dir / "log.txt");
   EXPECT_EQ(changed.exit_code, 1) << changed.output;

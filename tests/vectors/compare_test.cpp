@@ -3,15 +3,15 @@
 // a lane fault and a timing slip. The planted faults are the ground truth.
 #include "fxmimo/vectors/compare.hpp"
 
+#include <fmt/core.h>
+#include <gtest/gtest.h>
+
+#include <nlohmann/json.hpp>
+#include <random>
+
 #include "fxmimo/vectors/errors.hpp"
 #include "fxmimo/vectors/hex_file.hpp"
 #include "test_support.hpp"
-
-#include <fmt/core.h>
-#include <gtest/gtest.h>
-#include <nlohmann/json.hpp>
-
-#include <random>
 
 namespace fxmimo::vectors {
 namespace {

@@ -3,15 +3,15 @@
 // and by byte-level checks of the layout the specification fixes.
 #include "fxmimo/vectors/npy_file.hpp"
 
-#include "fxmimo/vectors/errors.hpp"
-#include "test_support.hpp"
-
 #include <fmt/core.h>
 #include <gtest/gtest.h>
-#include <nlohmann/json.hpp>
 
 #include <limits>
+#include <nlohmann/json.hpp>
 #include <random>
+
+#include "fxmimo/vectors/errors.hpp"
+#include "test_support.hpp"
 
 namespace fxmimo::vectors {
 namespace {
@@ -40,7 +40,8 @@ TEST(NpyFile, LayoutFixedByNep1) {
   EXPECT_EQ(bytes.substr(0, 6), std::string("\x93NUMPY", 6));
   EXPECT_EQ(bytes[6], '\x01');
   EXPECT_EQ(bytes[7], '\x00');
-  const std::size_t header_len = static_cast<unsigned char>(bytes[8]) | static_cast<std::size_t>(static_cast<unsigned char>(bytes[9])) << 8U;
+  const std::size_t header_len =
+      static_cast<unsigned char>(bytes[8]) | static_cast<std::size_t>(static_cast<unsigned char>(bytes[9])) << 8U;
   const std::size_t data_start = 10 + header_len;
   // Data on a 64-byte boundary (numpy.lib.format, ARRAY_ALIGN = 64), header ends with '\n'.
   EXPECT_EQ(data_start % 64, 0U);
@@ -76,7 +77,7 @@ TEST(NpyFile, ReaderRejectsMalformedFiles) {
   const std::string good = format_npy(std::vector<std::int64_t>{1, 2, 3}, {3}, 4);
   EXPECT_THROW(parse_npy("not numpy at all", "x.npy"), vector_error);
   EXPECT_THROW(parse_npy(good.substr(0, good.size() - 1), "x.npy"), vector_error);  // short data
-  EXPECT_THROW(parse_npy(good + "junk", "x.npy"), vector_error);                     // long data
+  EXPECT_THROW(parse_npy(good + "junk", "x.npy"), vector_error);                    // long data
   std::string fortran = good;
   fortran.replace(fortran.find("False"), 5, "True ");
   EXPECT_THROW(parse_npy(fortran, "x.npy"), vector_error);
@@ -88,7 +89,8 @@ TEST(NpyFile, ReaderRejectsMalformedFiles) {
 /// Values written by us, read by numpy (an independent NEP 1 reader).
 TEST(NpyFile, NumpyReadsOurFiles) {
   const auto python = testing::python_with_numpy();
-  if (!python) GTEST_SKIP() << "python3 with numpy (Debian python3-numpy) not found: the independent .npy reader is skipped";
+  if (!python)
+    GTEST_SKIP() << "python3 with numpy (Debian python3-numpy) not found: the independent .npy reader is skipped";
   const auto dir = scratch_dir();
   const std::uint64_t seed = 7101;
   std::mt19937_64 rng(seed);
@@ -107,15 +109,18 @@ TEST(NpyFile, NumpyReadsOurFiles) {
     const int w = fmt.word_bits;
     for (std::int64_t& x : words) {
       const std::uint64_t r = rng();
-      if (fmt.is_signed) x = w == 64 ? static_cast<std::int64_t>(r) : static_cast<std::int64_t>(r << (64 - w)) >> (64 - w);
-      else x = static_cast<std::int64_t>(r >> (64 - w));
+      if (fmt.is_signed)
+        x = w == 64 ? static_cast<std::int64_t>(r) : static_cast<std::int64_t>(r << (64 - w)) >> (64 - w);
+      else
+        x = static_cast<std::int64_t>(r >> (64 - w));
     }
     if (fmt.is_signed) words[0] = w == 64 ? std::numeric_limits<std::int64_t>::min() : -(std::int64_t{1} << (w - 1));
     const auto file = dir / fmt::format("case{}.npy", c);
     spit(file, format_npy(words, cases[c].shape, npy_item_bytes(fmt)));
     const std::string script =
         "import json, sys, numpy as np; a = np.load(sys.argv[1], allow_pickle=False); "
-        "print(json.dumps({'dtype': a.dtype.str, 'shape': list(a.shape), 'values': [int(v) for v in a.ravel(order='C')]}))";
+        "print(json.dumps({'dtype': a.dtype.str, 'shape': list(a.shape), 'values': [int(v) for v in "
+        "a.ravel(order='C')]}))";
     const auto r = run_command(*python + " -c \"" + script + "\" '" + file.string() + "'", dir / "log.txt");
     ASSERT_EQ(r.exit_code, 0) << r.output;
     const auto j = nlohmann::json::parse(r.output);
@@ -128,7 +133,8 @@ TEST(NpyFile, NumpyReadsOurFiles) {
 /// Files numpy writes (versions 1.0 and 2.0, both byte orders), read by our reader.
 TEST(NpyFile, OurReaderReadsNumpyFiles) {
   const auto python = testing::python_with_numpy();
-  if (!python) GTEST_SKIP() << "python3 with numpy (Debian python3-numpy) not found: numpy-written files are not tested";
+  if (!python)
+    GTEST_SKIP() << "python3 with numpy (Debian python3-numpy) not found: numpy-written files are not tested";
   const auto dir = scratch_dir();
   const std::string script =
       "import sys, numpy as np\n"
@@ -148,7 +154,8 @@ TEST(NpyFile, OurReaderReadsNumpyFiles) {
   EXPECT_EQ(a.shape, (std::vector<std::size_t>{2, 3}));
   EXPECT_EQ(a.values, (std::vector<std::int64_t>{-32768, -1, 0, 1, 2, 32767}));
   const npy_array b = read_npy_file(dir / "v1_be_i8.npy");
-  EXPECT_EQ(b.values, (std::vector<std::int64_t>{std::numeric_limits<std::int64_t>::min(), -1, std::numeric_limits<std::int64_t>::max()}));
+  EXPECT_EQ(b.values, (std::vector<std::int64_t>{std::numeric_limits<std::int64_t>::min(), -1,
+                                                 std::numeric_limits<std::int64_t>::max()}));
   const npy_array c = read_npy_file(dir / "v2_i4.npy");
   EXPECT_EQ(c.version_major, 2);
   EXPECT_EQ(c.shape, (std::vector<std::size_t>{3, 4}));

@@ -10,17 +10,17 @@
 // The adder-tree block precode_tree.v goes through the same flow against the core's pairwise
 // accumulation; where saturation order matters, its dumps must also fail against the sequential
 // model, at the first word where the two orders differ.
-#include "fxmimo/fixedpoint/accumulator.hpp"
-#include "fxmimo/fixedpoint/conversions.hpp"
-#include "fxmimo/vectors/hex_file.hpp"
-#include "fxmimo/vectors/vector_set.hpp"
-#include "test_support.hpp"
-
 #include <fmt/core.h>
 #include <gtest/gtest.h>
 
 #include <random>
 #include <string_view>
+
+#include "fxmimo/fixedpoint/accumulator.hpp"
+#include "fxmimo/fixedpoint/conversions.hpp"
+#include "fxmimo/vectors/hex_file.hpp"
+#include "fxmimo/vectors/vector_set.hpp"
+#include "test_support.hpp"
 
 #ifndef FXMIMO_EXE
 #error "FXMIMO_EXE (path of the fxmimo program) must be defined by tests/CMakeLists.txt"
@@ -52,25 +52,80 @@ struct rtl_case {
 
 std::ostream& operator<<(std::ostream& os, const rtl_case& c) { return os << c.name << " (seed " << c.seed << ")"; }
 
-const rtl_case nominal{"nominal", 4, 4, 8, {true, 16, 14}, {true, 12, 10}, {true, 20, 14}, {true, 12, 9},
-                       rounding_mode::half_even, overflow_mode::saturate, rounding_mode::half_up, overflow_mode::saturate,
-                       false, 8101};
+const rtl_case nominal{"nominal",
+                       4,
+                       4,
+                       8,
+                       {true, 16, 14},
+                       {true, 12, 10},
+                       {true, 20, 14},
+                       {true, 12, 9},
+                       rounding_mode::half_even,
+                       overflow_mode::saturate,
+                       rounding_mode::half_up,
+                       overflow_mode::saturate,
+                       false,
+                       8101};
 // tx_acc spans +-8 while one product reaches +-8: the running sum saturates often.
-const rtl_case acc_saturates{"acc_saturates", 4, 6, 8, {true, 16, 14}, {true, 12, 10}, {true, 12, 8}, {true, 10, 7},
-                             rounding_mode::half_up, overflow_mode::saturate, rounding_mode::half_even, overflow_mode::wrap,
-                             true, 8102};
+const rtl_case acc_saturates{"acc_saturates",
+                             4,
+                             6,
+                             8,
+                             {true, 16, 14},
+                             {true, 12, 10},
+                             {true, 12, 8},
+                             {true, 10, 7},
+                             rounding_mode::half_up,
+                             overflow_mode::saturate,
+                             rounding_mode::half_even,
+                             overflow_mode::wrap,
+                             true,
+                             8102};
 // Odd widths, K prime, the accumulator wraps; the DAC has one more fraction bit than tx_acc
 // (bits appended, no rounding) and saturates symmetrically (-2^13 becomes -max).
-const rtl_case odd_widths_wrap{"odd_widths_wrap", 3, 5, 7, {true, 13, 12}, {true, 7, 5}, {true, 13, 11}, {true, 14, 12},
-                               rounding_mode::half_away, overflow_mode::wrap, rounding_mode::toward_zero,
-                               overflow_mode::saturate_symmetric, true, 8103};
+const rtl_case odd_widths_wrap{"odd_widths_wrap",
+                               3,
+                               5,
+                               7,
+                               {true, 13, 12},
+                               {true, 7, 5},
+                               {true, 13, 11},
+                               {true, 14, 12},
+                               rounding_mode::half_away,
+                               overflow_mode::wrap,
+                               rounding_mode::toward_zero,
+                               overflow_mode::saturate_symmetric,
+                               true,
+                               8103};
 // The remaining rounding and overflow modes of the RTL.
-const rtl_case other_modes_a{"other_modes_a", 2, 3, 16, {true, 10, 9}, {true, 10, 8}, {true, 9, 7}, {true, 8, 4},
-                             rounding_mode::half_down, overflow_mode::saturate_zero, rounding_mode::ceil,
-                             overflow_mode::saturate, true, 8104};
-const rtl_case other_modes_b{"other_modes_b", 2, 3, 16, {true, 10, 9}, {true, 10, 8}, {true, 13, 9}, {true, 9, 5},
-                             rounding_mode::half_toward_zero, overflow_mode::saturate_symmetric, rounding_mode::toward_zero,
-                             overflow_mode::saturate_zero, false, 8105};
+const rtl_case other_modes_a{"other_modes_a",
+                             2,
+                             3,
+                             16,
+                             {true, 10, 9},
+                             {true, 10, 8},
+                             {true, 9, 7},
+                             {true, 8, 4},
+                             rounding_mode::half_down,
+                             overflow_mode::saturate_zero,
+                             rounding_mode::ceil,
+                             overflow_mode::saturate,
+                             true,
+                             8104};
+const rtl_case other_modes_b{"other_modes_b",
+                             2,
+                             3,
+                             16,
+                             {true, 10, 9},
+                             {true, 10, 8},
+                             {true, 13, 9},
+                             {true, 9, 5},
+                             rounding_mode::half_toward_zero,
+                             overflow_mode::saturate_symmetric,
+                             rounding_mode::toward_zero,
+                             overflow_mode::saturate_zero,
+                             false,
+                             8105};
 
 /// Stimulus and the model's expected words.
 struct flow_data {
@@ -118,7 +173,8 @@ flow_data make_stimulus(const rtl_case& c) {
 
 /// The model under test: the fixedpoint core's complex accumulator (in the order `how`) and
 /// requantize.
-void run_model(const rtl_case& c, flow_data& d, rounding_mode acc_rnd, rounding_mode dac_rnd, fp::accumulation how = {}) {
+void run_model(const rtl_case& c, flow_data& d, rounding_mode acc_rnd, rounding_mode dac_rnd,
+               fp::accumulation how = {}) {
   const fp::target acc_spec{c.acc, acc_rnd, c.acc_ovf};
   const fp::target dac_spec{c.dac, dac_rnd, c.dac_ovf};
   d.tx_acc = empty_record("tx_acc", "out", "", acc_spec, {"antenna", "symbol"}, {c.num_ant, c.num_sym});
@@ -160,17 +216,27 @@ std::optional<std::pair<std::size_t, std::string>> first_difference(const node_w
 /// The line `fxmimo check` prints for the first failing word of `r`.
 std::string first_mismatch_text(const node_words& r, const std::pair<std::size_t, std::string>& first) {
   const auto coords = r.coordinates(first.first);
-  return fmt::format("first mismatch: flat index {} (antenna={}, symbol={}), part {}", first.first, coords[0], coords[1],
-                     first.second);
+  return fmt::format("first mismatch: flat index {} (antenna={}, symbol={}), part {}", first.first, coords[0],
+                     coords[1], first.second);
 }
 
 std::vector<std::pair<std::string, long long>> parameters(const rtl_case& c) {
   auto ll = [](auto v) { return static_cast<long long>(v); };
-  return {{"M", ll(c.num_ant)},        {"K", ll(c.num_user)},       {"N", ll(c.num_sym)},
-          {"WW", c.weights.word_bits}, {"WF", c.weights.frac_bits}, {"SW", c.symbols.word_bits},
-          {"SF", c.symbols.frac_bits}, {"AW", c.acc.word_bits},     {"AF", c.acc.frac_bits},
-          {"DW", c.dac.word_bits},     {"DF", c.dac.frac_bits},     {"ACC_RND", rtl_code(c.acc_rnd)},
-          {"ACC_OVF", rtl_code(c.acc_ovf)}, {"DAC_RND", rtl_code(c.dac_rnd)}, {"DAC_OVF", rtl_code(c.dac_ovf)}};
+  return {{"M", ll(c.num_ant)},
+          {"K", ll(c.num_user)},
+          {"N", ll(c.num_sym)},
+          {"WW", c.weights.word_bits},
+          {"WF", c.weights.frac_bits},
+          {"SW", c.symbols.word_bits},
+          {"SF", c.symbols.frac_bits},
+          {"AW", c.acc.word_bits},
+          {"AF", c.acc.frac_bits},
+          {"DW", c.dac.word_bits},
+          {"DF", c.dac.frac_bits},
+          {"ACC_RND", rtl_code(c.acc_rnd)},
+          {"ACC_OVF", rtl_code(c.acc_ovf)},
+          {"DAC_RND", rtl_code(c.dac_rnd)},
+          {"DAC_OVF", rtl_code(c.dac_ovf)}};
 }
 
 /// An example block under examples/rtl: its testbench (top module tb, same plusargs, parameters
@@ -184,8 +250,9 @@ const rtl_block mac_block{"tb_precode_mac.v", "precode_mac.v", {fp::accumulation
 const rtl_block tree_block{"tb_precode_tree.v", "precode_tree.v", {fp::accumulation_order::pairwise, 1}};
 
 /// testing::run_testbench with the sources of `block` (that helper compiles precode_mac only).
-void run_block_testbench(simulator sim, const rtl_block& block, const std::vector<std::pair<std::string, long long>>& params,
-                         bool force_truncate, const fs::path& build, const fs::path& vec_dir, const fs::path& dump_dir) {
+void run_block_testbench(simulator sim, const rtl_block& block,
+                         const std::vector<std::pair<std::string, long long>>& params, bool force_truncate,
+                         const fs::path& build, const fs::path& vec_dir, const fs::path& dump_dir) {
   fs::create_directories(build);
   fs::create_directories(dump_dir);
   std::string compile;
@@ -224,10 +291,11 @@ void simulate(simulator sim, const rtl_block& block, const rtl_case& c, bool for
   }
 }
 
-testing::command_result fxmimo_check(const fs::path& vec_dir, const char* node, const fs::path& dump_dir, const fs::path& log) {
-  const std::string cmd = fmt::format("{} check {} --node {} --dump {} --dump {}", quote(FXMIMO_EXE), quote(vec_dir), node,
-                                      quote(dump_dir / (std::string(node) + "_re.hex")),
-                                      quote(dump_dir / (std::string(node) + "_im.hex")));
+testing::command_result fxmimo_check(const fs::path& vec_dir, const char* node, const fs::path& dump_dir,
+                                     const fs::path& log) {
+  const std::string cmd =
+      fmt::format("{} check {} --node {} --dump {} --dump {}", quote(FXMIMO_EXE), quote(vec_dir), node,
+                  quote(dump_dir / (std::string(node) + "_re.hex")), quote(dump_dir / (std::string(node) + "_im.hex")));
   return run_command(cmd, log);
 }
 
@@ -235,7 +303,8 @@ testing::command_result fxmimo_check(const fs::path& vec_dir, const char* node, 
 void run_flow(simulator sim, const rtl_case& c, bool with_negative_test, const rtl_block& block = mac_block,
               bool orders_must_differ = false) {
   const fs::path work = scratch_dir();
-  std::cout << "[ rtl      ] " << block.design << " case " << c.name << ", seed " << c.seed << ", work dir " << work << "\n";
+  std::cout << "[ rtl      ] " << block.design << " case " << c.name << ", seed " << c.seed << ", work dir " << work
+            << "\n";
   flow_data d = make_stimulus(c);
   run_model(c, d, c.acc_rnd, c.dac_rnd, block.how);
   if (c.acc_must_overflow) {
@@ -287,7 +356,8 @@ void run_flow(simulator sim, const rtl_case& c, bool with_negative_test, const r
   flow_data floor_model = d;
   run_model(c, floor_model, rounding_mode::floor, rounding_mode::floor, block.how);
   const auto first = first_difference(d.tx_acc, floor_model.tx_acc);
-  ASSERT_TRUE(first.has_value()) << c << ": floor and " << fp::to_string(c.acc_rnd) << " agree on every word; no negative test";
+  ASSERT_TRUE(first.has_value()) << c << ": floor and " << fp::to_string(c.acc_rnd)
+                                 << " agree on every word; no negative test";
   simulate(sim, block, c, true, work, vec, work / "dump_trunc");
   const auto bad = fxmimo_check(vec, "tx_acc", work / "dump_trunc", work / "check_trunc.log");
   EXPECT_EQ(bad.exit_code, 1) << bad.output;
@@ -303,11 +373,12 @@ void run_flow(simulator sim, const rtl_case& c, bool with_negative_test, const r
     EXPECT_EQ(r.exit_code, 0) << c << " node " << node << " against the floor model\n" << r.output;
   }
   // 4. fxmimo diff sees the rounding change on tx_acc, and only there the stimulus is equal.
-  const auto diff = run_command(fmt::format("{} diff {} {}", quote(FXMIMO_EXE), quote(vec), quote(vec_floor)), work / "diff.log");
+  const auto diff =
+      run_command(fmt::format("{} diff {} {}", quote(FXMIMO_EXE), quote(vec), quote(vec_floor)), work / "diff.log");
   EXPECT_EQ(diff.exit_code, 1) << diff.output;
-  const auto allowed =
-      run_command(fmt::format("{} diff {} {} --allow tx_acc --allow dac", quote(FXMIMO_EXE), quote(vec), quote(vec_floor)),
-                  work / "diff_allowed.log");
+  const auto allowed = run_command(
+      fmt::format("{} diff {} {} --allow tx_acc --allow dac", quote(FXMIMO_EXE), quote(vec), quote(vec_floor)),
+      work / "diff_allowed.log");
   EXPECT_EQ(allowed.exit_code, 0) << allowed.output;
 }
 
@@ -320,7 +391,8 @@ TEST_P(RtlIcarus, BitExactAndNegative) {
   run_flow(simulator::icarus, GetParam(), true);
 }
 
-INSTANTIATE_TEST_SUITE_P(Cases, RtlIcarus, ::testing::Values(nominal, acc_saturates, odd_widths_wrap, other_modes_a, other_modes_b),
+INSTANTIATE_TEST_SUITE_P(Cases, RtlIcarus,
+                         ::testing::Values(nominal, acc_saturates, odd_widths_wrap, other_modes_a, other_modes_b),
                          [](const auto& param_info) { return std::string(param_info.param.name); });
 
 class RtlVerilator : public ::testing::TestWithParam<std::pair<rtl_case, bool>> {};
@@ -338,25 +410,80 @@ INSTANTIATE_TEST_SUITE_P(Cases, RtlVerilator,
                          [](const auto& param_info) { return std::string(param_info.param.first.name); });
 
 // The adder tree, precode_tree.v: all K terms of a sum in one clock, pairwise order.
-const rtl_case tree_nominal{"tree_nominal", 4, 8, 8, {true, 16, 14}, {true, 12, 10}, {true, 20, 14}, {true, 12, 9},
-                            rounding_mode::half_even, overflow_mode::saturate, rounding_mode::half_up, overflow_mode::saturate,
-                            false, 8121};
+const rtl_case tree_nominal{"tree_nominal",
+                            4,
+                            8,
+                            8,
+                            {true, 16, 14},
+                            {true, 12, 10},
+                            {true, 20, 14},
+                            {true, 12, 9},
+                            rounding_mode::half_even,
+                            overflow_mode::saturate,
+                            rounding_mode::half_up,
+                            overflow_mode::saturate,
+                            false,
+                            8121};
 // tx_acc spans +-4 while one product reaches +-8: level-0 terms and adders saturate, and the
 // tree's words differ from the sequential ones. K = 7 is prime (odd list on level 0).
-const rtl_case tree_saturates{"tree_saturates", 4, 7, 8, {true, 16, 14}, {true, 12, 10}, {true, 11, 8}, {true, 10, 7},
-                              rounding_mode::half_up, overflow_mode::saturate, rounding_mode::half_even, overflow_mode::wrap,
-                              true, 8122};
+const rtl_case tree_saturates{"tree_saturates",
+                              4,
+                              7,
+                              8,
+                              {true, 16, 14},
+                              {true, 12, 10},
+                              {true, 11, 8},
+                              {true, 10, 7},
+                              rounding_mode::half_up,
+                              overflow_mode::saturate,
+                              rounding_mode::half_even,
+                              overflow_mode::wrap,
+                              true,
+                              8122};
 // K = 13 (odd lists on levels 0 and 1), odd widths, terms and adders wrap: order-free.
-const rtl_case tree_odd_wrap{"tree_odd_wrap", 3, 13, 7, {true, 13, 12}, {true, 7, 5}, {true, 13, 11}, {true, 14, 12},
-                             rounding_mode::half_away, overflow_mode::wrap, rounding_mode::toward_zero,
-                             overflow_mode::saturate_symmetric, true, 8123};
+const rtl_case tree_odd_wrap{"tree_odd_wrap",
+                             3,
+                             13,
+                             7,
+                             {true, 13, 12},
+                             {true, 7, 5},
+                             {true, 13, 11},
+                             {true, 14, 12},
+                             rounding_mode::half_away,
+                             overflow_mode::wrap,
+                             rounding_mode::toward_zero,
+                             overflow_mode::saturate_symmetric,
+                             true,
+                             8123};
 // K = 1: no adder, tx_acc = Q_acc(p_0); an overflowing term becomes 0.
-const rtl_case tree_single{"tree_single", 8, 1, 8, {true, 10, 9}, {true, 10, 8}, {true, 8, 7}, {true, 8, 4},
-                           rounding_mode::half_down, overflow_mode::saturate_zero, rounding_mode::ceil, overflow_mode::saturate,
-                           true, 8124};
-const rtl_case tree_other_modes{"tree_other_modes", 2, 5, 16, {true, 10, 9}, {true, 10, 8}, {true, 9, 7}, {true, 9, 5},
-                                rounding_mode::half_toward_zero, overflow_mode::saturate_symmetric, rounding_mode::toward_zero,
-                                overflow_mode::saturate_zero, true, 8125};
+const rtl_case tree_single{"tree_single",
+                           8,
+                           1,
+                           8,
+                           {true, 10, 9},
+                           {true, 10, 8},
+                           {true, 8, 7},
+                           {true, 8, 4},
+                           rounding_mode::half_down,
+                           overflow_mode::saturate_zero,
+                           rounding_mode::ceil,
+                           overflow_mode::saturate,
+                           true,
+                           8124};
+const rtl_case tree_other_modes{"tree_other_modes",
+                                2,
+                                5,
+                                16,
+                                {true, 10, 9},
+                                {true, 10, 8},
+                                {true, 9, 7},
+                                {true, 9, 5},
+                                rounding_mode::half_toward_zero,
+                                overflow_mode::saturate_symmetric,
+                                rounding_mode::toward_zero,
+                                overflow_mode::saturate_zero,
+                                true,
+                                8125};
 
 struct tree_case {
   rtl_case c;
@@ -408,14 +535,16 @@ TEST(RtlReadmemh, EveryWidthClassReadsBack) {
     const fs::path file = work / fmt::format("w{}.hex", w);
     testing::spit(file, format_word_lines(words, fmt, word_radix::hex));
     verilog += fmt::format("  reg [{}:0] m{} [0:{}];\n", w - 1, w, words.size() - 1);
-    body += fmt::format("    $readmemh(\"{}\", m{});\n    for (i = 0; i < {}; i = i + 1) $display(\"{} %0d\", $signed(m{}[i]));\n",
-                        file.string(), w, words.size(), w, w);
+    body += fmt::format(
+        "    $readmemh(\"{}\", m{});\n    for (i = 0; i < {}; i = i + 1) $display(\"{} %0d\", $signed(m{}[i]));\n",
+        file.string(), w, words.size(), w, w);
     all[w] = words;
   }
   verilog += "  initial begin\n" + body + "    $finish;\n  end\nendmodule\n";
   testing::spit(work / "readmem_check.v", verilog);
-  const auto built = run_command("iverilog -g2005 -Wall -o " + quote(work / "r.vvp") + " " + quote(work / "readmem_check.v"),
-                                 work / "compile.log");
+  const auto built =
+      run_command("iverilog -g2005 -Wall -o " + quote(work / "r.vvp") + " " + quote(work / "readmem_check.v"),
+                  work / "compile.log");
   ASSERT_EQ(built.exit_code, 0) << built.output;
   const auto ran = run_command("vvp -n " + quote(work / "r.vvp"), work / "sim.log");
   ASSERT_EQ(ran.exit_code, 0) << ran.output;

@@ -33,7 +33,6 @@ using testing::run_command;
 using testing::scratch_dir;
 using testing::simulator;
 
-
 /// Node formats of the test scenario that the flow varies.
 struct scenario_knobs {
   std::string weights_format = "Q1.10";  // 12 bits

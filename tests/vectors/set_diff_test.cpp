@@ -2,13 +2,13 @@
 // their definitions (SQNR = 10 log10(sum a^2 / sum (b - a)^2), values = word 2^-F).
 #include "fxmimo/vectors/set_diff.hpp"
 
-#include "test_support.hpp"
-
 #include <gtest/gtest.h>
-#include <nlohmann/json.hpp>
 
 #include <cmath>
+#include <nlohmann/json.hpp>
 #include <random>
+
+#include "test_support.hpp"
 
 namespace fxmimo::vectors {
 namespace {
@@ -34,7 +34,8 @@ std::vector<node_words> base_records() {
     }
     return r;
   };
-  return {rec("tx_acc", {true, 20, 14}, 16, true), rec("dac", {true, 12, 9}, 16, true), rec("norm", {true, 16, 12}, 4, false)};
+  return {rec("tx_acc", {true, 20, 14}, 16, true), rec("dac", {true, 12, 9}, 16, true),
+          rec("norm", {true, 16, 12}, 4, false)};
 }
 
 manifest_info info() {

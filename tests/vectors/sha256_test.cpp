@@ -3,15 +3,13 @@
 // independent implementations where present: coreutils sha256sum and Python's hashlib.
 #include "fxmimo/vectors/sha256.hpp"
 
-#include "fxmimo/vectors/errors.hpp"
-
-#include "test_support.hpp"
-
+#include <fmt/core.h>
 #include <gtest/gtest.h>
 
-#include <fmt/core.h>
-
 #include <random>
+
+#include "fxmimo/vectors/errors.hpp"
+#include "test_support.hpp"
 
 namespace fxmimo::vectors {
 namespace {
@@ -66,9 +64,7 @@ TEST(Sha256, PaddingBoundariesAgainstSha256sum) {
   }
 }
 
-TEST(Sha256, UnreadableFileIsAnError) {
-  EXPECT_THROW(sha256_file_hex("/nonexistent/fxmimo/file"), vector_error);
-}
+TEST(Sha256, UnreadableFileIsAnError) { EXPECT_THROW(sha256_file_hex("/nonexistent/fxmimo/file"), vector_error); }
 
 }  // namespace
 }  // namespace fxmimo::vectors

@@ -1,11 +1,8 @@
 #pragma once
 // Helpers shared by the vectors tests: scratch directories, running outside programs, files.
 
-#include "fxmimo/fixedpoint/modes.hpp"
-
 #include <fmt/core.h>
 #include <gtest/gtest.h>
-
 #include <sys/wait.h>
 
 #include <cstdlib>
@@ -16,6 +13,8 @@
 #include <string>
 #include <utility>
 #include <vector>
+
+#include "fxmimo/fixedpoint/modes.hpp"
 
 namespace fxmimo::vectors::testing {
 
@@ -109,8 +108,8 @@ enum class simulator { icarus, verilator };
 /// (Icarus prints nothing for a -Wall clean compile; $readmemh complains about short files and
 /// the testbench prints "tb:" about missing outputs).
 inline void run_testbench(simulator sim, const std::vector<std::pair<std::string, long long>>& parameters,
-                          bool force_truncate, const std::filesystem::path& build,
-                          const std::filesystem::path& vec_dir, const std::filesystem::path& dump_dir) {
+                          bool force_truncate, const std::filesystem::path& build, const std::filesystem::path& vec_dir,
+                          const std::filesystem::path& dump_dir) {
   std::filesystem::create_directories(build);
   std::filesystem::create_directories(dump_dir);
   std::string compile;

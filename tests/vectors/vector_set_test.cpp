@@ -3,16 +3,16 @@
 // layout, the all-or-nothing write, and the reader's validation.
 #include "fxmimo/vectors/vector_set.hpp"
 
+#include <fmt/core.h>
+#include <gtest/gtest.h>
+
+#include <nlohmann/json.hpp>
+#include <random>
+
 #include "fxmimo/vectors/errors.hpp"
 #include "fxmimo/vectors/hex_file.hpp"
 #include "fxmimo/vectors/sha256.hpp"
 #include "test_support.hpp"
-
-#include <fmt/core.h>
-#include <gtest/gtest.h>
-#include <nlohmann/json.hpp>
-
-#include <random>
 
 namespace fxmimo::vectors {
 namespace {
@@ -26,7 +26,8 @@ using testing::spit;
 constexpr std::uint64_t seed = 7201;
 
 node_words make_record(std::string node, std::string direction, std::string port, fp::format fmt,
-                       std::vector<std::string> names, std::vector<std::size_t> sizes, bool is_complex, std::mt19937_64& rng) {
+                       std::vector<std::string> names, std::vector<std::size_t> sizes, bool is_complex,
+                       std::mt19937_64& rng) {
   node_words r;
   r.node = std::move(node);
   r.direction = std::move(direction);
@@ -109,7 +110,8 @@ INSTANTIATE_TEST_SUITE_P(Forms, VectorSetRoundTrip,
                                            form_case{file_form::hex, complex_layout::interleaved},
                                            form_case{file_form::npy, complex_layout::interleaved}),
                          [](const auto& param_info) {
-                           return std::string(to_string(param_info.param.form)) + "_" + std::string(to_string(param_info.param.layout));
+                           return std::string(to_string(param_info.param.form)) + "_" +
+                                  std::string(to_string(param_info.param.layout));
                          });
 
 TEST(VectorSet, ManifestRecordsEveryField) {
@@ -132,7 +134,8 @@ TEST(VectorSet, ManifestRecordsEveryField) {
   // The scenario digest, from a fresh hash of the text.
   if (have_sha256sum) {
     spit(dir.parent_path() / "scenario.txt", info.scenario_text);
-    const auto r = run_command("sha256sum '" + (dir.parent_path() / "scenario.txt").string() + "'", dir.parent_path() / "log.txt");
+    const auto r =
+        run_command("sha256sum '" + (dir.parent_path() / "scenario.txt").string() + "'", dir.parent_path() / "log.txt");
     EXPECT_EQ(j["scenario"]["sha256"], r.output.substr(0, 64));
   }
   EXPECT_EQ(j["scenario"]["sha256"], sha256_hex(info.scenario_text));

@@ -1,14 +1,14 @@
 #include "fxmimo/vectors/compare.hpp"
 
-#include "fxmimo/fixedpoint/words.hpp"
-#include "fxmimo/vectors/errors.hpp"
-#include "fxmimo/vectors/hex_file.hpp"
-
 #include <fmt/core.h>
-#include <nlohmann/json.hpp>
 
 #include <algorithm>
 #include <cmath>
+#include <nlohmann/json.hpp>
+
+#include "fxmimo/fixedpoint/words.hpp"
+#include "fxmimo/vectors/errors.hpp"
+#include "fxmimo/vectors/hex_file.hpp"
 
 namespace fxmimo::vectors {
 
@@ -62,13 +62,15 @@ void add_hints(compare_report& report, const node_words& expected, const node_wo
       if (h.dim_name == "part") {
         report.hints.push_back(fmt::format("only the {} parts fail", idx == 0 ? "real" : "imaginary"));
       } else {
-        report.hints.push_back(fmt::format("every failing word has {}={}: one {} (lane) is wrong", h.dim_name, idx, h.dim_name));
+        report.hints.push_back(
+            fmt::format("every failing word has {}={}: one {} (lane) is wrong", h.dim_name, idx, h.dim_name));
       }
     }
   }
   // All off by one LSB: a rounding difference is the usual cause.
   if (std::all_of(failing_diffs.begin(), failing_diffs.end(), [](fp::int128 d) { return d == 1 || d == -1; })) {
-    report.hints.push_back("every failing word is off by exactly 1 LSB: look at the rounding mode of the last requantise stage");
+    report.hints.push_back(
+        "every failing word is off by exactly 1 LSB: look at the rounding mode of the last requantise stage");
   }
   // A slip: got[i] == expected[i - d] for nearly every failing word.
   if (fails >= 3) {
@@ -87,7 +89,8 @@ void add_hints(compare_report& report, const node_words& expected, const node_wo
         report.hints.push_back(fmt::format(
             "got[i] equals expected[i{:+d}] for {} of {} failing words: the output stream is {} by {} word(s) "
             "in flat order (last dimension '{}' fastest): a timing slip",
-            -d, hits, fails, d > 0 ? "late" : "early", std::abs(d), meta.dim_names.empty() ? "-" : meta.dim_names.back()));
+            -d, hits, fails, d > 0 ? "late" : "early", std::abs(d),
+            meta.dim_names.empty() ? "-" : meta.dim_names.back()));
         break;
       }
     }
@@ -143,16 +146,18 @@ compare_report compare_words(const node_words& expected, const node_words& got, 
   return report;
 }
 
-compare_report compare_dump(const vector_set& set, std::string_view node, const std::vector<std::filesystem::path>& dumps,
-                            const compare_options& options, std::string_view port) {
+compare_report compare_dump(const vector_set& set, std::string_view node,
+                            const std::vector<std::filesystem::path>& dumps, const compare_options& options,
+                            std::string_view port) {
   const node_words* expected = set.find(node, "out", port);
   if (expected == nullptr) {
     std::string list;
     for (const node_words& r : set.records) {
       if (r.direction == "out") list += (list.empty() ? "" : ", ") + record_label(r);
     }
-    throw vector_error(fmt::format("{} has no expected (\"out\") words for node '{}'{}; it holds: {}", set.dir.string(), node,
-                                   port.empty() ? std::string() : fmt::format(" port '{}'", port), list.empty() ? "none" : list));
+    throw vector_error(fmt::format("{} has no expected (\"out\") words for node '{}'{}; it holds: {}", set.dir.string(),
+                                   node, port.empty() ? std::string() : fmt::format(" port '{}'", port),
+                                   list.empty() ? "none" : list));
   }
   const bool interleaved = set.man.layout == complex_layout::interleaved;
   const std::size_t want_dumps = expected->is_complex && !interleaved ? 2 : 1;
@@ -190,9 +195,10 @@ std::string format_report(const compare_report& report) {
   std::string out;
   if (report.passed()) {
     out += fmt::format("{}: PASS, {} words {}", report.label, report.words_compared,
-                       report.words_differing == 0 ? "bit-exact"
-                                                   : fmt::format("within {} LSB ({} differ, max {} LSB)", report.tolerance_lsb,
-                                                                 report.words_differing, report.max_abs_diff_lsb));
+                       report.words_differing == 0
+                           ? "bit-exact"
+                           : fmt::format("within {} LSB ({} differ, max {} LSB)", report.tolerance_lsb,
+                                         report.words_differing, report.max_abs_diff_lsb));
   } else {
     out += fmt::format("{}: MISMATCH, {} of {} words differ by more than {} LSB (max |got - expected| = {} LSB)",
                        report.label, report.words_beyond_tolerance, report.words_compared, report.tolerance_lsb,
@@ -204,8 +210,8 @@ std::string format_report(const compare_report& report) {
     dims += fmt::format("{}{}={}", d == 0 ? "" : " x ", meta.dim_names[d], meta.dim_sizes[d]);
   }
   out += fmt::format("  format {}, rounding {}, overflow {}; dims {}; {}\n", fp::describe(meta.spec.fmt),
-                     fp::to_string(meta.spec.rounding), fp::to_string(meta.spec.overflow), dims.empty() ? "(scalar)" : dims,
-                     meta.is_complex ? "complex" : "real");
+                     fp::to_string(meta.spec.rounding), fp::to_string(meta.spec.overflow),
+                     dims.empty() ? "(scalar)" : dims, meta.is_complex ? "complex" : "real");
   auto join = [](const std::vector<std::string>& v) {
     std::string s;
     for (const std::string& x : v) s += (s.empty() ? "" : ", ") + x;
@@ -216,13 +222,14 @@ std::string format_report(const compare_report& report) {
   if (report.passed()) return out;
 
   const word_mismatch& w0 = report.first.front();
-  out += fmt::format("  first mismatch: flat index {} ({}){}: expected {}, got {}, got - expected = {} LSB\n", w0.flat_index,
-                     coords_text(meta, w0.coords), w0.part.empty() ? "" : ", part " + w0.part,
+  out += fmt::format("  first mismatch: flat index {} ({}){}: expected {}, got {}, got - expected = {} LSB\n",
+                     w0.flat_index, coords_text(meta, w0.coords), w0.part.empty() ? "" : ", part " + w0.part,
                      word_text(w0.expected, meta.spec.fmt), word_text(w0.got, meta.spec.fmt), to_decimal(w0.diff_lsb));
   out += fmt::format("  first {} of {} failing words:\n", report.first.size(), report.words_beyond_tolerance);
   std::string header = fmt::format("    {:>8}", "flat");
   if (meta.is_complex) header += fmt::format(" {:>4}", "part");
-  for (const std::string& name : meta.dim_names) header += fmt::format(" {:>{}}", name, std::max<std::size_t>(name.size(), 4));
+  for (const std::string& name : meta.dim_names)
+    header += fmt::format(" {:>{}}", name, std::max<std::size_t>(name.size(), 4));
   header += fmt::format("  {:<32} {:<32} {}", "expected", "got", "got-exp [LSB]");
   out += header + "\n";
   for (const word_mismatch& w : report.first) {
@@ -249,8 +256,10 @@ std::string format_report(const compare_report& report) {
         ++shown;
       }
     }
-    if (nonzero > shown) line += fmt::format(" ... ({} of {} indices fail)", nonzero, h.counts.size());
-    else line += fmt::format("   ({} of {} indices fail)", nonzero, h.counts.size());
+    if (nonzero > shown)
+      line += fmt::format(" ... ({} of {} indices fail)", nonzero, h.counts.size());
+    else
+      line += fmt::format("   ({} of {} indices fail)", nonzero, h.counts.size());
     out += fmt::format("    {:<10}{}\n", h.dim_name, line);
   }
   for (const std::string& hint : report.hints) out += "  hint: " + hint + "\n";
@@ -272,7 +281,8 @@ nlohmann::json to_json(const compare_report& report) {
   j["words_beyond_tolerance"] = report.words_beyond_tolerance;
   j["max_abs_diff_lsb"] = report.max_abs_diff_lsb;
   j["dims"] = nlohmann::json::array();
-  for (std::size_t d = 0; d < meta.dim_names.size(); ++d) j["dims"].push_back({{"name", meta.dim_names[d]}, {"size", meta.dim_sizes[d]}});
+  for (std::size_t d = 0; d < meta.dim_names.size(); ++d)
+    j["dims"].push_back({{"name", meta.dim_names[d]}, {"size", meta.dim_sizes[d]}});
   j["mismatches"] = nlohmann::json::array();
   for (const word_mismatch& w : report.first) {
     nlohmann::json c = nlohmann::json::object();

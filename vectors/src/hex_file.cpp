@@ -1,12 +1,12 @@
 #include "fxmimo/vectors/hex_file.hpp"
 
-#include "fxmimo/fixedpoint/words.hpp"
-#include "fxmimo/vectors/errors.hpp"
-
 #include <fmt/core.h>
 
 #include <fstream>
 #include <sstream>
+
+#include "fxmimo/fixedpoint/words.hpp"
+#include "fxmimo/vectors/errors.hpp"
 
 namespace fxmimo::vectors {
 
@@ -67,21 +67,24 @@ std::vector<std::int64_t> parse_word_lines(std::string_view text, const fp::form
       fail(fmt::format("more lines than the {} words expected", *expected_count));
     }
     if (line.size() > 2 && line[0] == '0' && (line[1] == 'x' || line[1] == 'X') && is_radix_digit(line[2], radix)) {
-      fail(fmt::format("{} starts with a '0{}' prefix; word files hold bare digits ($readmemh/hread reject "
-                       "prefixes)",
-                       quoted_excerpt(line), line[1]));
+      fail(
+          fmt::format("{} starts with a '0{}' prefix; word files hold bare digits ($readmemh/hread reject "
+                      "prefixes)",
+                      quoted_excerpt(line), line[1]));
     }
     for (std::size_t i = 0; i < line.size(); ++i) {
       const char ch = line[i];
       if (is_unknown_digit(ch)) {
-        fail(fmt::format("{} holds an x/z digit at column {}: the RTL drove an unknown value (uninitialised "
-                         "register, undriven net, or a read before the first valid output?)",
-                         quoted_excerpt(line), i + 1));
+        fail(
+            fmt::format("{} holds an x/z digit at column {}: the RTL drove an unknown value (uninitialised "
+                        "register, undriven net, or a read before the first valid output?)",
+                        quoted_excerpt(line), i + 1));
       }
       if (!is_radix_digit(ch, radix)) {
-        fail(fmt::format("{}: character '{}' at column {} is not a {} digit (no prefix, address or comment "
-                         "is allowed)",
-                         quoted_excerpt(line), ch, i + 1, radix_name));
+        fail(
+            fmt::format("{}: character '{}' at column {} is not a {} digit (no prefix, address or comment "
+                        "is allowed)",
+                        quoted_excerpt(line), ch, i + 1, radix_name));
       }
     }
     if (static_cast<int>(line.size()) != width) {

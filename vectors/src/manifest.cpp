@@ -1,10 +1,11 @@
 #include "fxmimo/vectors/manifest.hpp"
 
+#include <fmt/core.h>
+
+#include <nlohmann/json.hpp>
+
 #include "fxmimo/vectors/errors.hpp"
 #include "fxmimo/vectors/sha256.hpp"
-
-#include <fmt/core.h>
-#include <nlohmann/json.hpp>
 
 #ifndef FXMIMO_VERSION
 #define FXMIMO_VERSION "unknown"
@@ -16,12 +17,9 @@ std::string_view library_version() { return FXMIMO_VERSION; }
 
 std::string_view to_string(file_form form) {
   switch (form) {
-    case file_form::hex:
-      return "hex";
-    case file_form::bin:
-      return "bin";
-    case file_form::npy:
-      return "npy";
+    case file_form::hex: return "hex";
+    case file_form::bin: return "bin";
+    case file_form::npy: return "npy";
   }
   return "?";
 }
@@ -71,7 +69,8 @@ nlohmann::json to_json(const manifest& m) {
     e["rounding"] = std::string(fp::to_string(f.spec.rounding));
     e["overflow"] = std::string(fp::to_string(f.spec.overflow));
     e["dims"] = nlohmann::json::array();
-    for (std::size_t i = 0; i < f.dim_names.size(); ++i) e["dims"].push_back({{"name", f.dim_names[i]}, {"size", f.dim_sizes[i]}});
+    for (std::size_t i = 0; i < f.dim_names.size(); ++i)
+      e["dims"].push_back({{"name", f.dim_names[i]}, {"size", f.dim_sizes[i]}});
     e["word_count"] = f.word_count;
     e["bytes"] = f.bytes;
     e["sha256"] = f.sha256;
@@ -138,7 +137,8 @@ manifest manifest_from_json(const nlohmann::json& j, std::string_view source) {
   manifest m;
   if (r.str(j, "kind", "top level") != "fxmimo vector set") r.fail("top level", "kind is not \"fxmimo vector set\"");
   const int schema = r.integer(j, "schema", "top level");
-  if (schema != manifest_schema) r.fail("top level", fmt::format("schema {} is not supported (this reader knows {})", schema, manifest_schema));
+  if (schema != manifest_schema)
+    r.fail("top level", fmt::format("schema {} is not supported (this reader knows {})", schema, manifest_schema));
   m.info.tool_version = r.str(r.get(j, "tool", "top level"), "version", "tool");
   const auto& scen = r.get(j, "scenario", "top level");
   m.info.scenario_name = r.str(scen, "name", "scenario");

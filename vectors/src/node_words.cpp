@@ -1,10 +1,10 @@
 #include "fxmimo/vectors/node_words.hpp"
 
-#include "fxmimo/vectors/errors.hpp"
-
 #include <fmt/core.h>
 
 #include <limits>
+
+#include "fxmimo/vectors/errors.hpp"
 
 namespace fxmimo::vectors {
 
@@ -31,8 +31,8 @@ namespace {
 bool is_name(const std::string& s) {
   if (s.empty()) return false;
   for (char ch : s) {
-    const bool ok = (ch >= 'a' && ch <= 'z') || (ch >= 'A' && ch <= 'Z') || (ch >= '0' && ch <= '9') || ch == '_' ||
-                    ch == '-';
+    const bool ok =
+        (ch >= 'a' && ch <= 'z') || (ch >= 'A' && ch <= 'Z') || (ch >= '0' && ch <= '9') || ch == '_' || ch == '-';
     if (!ok) return false;
   }
   return true;
@@ -67,7 +67,8 @@ void validate(const node_words& words) {
   }
   const std::size_t n = words.num_elements();
   if (words.re.size() != n) fail(fmt::format("{} real words for {} elements", words.re.size(), n));
-  if (words.is_complex && words.im.size() != n) fail(fmt::format("{} imaginary words for {} elements", words.im.size(), n));
+  if (words.is_complex && words.im.size() != n)
+    fail(fmt::format("{} imaginary words for {} elements", words.im.size(), n));
   if (!words.is_complex && !words.im.empty()) fail("imaginary words given for a real record");
 
   const int w = words.spec.fmt.word_bits;

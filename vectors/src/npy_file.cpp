@@ -1,12 +1,12 @@
 #include "fxmimo/vectors/npy_file.hpp"
 
-#include "fxmimo/vectors/errors.hpp"
-#include "fxmimo/vectors/hex_file.hpp"
-
 #include <fmt/core.h>
 
 #include <cctype>
 #include <limits>
+
+#include "fxmimo/vectors/errors.hpp"
+#include "fxmimo/vectors/hex_file.hpp"
 
 namespace fxmimo::vectors {
 
@@ -33,7 +33,8 @@ std::string format_npy(std::span<const std::int64_t> words, const std::vector<st
   }
   std::size_t count = 1;
   for (std::size_t d : shape) count *= d;
-  if (count != words.size()) throw vector_error(fmt::format("npy: shape holds {} elements, {} words given", count, words.size()));
+  if (count != words.size())
+    throw vector_error(fmt::format("npy: shape holds {} elements, {} words given", count, words.size()));
 
   // NEP 1: a Python literal tuple; a 1-d shape needs the trailing comma, a 0-d shape is ().
   std::string shape_text = "(";
@@ -65,7 +66,8 @@ std::string format_npy(std::span<const std::int64_t> words, const std::vector<st
   for (std::int64_t w : words) {
     if (w < lo || w > hi) throw vector_error(fmt::format("npy: word {} does not fit int{}", w, bits));
     const auto pattern = static_cast<std::uint64_t>(w);
-    for (int b = 0; b < item_bytes; ++b) out.push_back(static_cast<char>((pattern >> (8U * static_cast<unsigned>(b))) & 0xFFU));
+    for (int b = 0; b < item_bytes; ++b)
+      out.push_back(static_cast<char>((pattern >> (8U * static_cast<unsigned>(b))) & 0xFFU));
   }
   return out;
 }
@@ -202,11 +204,13 @@ npy_array parse_npy(std::string_view bytes, std::string_view source) {
   out.data_offset = header_start + header_len;
 
   if (out.fortran_order) fail("Fortran-order arrays are not supported (vector sets are C order)");
-  if (out.descr.size() != 3 || (out.descr[1] != 'i') || (out.descr[0] != '<' && out.descr[0] != '>' && out.descr[0] != '|')) {
+  if (out.descr.size() != 3 || (out.descr[1] != 'i') ||
+      (out.descr[0] != '<' && out.descr[0] != '>' && out.descr[0] != '|')) {
     fail(fmt::format("dtype '{}' is not a signed integer ('<i2', '<i4', '<i8', ...)", out.descr));
   }
   const int item = out.descr[2] - '0';
-  if (item != 1 && item != 2 && item != 4 && item != 8) fail(fmt::format("dtype '{}' has an unsupported size", out.descr));
+  if (item != 1 && item != 2 && item != 4 && item != 8)
+    fail(fmt::format("dtype '{}' has an unsupported size", out.descr));
   const bool big_endian = out.descr[0] == '>';
   std::size_t count = 1;
   for (std::size_t d : out.shape) count *= d;
@@ -220,8 +224,8 @@ npy_array parse_npy(std::string_view bytes, std::string_view source) {
     std::uint64_t pattern = 0;
     for (int b = 0; b < item; ++b) {
       const int k = big_endian ? item - 1 - b : b;
-      pattern |= static_cast<std::uint64_t>(byte_at(out.data_offset + i * static_cast<std::size_t>(item) +
-                                                    static_cast<std::size_t>(b)))
+      pattern |= static_cast<std::uint64_t>(
+                     byte_at(out.data_offset + i * static_cast<std::size_t>(item) + static_cast<std::size_t>(b)))
                  << (8U * static_cast<unsigned>(k));
     }
     // Sign-extend from the item width.

@@ -1,26 +1,22 @@
 #include "fxmimo/vectors/set_diff.hpp"
 
-#include "fxmimo/fixedpoint/integer.hpp"
-
 #include <fmt/core.h>
-#include <nlohmann/json.hpp>
 
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <nlohmann/json.hpp>
+
+#include "fxmimo/fixedpoint/integer.hpp"
 
 namespace fxmimo::vectors {
 
 std::string_view to_string(diff_status status) {
   switch (status) {
-    case diff_status::identical:
-      return "identical";
-    case diff_status::changed:
-      return "changed";
-    case diff_status::only_in_a:
-      return "removed";
-    case diff_status::only_in_b:
-      return "added";
+    case diff_status::identical: return "identical";
+    case diff_status::changed: return "changed";
+    case diff_status::only_in_a: return "removed";
+    case diff_status::only_in_b: return "added";
   }
   return "?";
 }
@@ -35,7 +31,8 @@ namespace {
 
 std::string dims_text(const node_words& r) {
   std::string s;
-  for (std::size_t d = 0; d < r.dim_names.size(); ++d) s += fmt::format("{}{}={}", d == 0 ? "" : " x ", r.dim_names[d], r.dim_sizes[d]);
+  for (std::size_t d = 0; d < r.dim_names.size(); ++d)
+    s += fmt::format("{}{}={}", d == 0 ? "" : " x ", r.dim_names[d], r.dim_sizes[d]);
   return s.empty() ? "(scalar)" : s;
 }
 
@@ -49,11 +46,15 @@ bool same_value(std::int64_t a, int fa, std::int64_t b, int fb) {
 }
 
 void compare_records(const node_words& a, const node_words& b, record_diff& d) {
-  if (a.spec.fmt != b.spec.fmt) d.what.push_back(fmt::format("format {} -> {}", fp::describe(a.spec.fmt), fp::describe(b.spec.fmt)));
-  if (a.spec.rounding != b.spec.rounding) d.what.push_back(fmt::format("rounding {} -> {}", fp::to_string(a.spec.rounding), fp::to_string(b.spec.rounding)));
-  if (a.spec.overflow != b.spec.overflow) d.what.push_back(fmt::format("overflow {} -> {}", fp::to_string(a.spec.overflow), fp::to_string(b.spec.overflow)));
+  if (a.spec.fmt != b.spec.fmt)
+    d.what.push_back(fmt::format("format {} -> {}", fp::describe(a.spec.fmt), fp::describe(b.spec.fmt)));
+  if (a.spec.rounding != b.spec.rounding)
+    d.what.push_back(fmt::format("rounding {} -> {}", fp::to_string(a.spec.rounding), fp::to_string(b.spec.rounding)));
+  if (a.spec.overflow != b.spec.overflow)
+    d.what.push_back(fmt::format("overflow {} -> {}", fp::to_string(a.spec.overflow), fp::to_string(b.spec.overflow)));
   if (a.dim_names != b.dim_names || a.dim_sizes != b.dim_sizes || a.is_complex != b.is_complex) {
-    d.what.push_back(fmt::format("dims {}{} -> {}{}", dims_text(a), a.is_complex ? " complex" : "", dims_text(b), b.is_complex ? " complex" : ""));
+    d.what.push_back(fmt::format("dims {}{} -> {}{}", dims_text(a), a.is_complex ? " complex" : "", dims_text(b),
+                                 b.is_complex ? " complex" : ""));
     d.status = diff_status::changed;
     d.sqnr_db = std::numeric_limits<double>::quiet_NaN();
     return;
@@ -79,7 +80,7 @@ void compare_records(const node_words& a, const node_words& b, record_diff& d) {
   run(a.im, b.im);
   if (d.changed_words > 0) d.what.push_back(fmt::format("{} of {} words", d.changed_words, d.words));
   d.status = d.what.empty() ? diff_status::identical : diff_status::changed;
-  d.sqnr_db = noise == 0.0 ? std::numeric_limits<double>::infinity()
+  d.sqnr_db = noise == 0.0    ? std::numeric_limits<double>::infinity()
               : signal == 0.0 ? -std::numeric_limits<double>::infinity()
                               : 10.0 * std::log10(signal / noise);
 }
@@ -91,14 +92,18 @@ set_diff_report diff_vector_sets(const vector_set& a, const vector_set& b, const
   report.scenario_a = a.man.scenario_sha256;
   report.scenario_b = b.man.scenario_sha256;
   if (report.scenario_a != report.scenario_b) {
-    report.notes.push_back(fmt::format("scenario texts differ (A {}..., B {}...): expected when the datapath configuration changed",
-                                       report.scenario_a.substr(0, 12), report.scenario_b.substr(0, 12)));
+    report.notes.push_back(
+        fmt::format("scenario texts differ (A {}..., B {}...): expected when the datapath configuration changed",
+                    report.scenario_a.substr(0, 12), report.scenario_b.substr(0, 12)));
   }
   if (a.man.info.seed != b.man.info.seed) {
-    report.notes.push_back(fmt::format("seeds differ (A {}, B {}): the stimulus differs, so every node may change", a.man.info.seed, b.man.info.seed));
+    report.notes.push_back(fmt::format("seeds differ (A {}, B {}): the stimulus differs, so every node may change",
+                                       a.man.info.seed, b.man.info.seed));
   }
   if (a.man.info.trials != b.man.info.trials) report.notes.push_back("trial lists differ: the stimulus differs");
-  auto is_allowed = [&](const std::string& node) { return std::find(allowed.begin(), allowed.end(), node) != allowed.end(); };
+  auto is_allowed = [&](const std::string& node) {
+    return std::find(allowed.begin(), allowed.end(), node) != allowed.end();
+  };
 
   for (const node_words& ra : a.records) {
     record_diff d;
@@ -136,19 +141,23 @@ set_diff_report diff_vector_sets(const vector_set& a, const vector_set& b, const
 std::string format_diff(const set_diff_report& report) {
   std::string out;
   for (const std::string& note : report.notes) out += "note: " + note + "\n";
-  out += fmt::format("{:<28} {:<10} {:>14} {:>12} {:>10}  {}\n", "record", "status", "changed words", "max |B-A|", "SQNR dB", "what");
+  out += fmt::format("{:<28} {:<10} {:>14} {:>12} {:>10}  {}\n", "record", "status", "changed words", "max |B-A|",
+                     "SQNR dB", "what");
   for (const record_diff& r : report.records) {
     std::string status(to_string(r.status));
     if (r.status != diff_status::identical && r.allowed) status += " (allowed)";
     const std::string changed = r.words == 0 ? "-" : fmt::format("{}/{}", r.changed_words, r.words);
     const std::string max_lsb = r.words == 0 ? "-" : fmt::format("{:.6g} LSB", r.max_diff_lsb);
-    const std::string sqnr = std::isnan(r.sqnr_db) ? "-" : std::isinf(r.sqnr_db) ? (r.sqnr_db > 0 ? "inf" : "-inf") : fmt::format("{:.2f}", r.sqnr_db);
+    const std::string sqnr = std::isnan(r.sqnr_db)   ? "-"
+                             : std::isinf(r.sqnr_db) ? (r.sqnr_db > 0 ? "inf" : "-inf")
+                                                     : fmt::format("{:.2f}", r.sqnr_db);
     std::string what;
     for (const std::string& w : r.what) what += (what.empty() ? "" : "; ") + w;
     out += fmt::format("{:<28} {:<10} {:>14} {:>12} {:>10}  {}\n", r.label, status, changed, max_lsb, sqnr, what);
   }
   const std::size_t bad = report.unallowed_changes();
-  out += bad == 0 ? "result: no unallowed changes\n" : fmt::format("result: {} record(s) changed that are not allowed\n", bad);
+  out += bad == 0 ? "result: no unallowed changes\n"
+                  : fmt::format("result: {} record(s) changed that are not allowed\n", bad);
   return out;
 }
 
@@ -160,13 +169,21 @@ nlohmann::json to_json(const set_diff_report& report) {
   j["unallowed_changes"] = report.unallowed_changes();
   j["records"] = nlohmann::json::array();
   for (const record_diff& r : report.records) {
-    nlohmann::json e{{"record", r.label},        {"node", r.node},   {"status", std::string(to_string(r.status))},
-                     {"allowed", r.allowed},     {"words", r.words}, {"changed_words", r.changed_words},
-                     {"max_diff_lsb", r.max_diff_lsb}, {"what", r.what}};
+    nlohmann::json e{{"record", r.label},
+                     {"node", r.node},
+                     {"status", std::string(to_string(r.status))},
+                     {"allowed", r.allowed},
+                     {"words", r.words},
+                     {"changed_words", r.changed_words},
+                     {"max_diff_lsb", r.max_diff_lsb},
+                     {"what", r.what}};
     // JSON has no inf/NaN: null for "not comparable", a string for infinity.
-    if (std::isnan(r.sqnr_db)) e["sqnr_db"] = nullptr;
-    else if (std::isinf(r.sqnr_db)) e["sqnr_db"] = r.sqnr_db > 0 ? "inf" : "-inf";
-    else e["sqnr_db"] = r.sqnr_db;
+    if (std::isnan(r.sqnr_db))
+      e["sqnr_db"] = nullptr;
+    else if (std::isinf(r.sqnr_db))
+      e["sqnr_db"] = r.sqnr_db > 0 ? "inf" : "-inf";
+    else
+      e["sqnr_db"] = r.sqnr_db;
     j["records"].push_back(std::move(e));
   }
   return j;

@@ -1,8 +1,8 @@
 #include "fxmimo/vectors/sha256.hpp"
 
-#include "fxmimo/vectors/errors.hpp"
-
 #include <fstream>
+
+#include "fxmimo/vectors/errors.hpp"
 
 namespace fxmimo::vectors {
 
@@ -89,7 +89,8 @@ std::array<std::uint8_t, 32> sha256::finish() {
     block_used_ = 0;
   }
   while (block_used_ < 56) block_[block_used_++] = 0;
-  for (int i = 7; i >= 0; --i) block_[block_used_++] = static_cast<std::uint8_t>(total_bits >> (8U * static_cast<unsigned>(i)));
+  for (int i = 7; i >= 0; --i)
+    block_[block_used_++] = static_cast<std::uint8_t>(total_bits >> (8U * static_cast<unsigned>(i)));
   compress(block_.data());
   block_used_ = 0;
   std::array<std::uint8_t, 32> digest{};

@@ -1,20 +1,19 @@
 #include "fxmimo/vectors/vector_set.hpp"
 
-#include "fxmimo/vectors/errors.hpp"
-#include "fxmimo/vectors/hex_file.hpp"
-#include "fxmimo/vectors/npy_file.hpp"
-#include "fxmimo/vectors/sha256.hpp"
-
 #include <fmt/core.h>
-#include <nlohmann/json.hpp>
-
 #include <unistd.h>
 
 #include <fstream>
 #include <map>
+#include <nlohmann/json.hpp>
 #include <set>
 #include <system_error>
 #include <tuple>
+
+#include "fxmimo/vectors/errors.hpp"
+#include "fxmimo/vectors/hex_file.hpp"
+#include "fxmimo/vectors/npy_file.hpp"
+#include "fxmimo/vectors/sha256.hpp"
 
 namespace fxmimo::vectors {
 
@@ -47,10 +46,8 @@ std::vector<std::int64_t> part_words(const node_words& record, std::string_view 
 std::string file_bytes(const node_words& record, std::string_view part, file_form form) {
   const std::vector<std::int64_t> words = part_words(record, part);
   switch (form) {
-    case file_form::hex:
-      return format_word_lines(words, record.spec.fmt, word_radix::hex);
-    case file_form::bin:
-      return format_word_lines(words, record.spec.fmt, word_radix::bin);
+    case file_form::hex: return format_word_lines(words, record.spec.fmt, word_radix::hex);
+    case file_form::bin: return format_word_lines(words, record.spec.fmt, word_radix::bin);
     case file_form::npy: {
       std::vector<std::size_t> shape = record.dim_sizes;
       if (part == "re_im") shape.push_back(2);
@@ -86,7 +83,9 @@ class write_transaction {
     }
     std::error_code ec;
     fs::rename(temp_path, final_path, ec);
-    if (ec) throw vector_error(fmt::format("cannot rename {} to {}: {}", temp_path.string(), final_path.string(), ec.message()));
+    if (ec)
+      throw vector_error(
+          fmt::format("cannot rename {} to {}: {}", temp_path.string(), final_path.string(), ec.message()));
     created_.back() = final_path;
   }
 
@@ -126,9 +125,12 @@ manifest write_vector_set(const fs::path& dir, const manifest_info& info, const 
   std::set<std::string> names;
   for (const node_words& r : records) {
     std::vector<std::string> parts;
-    if (!r.is_complex) parts = {"real"};
-    else if (layout == complex_layout::split) parts = {"re", "im"};
-    else parts = {"re_im"};
+    if (!r.is_complex)
+      parts = {"real"};
+    else if (layout == complex_layout::split)
+      parts = {"re", "im"};
+    else
+      parts = {"re_im"};
     for (const std::string& part : parts) {
       file_entry e;
       e.file = file_name_for(r, part, form);
@@ -159,7 +161,8 @@ manifest write_vector_set(const fs::path& dir, const manifest_info& info, const 
   std::vector<std::string> old_files;
   if (fs::exists(manifest_path)) {
     try {
-      const manifest old = manifest_from_json(nlohmann::json::parse(read_file_bytes(manifest_path)), manifest_path.string());
+      const manifest old =
+          manifest_from_json(nlohmann::json::parse(read_file_bytes(manifest_path)), manifest_path.string());
       for (const file_entry& f : old.files) old_files.push_back(f.file);
     } catch (const std::exception& e) {
       throw vector_error(fmt::format("{} holds a manifest this writer cannot read, refusing to overwrite: {}",
@@ -169,8 +172,8 @@ manifest write_vector_set(const fs::path& dir, const manifest_info& info, const 
     fs::remove(manifest_path, ec);
     if (ec) throw vector_error(fmt::format("cannot remove {}: {}", manifest_path.string(), ec.message()));
   } else if (!fs::is_empty(dir, ec)) {
-    throw vector_error(fmt::format("{} is neither empty nor a vector set (no manifest.json); refusing to write there",
-                                   dir.string()));
+    throw vector_error(
+        fmt::format("{} is neither empty nor a vector set (no manifest.json); refusing to write there", dir.string()));
   }
 
   write_transaction tx(dir);
@@ -198,7 +201,8 @@ const node_words* vector_set::find(std::string_view node, std::string_view direc
   if (ports.size() > 1) {
     std::string list;
     for (const std::string& p : ports) list += (list.empty() ? "" : ", ") + p;
-    throw vector_error(fmt::format("node {} has {} '{}' records (ports {}); name the port", node, ports.size(), direction, list));
+    throw vector_error(
+        fmt::format("node {} has {} '{}' records (ports {}); name the port", node, ports.size(), direction, list));
   }
   return found;
 }
@@ -236,7 +240,8 @@ vector_set read_vector_set(const fs::path& dir) {
                                      bytes.size(), f.bytes));
     }
     if (sha256_hex(bytes) != f.sha256) {
-      throw vector_error(fmt::format("{}: SHA-256 differs from the manifest (the file changed after writing)", path.string()));
+      throw vector_error(
+          fmt::format("{}: SHA-256 differs from the manifest (the file changed after writing)", path.string()));
     }
     std::vector<std::int64_t> words;
     switch (set.man.form) {
@@ -250,8 +255,11 @@ vector_set read_vector_set(const fs::path& dir) {
         std::vector<std::size_t> shape = f.dim_sizes;
         if (f.part == "re_im") shape.push_back(2);
         const std::string want = npy_descr(npy_item_bytes(f.spec.fmt));
-        if (a.descr != want) throw vector_error(fmt::format("{}: dtype '{}', expected '{}' for {}", path.string(), a.descr, want, fp::describe(f.spec.fmt)));
-        if (a.shape != shape) throw vector_error(fmt::format("{}: shape differs from the manifest's dims", path.string()));
+        if (a.descr != want)
+          throw vector_error(fmt::format("{}: dtype '{}', expected '{}' for {}", path.string(), a.descr, want,
+                                         fp::describe(f.spec.fmt)));
+        if (a.shape != shape)
+          throw vector_error(fmt::format("{}: shape differs from the manifest's dims", path.string()));
         words = std::move(a.values);
         break;
       }
@@ -276,10 +284,13 @@ vector_set read_vector_set(const fs::path& dir) {
     }
     node_words& r = set.records[it->second];
     if (r.spec != f.spec || r.dim_names != f.dim_names || r.dim_sizes != f.dim_sizes) {
-      throw vector_error(fmt::format("{}: the parts of record {} disagree on format or dims", manifest_path.string(), record_label(r)));
+      throw vector_error(fmt::format("{}: the parts of record {} disagree on format or dims", manifest_path.string(),
+                                     record_label(r)));
     }
     auto fill = [&](std::vector<std::int64_t>& dst, const char* part_name) {
-      if (!dst.empty()) throw vector_error(fmt::format("{}: record {} lists its {} part twice", manifest_path.string(), record_label(r), part_name));
+      if (!dst.empty())
+        throw vector_error(
+            fmt::format("{}: record {} lists its {} part twice", manifest_path.string(), record_label(r), part_name));
       dst = words;
     };
     if (f.part == "real" || f.part == "re") {
@@ -287,7 +298,8 @@ vector_set read_vector_set(const fs::path& dir) {
     } else if (f.part == "im") {
       fill(r.im, "imaginary");
     } else {
-      if (!r.re.empty()) throw vector_error(fmt::format("{}: record {} lists its parts twice", manifest_path.string(), record_label(r)));
+      if (!r.re.empty())
+        throw vector_error(fmt::format("{}: record {} lists its parts twice", manifest_path.string(), record_label(r)));
       for (std::size_t i = 0; i + 1 < words.size(); i += 2) {
         r.re.push_back(words[i]);
         r.im.push_back(words[i + 1]);

@@ -70,6 +70,8 @@ class gram_stage final : public stage {
 
 }  // namespace
 
-std::shared_ptr<stage> make_gram(std::optional<double> rzf_loading) { return std::make_shared<gram_stage>(rzf_loading); }
+std::shared_ptr<stage> make_gram(std::optional<double> rzf_loading) {
+  return std::make_shared<gram_stage>(rzf_loading);
+}
 
 }  // namespace fxmimo::datapath::detail

@@ -4,9 +4,10 @@
 //   r_j  = Q(1 / d_j)                                                       [inv_diag_recip]
 //   n_ij = Q(... Q(Q(G_ij) - Q(l_i0 conj(l_j0) d_0)) ...), i > j              [ldl_acc]
 //   l_ij = Q(n_ij r_j)                                                     [inv_factor]
+#include "fxmimo/golden/ldl.hpp"
+
 #include "../stage_support.hpp"
 #include "fxmimo/fixedpoint/divide.hpp"
-#include "fxmimo/golden/ldl.hpp"
 #include "stages.hpp"
 
 namespace fxmimo::datapath::detail {
@@ -23,8 +24,7 @@ class ldl_stage final : public stage {
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
     const int factor = bits_of(c, node_id::inv_factor), acc = bits_of(c, node_id::ldl_acc);
     return std::max({product_bits({factor, factor, acc}, acc),
-                     product_bits({acc, bits_of(c, node_id::inv_diag_recip)}, factor),
-                     bits_of(c, source(0, 0)) + 2});
+                     product_bits({acc, bits_of(c, node_id::inv_diag_recip)}, factor), bits_of(c, source(0, 0)) + 2});
   }
   [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
     return 4 * word_bits_of(c, node_id::inv_factor) * word_bits_of(c, node_id::inv_factor);
@@ -86,8 +86,7 @@ class ldl_stage final : public stage {
         for (int k = 0; k < j; ++k) {
           const fp::cword<P> lik_conj_ljk = fp::cmul_conj<P>(widen<P>(get(l, i, k)), widen<P>(get(l, j, k)));
           const P dk = fp::convert_int<P>(d[static_cast<std::size_t>(k)]);
-          acc.add(fp::cword<P>{P(-(lik_conj_ljk.re * dk)), P(-(lik_conj_ljk.im * dk))}, term_frac,
-                  *acc_node.counters);
+          acc.add(fp::cword<P>{P(-(lik_conj_ljk.re * dk)), P(-(lik_conj_ljk.im * dk))}, term_frac, *acc_node.counters);
         }
         const cw n_ij = narrow(acc.result(*acc_node.counters));
         put(*acc_node.words, i, j, n_ij);

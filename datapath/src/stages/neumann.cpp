@@ -12,7 +12,8 @@ namespace fxmimo::datapath::detail {
 namespace {
 
 std::vector<port> neumann_ports(int num_terms) {
-  std::vector<port> p{{node_id::inv_diag_recip, {node_id::gram}}, {node_id::inv_iter, {node_id::gram, node_id::inv_diag_recip}}};
+  std::vector<port> p{{node_id::inv_diag_recip, {node_id::gram}},
+                      {node_id::inv_iter, {node_id::gram, node_id::inv_diag_recip}}};
   if (num_terms > 1) p.push_back({node_id::inv_term, {node_id::inv_iter, node_id::inv_diag_recip}});
   p.push_back({node_id::inv_out, num_terms > 1 ? std::vector<node_id>{node_id::inv_diag_recip, node_id::inv_term}
                                                : std::vector<node_id>{node_id::inv_diag_recip}});

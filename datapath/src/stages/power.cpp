@@ -24,8 +24,9 @@ class power_stage final : public stage {
   [[nodiscard]] std::optional<growth_rule> growth(node_id id, const datapath_config& c,
                                                   const dimension_sizes& dims) const override {
     if (id != node_id::power_acc) return std::nullopt;
-    return growth_rule{2 * int_bits_of(c, source(0, 0)) + 2 + ceil_log2(static_cast<long long>(dims.antenna) * dims.user),
-                       "2 " + std::string(node_name(source(0, 0))) + " + 2 + log2(M K)"};
+    return growth_rule{
+        2 * int_bits_of(c, source(0, 0)) + 2 + ceil_log2(static_cast<long long>(dims.antenna) * dims.user),
+        "2 " + std::string(node_name(source(0, 0))) + " + 2 + log2(M K)"};
   }
   void compute(fixed_context& ctx) const override {
     const node_state pre = state(ctx, source(0, 0));
@@ -57,8 +58,8 @@ class power_stage final : public stage {
   }
   void golden_view(golden_context& ctx) const override {
     const Eigen::MatrixXcd& w = ctx.trial.precoder;
-    const Eigen::VectorXd power = per_antenna_ ? Eigen::VectorXd(w.rowwise().squaredNorm())
-                                               : Eigen::VectorXd::Constant(1, w.squaredNorm());
+    const Eigen::VectorXd power =
+        per_antenna_ ? Eigen::VectorXd(w.rowwise().squaredNorm()) : Eigen::VectorXd::Constant(1, w.squaredNorm());
     ctx.set(node_id::power_acc, power.cast<std::complex<double>>());
     ctx.set(node_id::norm, power.cwiseSqrt().cwiseInverse().cast<std::complex<double>>());
   }

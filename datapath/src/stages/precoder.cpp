@@ -11,7 +11,7 @@ class precoder_stage final : public stage {
  public:
   explicit precoder_stage(bool uses_inverse)
       : stage("precoder", {{node_id::precoder, uses_inverse ? std::vector<node_id>{node_id::chan_est, node_id::inv_out}
-                                                              : std::vector<node_id>{node_id::chan_est}}}),
+                                                            : std::vector<node_id>{node_id::chan_est}}}),
         uses_inverse_(uses_inverse) {}
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
     const int est = bits_of(c, source(0, 0)), pre = bits_of(c, output(0));

@@ -2,25 +2,25 @@
 // The reference stages, one file each under stages/; stages_for (plan.cpp) lays them out.
 // Private to the datapath room: a program of its own derives from datapath::stage instead.
 
-#include "fxmimo/datapath/stage_kit.hpp"
-
 #include <functional>
 #include <memory>
+
+#include "fxmimo/datapath/stage_kit.hpp"
 
 namespace fxmimo::datapath::detail {
 
 // make_golden_converter and make_requantizer (converters.cpp) are public: stage_kit.hpp.
 
-std::shared_ptr<stage> make_correlator();                    // correlator.cpp: pilot_acc
-std::shared_ptr<stage> make_estimate();                      // estimate.cpp: chan_est (LS, MMSE)
+std::shared_ptr<stage> make_correlator();                             // correlator.cpp: pilot_acc
+std::shared_ptr<stage> make_estimate();                               // estimate.cpp: chan_est (LS, MMSE)
 std::shared_ptr<stage> make_gram(std::optional<double> rzf_loading);  // gram.cpp
-std::shared_ptr<stage> make_ldl();                           // ldl.cpp: ldl_acc, inv_diag_recip, inv_factor
-std::shared_ptr<stage> make_ldl_solves();                    // solves.cpp: inv_fwd, inv_out
-std::shared_ptr<stage> make_neumann(int num_terms);          // neumann.cpp
-std::shared_ptr<stage> make_precoder(bool uses_inverse);     // precoder.cpp
-std::shared_ptr<stage> make_power(bool per_antenna);         // power.cpp: power_acc, norm
-std::shared_ptr<stage> make_weights();                       // weights.cpp
-std::shared_ptr<stage> make_transmit();                      // transmit.cpp: tx_acc
+std::shared_ptr<stage> make_ldl();                                    // ldl.cpp: ldl_acc, inv_diag_recip, inv_factor
+std::shared_ptr<stage> make_ldl_solves();                             // solves.cpp: inv_fwd, inv_out
+std::shared_ptr<stage> make_neumann(int num_terms);                   // neumann.cpp
+std::shared_ptr<stage> make_precoder(bool uses_inverse);              // precoder.cpp
+std::shared_ptr<stage> make_power(bool per_antenna);                  // power.cpp: power_acc, norm
+std::shared_ptr<stage> make_weights();                                // weights.cpp
+std::shared_ptr<stage> make_transmit();                               // transmit.cpp: tx_acc
 
 /// ceil(log2(n)) for n >= 1: the integer bits a sum of n terms can add (common practice).
 int ceil_log2(long long n);

@@ -18,15 +18,13 @@ class transmit_stage final : public stage {
     return 4 * dims.antenna * word_bits_of(c, source(0, 0)) * word_bits_of(c, source(0, 1));
   }
   /// One accumulator register pair per antenna lane: the samples stream out.
-  [[nodiscard]] double storage_words(node_id, const dimension_sizes& dims) const override {
-    return 2.0 * dims.antenna;
-  }
+  [[nodiscard]] double storage_words(node_id, const dimension_sizes& dims) const override { return 2.0 * dims.antenna; }
   /// Complex product parts + 2 (see the correlator), log2(K) for the sum over users.
   [[nodiscard]] std::optional<growth_rule> growth(node_id, const datapath_config& c,
                                                   const dimension_sizes& dims) const override {
-    return growth_rule{int_bits_of(c, source(0, 0)) + int_bits_of(c, source(0, 1)) + 2 + ceil_log2(dims.user),
-                       std::string(node_name(source(0, 0))) + " + " + std::string(node_name(source(0, 1))) +
-                           " + 2 + log2(K)"};
+    return growth_rule{
+        int_bits_of(c, source(0, 0)) + int_bits_of(c, source(0, 1)) + 2 + ceil_log2(dims.user),
+        std::string(node_name(source(0, 0))) + " + " + std::string(node_name(source(0, 1))) + " + 2 + log2(K)"};
   }
   void compute(fixed_context& ctx) const override {
     const node_state wts = state(ctx, source(0, 0)), sym = state(ctx, source(0, 1));

@@ -6,18 +6,17 @@
 //
 // Modes without a SystemC twin: `ceil` is checked through ceil(x) = -floor(-x) (an identity
 // of the floor function, stated here and used with SC_TRN on the negated value).
-#include "fxmimo/fixedpoint/accumulator.hpp"
-#include "fxmimo/fixedpoint/conversions.hpp"
-#include "fxmimo/fixedpoint/requantize.hpp"
-
 #include <gtest/gtest.h>
-#include <nlohmann/json.hpp>
-#include <systemc>
 
+#include <nlohmann/json.hpp>
 #include <random>
 #include <sstream>
 #include <string>
+#include <systemc>
 
+#include "fxmimo/fixedpoint/accumulator.hpp"
+#include "fxmimo/fixedpoint/conversions.hpp"
+#include "fxmimo/fixedpoint/requantize.hpp"
 
 namespace fp = fxmimo::fixedpoint;
 using fp::big_int;
@@ -90,7 +89,8 @@ big_int reference_word(const big_int& raw, int from_frac, const fp::target& tgt)
   // negation cannot overflow), negate, then let SystemC apply the overflow mode alone.
   // The wide format holds every input word, so nothing saturates before the final step.
   fp::target wide = tgt;
-  const int input_int_bits = std::max(0, raw.is_zero() ? 0 : static_cast<int>(boost::multiprecision::msb(abs(raw))) + 1 - from_frac);
+  const int input_int_bits =
+      std::max(0, raw.is_zero() ? 0 : static_cast<int>(boost::multiprecision::msb(abs(raw))) + 1 - from_frac);
   wide.fmt.word_bits = std::max(tgt.fmt.word_bits, input_int_bits + tgt.fmt.frac_bits) + 3;
   wide.fmt.is_signed = true;
   wide.rounding = fp::rounding_mode::floor;
@@ -136,7 +136,8 @@ std::vector<big_int> corner_inputs(const width_case& w) {
   const big_int lsb = dropped > 0 ? big_int(1) << dropped : big_int(1);
   const big_int limit = big_int(1) << (w.input_bits - 1);
   for (int k = -3; k <= 3; ++k) {
-    for (const big_int& base : std::vector<big_int>{big_int(0), big_int(lsb * 5), big_int(-lsb * 5), big_int(lsb * 6), big_int(-lsb * 6)}) {
+    for (const big_int& base :
+         std::vector<big_int>{big_int(0), big_int(lsb * 5), big_int(-lsb * 5), big_int(lsb * 6), big_int(-lsb * 6)}) {
       const big_int tie = base + half + k * lsb;
       for (const big_int& v : std::vector<big_int>{tie, big_int(-tie), big_int(tie + 1), big_int(tie - 1)})
         if (v < limit && v >= -limit) out.push_back(v);
@@ -146,8 +147,8 @@ std::vector<big_int> corner_inputs(const width_case& w) {
   const int top = w.is_signed ? w.word_bits - 1 : w.word_bits;
   for (int extra = -1; extra <= 1; ++extra) {
     big_int edge = dropped >= 0 ? (big_int(1) << (top + std::max(dropped, 0))) : (big_int(1) << top) >> (-dropped);
-    for (const big_int& v : std::vector<big_int>{big_int(edge + extra), big_int(-edge + extra), big_int(edge - lsb + extra),
-                             big_int(-edge - lsb + extra)})
+    for (const big_int& v : std::vector<big_int>{big_int(edge + extra), big_int(-edge + extra),
+                                                 big_int(edge - lsb + extra), big_int(-edge - lsb + extra)})
       if (v < limit && v >= -limit) out.push_back(v);
   }
   out.push_back(-limit);
@@ -207,8 +208,8 @@ TEST_P(versus_systemc, native_paths_match_systemc) {
         const big_int expected = reference_word(x, w.from_frac, tgt);
         if (w.input_bits <= 64 && w.word_bits + 1 <= 64) {
           const auto got = fp::requantize<std::int64_t>(fp::convert_int<std::int64_t>(x), w.from_frac, tgt, c);
-          ASSERT_EQ(big_int(got), expected) << name_of(w) << " int64 " << to_string(rnd) << "/" << to_string(ovf)
-                                            << " input " << x;
+          ASSERT_EQ(big_int(got), expected)
+              << name_of(w) << " int64 " << to_string(rnd) << "/" << to_string(ovf) << " input " << x;
         }
         const auto got128 = fp::requantize<fp::int128>(fp::convert_int<fp::int128>(x), w.from_frac, tgt, c);
         ASSERT_EQ(fp::convert_int<big_int>(got128), expected)
@@ -218,21 +219,19 @@ TEST_P(versus_systemc, native_paths_match_systemc) {
   }
 }
 
-INSTANTIATE_TEST_SUITE_P(
-    widths, versus_systemc,
-    ::testing::Values(width_case{true, 8, 4, 8, 16},      // drop 4 bits, overflow often
-                      width_case{true, 16, 15, 20, 40},   // Q0.15 from a wide product
-                      width_case{false, 12, 8, 12, 24},   // unsigned
-                      width_case{true, 16, 18, 24, 32},   // F > W
-                      width_case{true, 10, -3, 2, 24},    // negative F
-                      width_case{true, 24, 20, 16, 24},   // appending bits (left shift)
-                      width_case{true, 40, 30, 45, 62},   // accumulator-sized
-                      width_case{true, 64, 40, 60, 100},  // the full 64-bit word
-                      width_case{false, 63, 10, 30, 90},
-                      width_case{true, 80, 60, 90, 120},  // W > 64
-                      width_case{true, 128, 100, 120, 200},
-                      width_case{false, 100, 50, 70, 160}),
-    test_name);
+INSTANTIATE_TEST_SUITE_P(widths, versus_systemc,
+                         ::testing::Values(width_case{true, 8, 4, 8, 16},      // drop 4 bits, overflow often
+                                           width_case{true, 16, 15, 20, 40},   // Q0.15 from a wide product
+                                           width_case{false, 12, 8, 12, 24},   // unsigned
+                                           width_case{true, 16, 18, 24, 32},   // F > W
+                                           width_case{true, 10, -3, 2, 24},    // negative F
+                                           width_case{true, 24, 20, 16, 24},   // appending bits (left shift)
+                                           width_case{true, 40, 30, 45, 62},   // accumulator-sized
+                                           width_case{true, 64, 40, 60, 100},  // the full 64-bit word
+                                           width_case{false, 63, 10, 30, 90},
+                                           width_case{true, 80, 60, 90, 120},  // W > 64
+                                           width_case{true, 128, 100, 120, 200}, width_case{false, 100, 50, 70, 160}),
+                         test_name);
 
 // from_double: a double is the exact rational m 2^e; SystemC's sc_fxval(double) is exact too.
 TEST(from_double_vs_systemc, every_mode_pair_on_random_doubles) {
@@ -240,7 +239,7 @@ TEST(from_double_vs_systemc, every_mode_pair_on_random_doubles) {
   std::uniform_real_distribution<double> uni(-3.0, 3.0);
   for (fp::rounding_mode rnd : fp::all_rounding_modes) {
     for (fp::overflow_mode ovf : fp::all_overflow_modes) {
-      const fp::target tgt{{true, 12, 9}, rnd, ovf};  // Q2.9: +-4, so |v| up to 3 overflows too... no: wide enough
+      const fp::target tgt{{true, 12, 9}, rnd, ovf};    // Q2.9: +-4, so |v| up to 3 overflows too... no: wide enough
       const fp::target narrow{{true, 8, 7}, rnd, ovf};  // Q0.7: overflows often
       for (const fp::target& t : {tgt, narrow}) {
         const fp::requantizer<std::int64_t> q(t);
@@ -288,8 +287,10 @@ TEST(accumulator_vs_systemc, complex_mac_every_mode_pair) {
         term_im = ar * bi + ai * br;
         acc_re = acc_re + term_re;
         acc_im = acc_im + term_im;
-        ASSERT_EQ(big_int(acc.value().re), raw_word(acc_re, true)) << to_string(rnd) << "/" << to_string(ovf) << " k=" << k;
-        ASSERT_EQ(big_int(acc.value().im), raw_word(acc_im, true)) << to_string(rnd) << "/" << to_string(ovf) << " k=" << k;
+        ASSERT_EQ(big_int(acc.value().re), raw_word(acc_re, true))
+            << to_string(rnd) << "/" << to_string(ovf) << " k=" << k;
+        ASSERT_EQ(big_int(acc.value().im), raw_word(acc_im, true))
+            << to_string(rnd) << "/" << to_string(ovf) << " k=" << k;
       }
     }
   }
@@ -314,8 +315,8 @@ constexpr quant_row readme_table[] = {
     {"Q1.6", "half_up", "wrap", "1.9921875"},         // 128 wraps to -128
     {"Q1.6", "floor", "saturate", "-2.0078125"},      // -128.5 LSB floors to -129: saturates
     {"Q1.6", "floor", "saturate_symmetric", "-2.0078125"},
-    {"Q1.6", "floor", "wrap", "-2.0078125"},          // -129 wraps to 127
-    {"Q0.15", "half_even", "saturate", "-1"},         // the most negative word, in range
+    {"Q1.6", "floor", "wrap", "-2.0078125"},   // -129 wraps to 127
+    {"Q0.15", "half_even", "saturate", "-1"},  // the most negative word, in range
     {"Q0.15", "half_even", "saturate_symmetric", "-1"},
     {"UQ0.8", "toward_zero", "saturate_zero", "1.5"},  // overflow -> 0
 };

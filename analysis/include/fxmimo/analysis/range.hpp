@@ -3,22 +3,21 @@
 /// proposal of integer bits for a target overflow probability beside the worst-case analytic
 /// growth of the accumulating nodes.
 
-#include "fxmimo/golden/scenario.hpp"
-#include "fxmimo/datapath/config.hpp"
-
-
 #include <cstdint>
 #include <functional>
 #include <optional>
 #include <string>
 #include <vector>
 
+#include "fxmimo/datapath/config.hpp"
+#include "fxmimo/golden/scenario.hpp"
+
 namespace fxmimo::analysis {
 
 struct node_range {
   datapath::node_id id = datapath::node_id::adc;
-  std::uint64_t num_values = 0;  ///< real and imaginary parts counted separately (real nodes: one)
-  double max_abs = 0.0;          ///< largest |part|
+  std::uint64_t num_values = 0;                  ///< real and imaginary parts counted separately (real nodes: one)
+  double max_abs = 0.0;                          ///< largest |part|
   double p99 = 0.0, p9999 = 0.0, p999999 = 0.0;  ///< percentiles of |part|
   /// Histogram of floor(log2 |part|) for exponents hist_min_exp .. hist_min_exp + size - 1
   /// (zeros are not counted).
@@ -26,9 +25,9 @@ struct node_range {
   std::vector<std::uint64_t> log2_histogram;
   /// Proposed integer bits m (signed Qm.n, |v| < 2^m) for the overflow probability.
   int proposed_int_bits = 0;
-  std::string proposal_basis;     ///< "quantile" or "max+1" (too few values for the quantile)
+  std::string proposal_basis;            ///< "quantile" or "max+1" (too few values for the quantile)
   std::optional<int> analytic_int_bits;  ///< worst-case growth, where it is a simple rule
-  std::string analytic_rule;      ///< e.g. "adc + pilot_rom + log2(tau_p)"
+  std::string analytic_rule;             ///< e.g. "adc + pilot_rom + log2(tau_p)"
 };
 
 struct range_results {
@@ -51,6 +50,5 @@ int int_bits_for(double value);
 /// The datapath config with every active node's integer bits set to the proposal and its
 /// fraction bits kept (word bits adjusted; at most 64).
 datapath::datapath_config apply_proposal(const datapath::datapath_config& config, const range_results& ranges);
-
 
 }  // namespace fxmimo::analysis

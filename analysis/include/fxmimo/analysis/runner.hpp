@@ -3,16 +3,16 @@
 /// per-node and per-user results. Trials are spread over threads; every per-trial result is
 /// kept and reduced in trial order, so results are bit-identical for any thread count.
 
-#include "fxmimo/fixedpoint/counters.hpp"
-#include "fxmimo/golden/scenario.hpp"
-#include "fxmimo/datapath/datapath.hpp"
-#include "fxmimo/datapath/config.hpp"
-
 #include <cstdint>
 #include <functional>
 #include <optional>
 #include <string>
 #include <vector>
+
+#include "fxmimo/datapath/config.hpp"
+#include "fxmimo/datapath/datapath.hpp"
+#include "fxmimo/fixedpoint/counters.hpp"
+#include "fxmimo/golden/scenario.hpp"
 
 namespace fxmimo::analysis {
 
@@ -21,10 +21,10 @@ struct node_result {
   datapath::node_id id = datapath::node_id::adc;
   fixedpoint::target spec;
   bool is_default = true;
-  double signal_energy = 0.0;  ///< sum of |golden|^2 over every value and trial
-  double error_energy = 0.0;   ///< sum of |golden - fixed|^2
-  double max_err_lsb = 0.0;    ///< largest |golden - fixed| of a real or imaginary part, in LSBs
-  double max_abs_golden = 0.0; ///< largest |real| or |imaginary| part of the golden values
+  double signal_energy = 0.0;   ///< sum of |golden|^2 over every value and trial
+  double error_energy = 0.0;    ///< sum of |golden - fixed|^2
+  double max_err_lsb = 0.0;     ///< largest |golden - fixed| of a real or imaginary part, in LSBs
+  double max_abs_golden = 0.0;  ///< largest |real| or |imaginary| part of the golden values
   std::uint64_t num_values = 0;
   fixedpoint::counters counters;
   /// 10 log10(signal / error); +inf when the node is exact.
@@ -44,16 +44,16 @@ struct user_result {
 };
 
 struct run_summary {
-  double sinr_golden_db = 0.0;  ///< mean over users
-  double sinr_fixed_db = 0.0;   ///< mean over users
-  double sinr_loss_db = 0.0;    ///< mean over users of the per-user loss
-  double evm_golden_pct = 0.0;  ///< RMS over users
-  double evm_fixed_pct = 0.0;   ///< RMS over users
-  double evm_impl_pct = 0.0;    ///< RMS over trials of the gain-aligned ||dac - golden tx|| / ||golden tx||
+  double sinr_golden_db = 0.0;             ///< mean over users
+  double sinr_fixed_db = 0.0;              ///< mean over users
+  double sinr_loss_db = 0.0;               ///< mean over users of the per-user loss
+  double evm_golden_pct = 0.0;             ///< RMS over users
+  double evm_fixed_pct = 0.0;              ///< RMS over users
+  double evm_impl_pct = 0.0;               ///< RMS over trials of the gain-aligned ||dac - golden tx|| / ||golden tx||
   double tx_power_error_db = 0.0;          ///< mean over trials of 10 log10(|dac|^2 / |golden tx|^2)
   double max_abs_tx_power_error_db = 0.0;  ///< largest |power error| of a trial
   double rms_tx_power_error_db = 0.0;      ///< RMS over trials of the power error
-  std::optional<double> evm_limit_pct;  ///< 3GPP base-station limit for the modulation
+  std::optional<double> evm_limit_pct;     ///< 3GPP base-station limit for the modulation
 };
 
 struct run_results {
@@ -69,16 +69,17 @@ struct run_results {
 /// What one trial contributes (kept per trial, reduced in trial order).
 struct trial_summary {
   std::uint64_t trial_index = 0;
-  std::vector<node_result> nodes;  ///< indexed by datapath::index_of
+  std::vector<node_result> nodes;               ///< indexed by datapath::index_of
   std::vector<double> sinr_golden, sinr_fixed;  ///< linear, per user
   std::vector<double> evm_golden_pct, evm_fixed_pct;
-  double evm_impl = 0.0;      ///< fraction, not %
+  double evm_impl = 0.0;  ///< fraction, not %
   double tx_power_error_db = 0.0;
   double neumann_radius = 0.0;
 };
 
 /// Golden trial, fixed datapath, evaluation through the true channel, per-node errors.
-trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datapath_config& config, std::uint64_t trial_index);
+trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datapath_config& config,
+                             std::uint64_t trial_index);
 
 /// Called after each finished trial with (done, total).
 using progress_callback = std::function<void(std::size_t, std::size_t)>;

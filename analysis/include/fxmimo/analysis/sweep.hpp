@@ -2,11 +2,10 @@
 /// Sweeps: one node's width varied over a range, every other node as configured; each point is
 /// exactly a `fxmimo run` of the scenario with that width set (same trials, same results).
 
-#include "fxmimo/analysis/runner.hpp"
-
-
 #include <string>
 #include <vector>
+
+#include "fxmimo/analysis/runner.hpp"
 
 namespace fxmimo::analysis {
 
@@ -24,9 +23,9 @@ struct sweep_point {
   int bits = 0;
   fixedpoint::format fmt;
   run_summary summary;
-  double node_sqnr_db = 0.0;       ///< the swept node's SQNR (+inf: exact)
-  double node_overflow_rate = 0.0; ///< the swept node's overflow rate
-  double max_overflow_rate = 0.0;  ///< largest overflow rate over all nodes
+  double node_sqnr_db = 0.0;        ///< the swept node's SQNR (+inf: exact)
+  double node_overflow_rate = 0.0;  ///< the swept node's overflow rate
+  double max_overflow_rate = 0.0;   ///< largest overflow rate over all nodes
 };
 
 struct sweep_results {
@@ -38,9 +37,9 @@ struct sweep_results {
 
 /// Runs the sweep: for each node and each bits in [lo, hi], run_trials with that one format
 /// changed. Progress counts trials over all points.
-sweep_results run_sweep(const golden::scenario& scen, const datapath::datapath_config& config, const std::vector<datapath::node_id>& nodes,
-                        int lo, int hi, sweep_axis axis, const std::vector<std::uint64_t>& trials, unsigned num_threads,
+sweep_results run_sweep(const golden::scenario& scen, const datapath::datapath_config& config,
+                        const std::vector<datapath::node_id>& nodes, int lo, int hi, sweep_axis axis,
+                        const std::vector<std::uint64_t>& trials, unsigned num_threads,
                         const progress_callback& progress = {});
-
 
 }  // namespace fxmimo::analysis

@@ -7,14 +7,13 @@
 /// per unit cost (ranked once per round, taken in rank order while each still helps) and remove
 /// bits while the limits hold; finally a re-verification on fresh trials.
 
-#include "fxmimo/analysis/range.hpp"
-#include "fxmimo/analysis/runner.hpp"
-
-#include <nlohmann/json.hpp>
-
 #include <functional>
+#include <nlohmann/json.hpp>
 #include <string>
 #include <vector>
+
+#include "fxmimo/analysis/range.hpp"
+#include "fxmimo/analysis/runner.hpp"
 
 namespace fxmimo::analysis {
 
@@ -63,25 +62,23 @@ struct tune_results {
   std::string scenario_name;
   tune_limits limits;
   cost_model model = cost_model::bits;
-  datapath::datapath_config config;               ///< the tuned datapath
-  std::vector<datapath::node_id> nodes;           ///< the tuned (active) nodes
+  datapath::datapath_config config;      ///< the tuned datapath
+  std::vector<datapath::node_id> nodes;  ///< the tuned (active) nodes
   double cost = 0.0;
-  tune_figures search;                  ///< on the search trials
-  tune_figures verification;            ///< on fresh trials
+  tune_figures search;        ///< on the search trials
+  tune_figures verification;  ///< on fresh trials
   std::vector<std::uint64_t> search_trials, verify_trials;
   int evaluations = 0;
-  bool met = false;                     ///< the verification meets every limit
-  std::string note;                     ///< why it could not, when it could not
+  bool met = false;  ///< the verification meets every limit
+  std::string note;  ///< why it could not, when it could not
 };
 
 /// Runs range profiling (integer bits), then the search (aiming at the SINR-loss, EVM and power limits
 /// reduced by `search_margin`, a fraction), then the verification on fresh trials against the
 /// limits themselves.
-tune_results tune_widths(const golden::scenario& scen, const datapath::datapath_config& start, const tune_limits& limits,
-                         cost_model model, int num_trials, unsigned num_threads, double overflow_prob,
-                         double search_margin, const std::function<void(const std::string&)>& status = {});
-
-
-
+tune_results tune_widths(const golden::scenario& scen, const datapath::datapath_config& start,
+                         const tune_limits& limits, cost_model model, int num_trials, unsigned num_threads,
+                         double overflow_prob, double search_margin,
+                         const std::function<void(const std::string&)>& status = {});
 
 }  // namespace fxmimo::analysis

@@ -2,13 +2,13 @@
 /// The datapath configuration: one setting per node (format, rounding, overflow and, for an
 /// accumulator, its accumulation order), read from a scenario's `[nodes.NAME]` tables.
 
-#include "fxmimo/datapath/node_table.hpp"
-#include "fxmimo/fixedpoint/accumulator.hpp"
-#include "fxmimo/fixedpoint/requantize.hpp"
-
 #include <string>
 #include <string_view>
 #include <vector>
+
+#include "fxmimo/datapath/node_table.hpp"
+#include "fxmimo/fixedpoint/accumulator.hpp"
+#include "fxmimo/fixedpoint/requantize.hpp"
 
 namespace fxmimo::datapath {
 

@@ -5,15 +5,14 @@
 /// symbols). The order of every accumulation and each requantisation is documented in the
 /// README, section "How it computes"; the stage files are that text in code.
 
+#include <Eigen/Dense>
+#include <vector>
+
 #include "fxmimo/datapath/config.hpp"
 #include "fxmimo/datapath/plan.hpp"
 #include "fxmimo/datapath/word_matrix.hpp"
 #include "fxmimo/fixedpoint/counters.hpp"
 #include "fxmimo/golden/trial.hpp"
-
-#include <Eigen/Dense>
-
-#include <vector>
 
 namespace fxmimo::datapath {
 

@@ -4,12 +4,12 @@
 /// total/per-antenna); node lists, vector ports and dimensions, tune's cost, range's growth rules
 /// and the golden node values are all derived from the plan.
 
-#include "fxmimo/datapath/stage.hpp"
-
 #include <functional>
-#include <optional>
 #include <memory>
+#include <optional>
 #include <vector>
+
+#include "fxmimo/datapath/stage.hpp"
 
 namespace fxmimo::datapath {
 

@@ -5,19 +5,18 @@
 /// (tune's area cost), its worst-case growth (range), its fixed-point computation and its golden
 /// (double) view. The stages a scenario uses come from stages_for (plan.hpp).
 
+#include <Eigen/Dense>
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
 #include "fxmimo/datapath/config.hpp"
 #include "fxmimo/datapath/node_table.hpp"
 #include "fxmimo/datapath/word_matrix.hpp"
 #include "fxmimo/fixedpoint/counters.hpp"
 #include "fxmimo/golden/scenario.hpp"
 #include "fxmimo/golden/trial.hpp"
-
-#include <Eigen/Dense>
-
-#include <optional>
-#include <string>
-#include <string_view>
-#include <vector>
 
 namespace fxmimo::datapath {
 

@@ -3,10 +3,10 @@
 /// words are golden values converted into its format (a ROM, a converter), and a requantiser
 /// from one node's words into another's format (a DAC after the last transmit node).
 
-#include "fxmimo/datapath/stage.hpp"
-
 #include <functional>
 #include <memory>
+
+#include "fxmimo/datapath/stage.hpp"
 
 namespace fxmimo::datapath {
 

@@ -15,9 +15,6 @@
 /// wraps) before it is added; a sum of two words needs one bit more than the accumulator, so T
 /// must hold W + 1 bits.
 
-#include "fxmimo/fixedpoint/complex.hpp"
-#include "fxmimo/fixedpoint/requantize.hpp"
-
 #include <algorithm>
 #include <array>
 #include <optional>
@@ -25,6 +22,9 @@
 #include <string>
 #include <string_view>
 #include <vector>
+
+#include "fxmimo/fixedpoint/complex.hpp"
+#include "fxmimo/fixedpoint/requantize.hpp"
 
 namespace fxmimo::fixedpoint {
 

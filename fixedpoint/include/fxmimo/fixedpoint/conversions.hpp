@@ -3,13 +3,13 @@
 /// exact binary rational m 2^e, so the target's rounding is the only rounding), exact decimal
 /// text, and back to double for reporting.
 
-#include "fxmimo/fixedpoint/counters.hpp"
-#include "fxmimo/fixedpoint/divide.hpp"
-#include "fxmimo/fixedpoint/requantize.hpp"
-
 #include <cmath>
 #include <stdexcept>
 #include <string_view>
+
+#include "fxmimo/fixedpoint/counters.hpp"
+#include "fxmimo/fixedpoint/divide.hpp"
+#include "fxmimo/fixedpoint/requantize.hpp"
 
 namespace fxmimo::fixedpoint {
 

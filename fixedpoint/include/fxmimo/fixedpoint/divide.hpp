@@ -51,7 +51,10 @@ T divide(const T& num, int num_frac, const T& den, int den_frac, const target& t
     return detail::infinite<T>(n > 0, tgt, c);
   }
   const int k = tgt.fmt.frac_bits + den_frac - num_frac;  // raw = n 2^k / d
-  if (k >= 0) n = shift_left(n, k); else d = shift_left(d, -k);
+  if (k >= 0)
+    n = shift_left(n, k);
+  else
+    d = shift_left(d, -k);
   if (d < 0) {
     n = -n;
     d = -d;
@@ -63,8 +66,8 @@ T divide(const T& num, int num_frac, const T& den, int den_frac, const target& t
     r += d;
   }
   const big_int twice = r * 2;
-  const remainder_class f = r == 0 ? remainder_class::zero
-                            : twice < d ? remainder_class::below_half
+  const remainder_class f = r == 0       ? remainder_class::zero
+                            : twice < d  ? remainder_class::below_half
                             : twice == d ? remainder_class::half
                                          : remainder_class::above_half;
   if (f != remainder_class::zero) ++c.inexact;

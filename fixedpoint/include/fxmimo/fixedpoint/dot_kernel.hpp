@@ -9,12 +9,12 @@
 /// apply (products that need more than 63 bits, no fraction bits dropped, or an accumulator with
 /// no headroom bit in 64).
 
+#include <cstddef>
+#include <cstdint>
+
 #include "fxmimo/fixedpoint/accumulator.hpp"
 #include "fxmimo/fixedpoint/complex.hpp"
 #include "fxmimo/fixedpoint/requantize.hpp"
-
-#include <cstddef>
-#include <cstdint>
 
 namespace fxmimo::fixedpoint {
 
@@ -53,7 +53,8 @@ cword<std::int64_t> dot_fixed_modes(const cword<std::int64_t>* a, std::size_t st
     const std::int64_t fl = x >> shift;
     const U rest = static_cast<U>(x) & mask;
     num_inexact += rest != 0;
-    return fl + static_cast<std::int64_t>(round_up_by_facts(R, rest != 0, rest >= half, rest == half, x < 0, (fl & 1) != 0));
+    return fl +
+           static_cast<std::int64_t>(round_up_by_facts(R, rest != 0, rest >= half, rest == half, x < 0, (fl & 1) != 0));
   };
   auto in_range = [&](std::int64_t v) {
     return v <= hi && v >= lo && !(O == overflow_mode::saturate_symmetric && v == lo);
@@ -62,12 +63,16 @@ cword<std::int64_t> dot_fixed_modes(const cword<std::int64_t>* a, std::size_t st
   for (std::size_t i = 0; i < n; ++i) {
     const cword<std::int64_t> p = form_product<Form, std::int64_t>(a[i * stride_a], b[i * stride_b]);
     std::int64_t t_re = round(p.re), t_im = round(p.im);
-    if (!in_range(t_re)) [[unlikely]] t_re = q.overflow(t_re, local);
-    if (!in_range(t_im)) [[unlikely]] t_im = q.overflow(t_im, local);
+    if (!in_range(t_re)) [[unlikely]]
+      t_re = q.overflow(t_re, local);
+    if (!in_range(t_im)) [[unlikely]]
+      t_im = q.overflow(t_im, local);
     acc_re += t_re;
     acc_im += t_im;
-    if (!in_range(acc_re)) [[unlikely]] acc_re = q.overflow(acc_re, local);
-    if (!in_range(acc_im)) [[unlikely]] acc_im = q.overflow(acc_im, local);
+    if (!in_range(acc_re)) [[unlikely]]
+      acc_re = q.overflow(acc_re, local);
+    if (!in_range(acc_im)) [[unlikely]]
+      acc_im = q.overflow(acc_im, local);
   }
   local.requantized = 4 * n;  // two requantisations per part per term, as the twin counts
   local.inexact = num_inexact;
@@ -78,8 +83,8 @@ cword<std::int64_t> dot_fixed_modes(const cword<std::int64_t>* a, std::size_t st
 #define FXMIMO_DOT_ARGS a, stride_a, b, stride_b, n, shift, q, c
 template <product_form Form, rounding_mode R>
 cword<std::int64_t> dot_overflow_dispatch(const cword<std::int64_t>* a, std::size_t stride_a,
-                                          const cword<std::int64_t>* b, std::size_t stride_b, std::size_t n,
-                                          int shift, const requantizer<std::int64_t>& q, counters& c) {
+                                          const cword<std::int64_t>* b, std::size_t stride_b, std::size_t n, int shift,
+                                          const requantizer<std::int64_t>& q, counters& c) {
   switch (q.spec().overflow) {
     case overflow_mode::wrap: return dot_fixed_modes<R, overflow_mode::wrap, Form>(FXMIMO_DOT_ARGS);
     case overflow_mode::saturate: return dot_fixed_modes<R, overflow_mode::saturate, Form>(FXMIMO_DOT_ARGS);

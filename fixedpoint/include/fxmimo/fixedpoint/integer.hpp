@@ -6,7 +6,6 @@
 /// overflow.hpp for the one definition of each.
 
 #include <boost/multiprecision/cpp_int.hpp>
-
 #include <cmath>
 #include <cstdint>
 #include <string>

@@ -23,9 +23,10 @@ enum class rounding_mode { floor, ceil, toward_zero, half_up, half_down, half_to
 /// also becomes -max, as SystemC SC_SAT_SYM does); saturate_zero = the value becomes 0.
 enum class overflow_mode { wrap, saturate, saturate_symmetric, saturate_zero };
 
-inline constexpr std::array all_rounding_modes{
-    rounding_mode::floor,     rounding_mode::ceil,      rounding_mode::toward_zero,      rounding_mode::half_up,
-    rounding_mode::half_down, rounding_mode::half_toward_zero, rounding_mode::half_away, rounding_mode::half_even};
+inline constexpr std::array all_rounding_modes{rounding_mode::floor,       rounding_mode::ceil,
+                                               rounding_mode::toward_zero, rounding_mode::half_up,
+                                               rounding_mode::half_down,   rounding_mode::half_toward_zero,
+                                               rounding_mode::half_away,   rounding_mode::half_even};
 inline constexpr std::array all_overflow_modes{overflow_mode::wrap, overflow_mode::saturate,
                                                overflow_mode::saturate_symmetric, overflow_mode::saturate_zero};
 

@@ -8,13 +8,13 @@
 /// F > W (only the arithmetic of the shift changes). The integer type T must hold the input
 /// and every word of the target (fits_container()); the harness picks T once per node.
 
+#include <stdexcept>
+
 #include "fxmimo/fixedpoint/counters.hpp"
 #include "fxmimo/fixedpoint/format.hpp"
 #include "fxmimo/fixedpoint/integer.hpp"
 #include "fxmimo/fixedpoint/modes.hpp"
 #include "fxmimo/fixedpoint/rounding.hpp"
-
-#include <stdexcept>
 
 namespace fxmimo::fixedpoint {
 
@@ -57,8 +57,8 @@ template <class T>
   constexpr int bits = int_traits<T>::bits;
   const bool negative = x < 0;
   auto classify = [](const auto& rest, const auto& half) {
-    return rest == 0 ? remainder_class::zero
-           : rest < half ? remainder_class::below_half
+    return rest == 0      ? remainder_class::zero
+           : rest < half  ? remainder_class::below_half
            : rest == half ? remainder_class::half
                           : remainder_class::above_half;
   };
@@ -136,14 +136,10 @@ class requantizer {
       const double excess = q > hi_ ? to_double_approx(T(q - hi_)) : to_double_approx(lo_) - to_double_approx(q);
       if (excess > c.max_excess_lsb) c.max_excess_lsb = excess;
       switch (tgt_.overflow) {
-        case overflow_mode::wrap:
-          return wrap(q);
-        case overflow_mode::saturate:
-          return q > hi_ ? hi_ : lo_;
-        case overflow_mode::saturate_symmetric:
-          return q > hi_ ? hi_ : (tgt_.fmt.is_signed ? T(-hi_) : lo_);
-        case overflow_mode::saturate_zero:
-          return T(0);
+        case overflow_mode::wrap: return wrap(q);
+        case overflow_mode::saturate: return q > hi_ ? hi_ : lo_;
+        case overflow_mode::saturate_symmetric: return q > hi_ ? hi_ : (tgt_.fmt.is_signed ? T(-hi_) : lo_);
+        case overflow_mode::saturate_zero: return T(0);
       }
     }
     if (tgt_.overflow == overflow_mode::saturate_symmetric && tgt_.fmt.is_signed && q == lo_) {
@@ -192,16 +188,13 @@ class requantizer {
     switch (tgt_.overflow) {
       case overflow_mode::wrap: {
         const int w = tgt_.fmt.word_bits;
-        if (k >= w) return T(0);  // every kept bit is an appended zero
+        if (k >= w) return T(0);                                        // every kept bit is an appended zero
         const T low = T(x - shift_left(floor_shift(x, w - k), w - k));  // x mod 2^(W-k)
         return wrap(shift_left(low, k));
       }
-      case overflow_mode::saturate:
-        return x > 0 ? hi_ : lo_;
-      case overflow_mode::saturate_symmetric:
-        return x > 0 ? hi_ : (tgt_.fmt.is_signed ? T(-hi_) : lo_);
-      case overflow_mode::saturate_zero:
-        return T(0);
+      case overflow_mode::saturate: return x > 0 ? hi_ : lo_;
+      case overflow_mode::saturate_symmetric: return x > 0 ? hi_ : (tgt_.fmt.is_signed ? T(-hi_) : lo_);
+      case overflow_mode::saturate_zero: return T(0);
     }
     return T(0);
   }

@@ -18,24 +18,16 @@ enum class remainder_class { zero, below_half, half, above_half };
 [[gnu::always_inline]] constexpr bool round_up_by_facts(rounding_mode mode, bool nonzero, bool at_least_half,
                                                         bool exactly_half, bool negative, bool q_odd) {
   switch (mode) {
-    case rounding_mode::floor:
-      return false;
-    case rounding_mode::ceil:
-      return nonzero;
+    case rounding_mode::floor: return false;
+    case rounding_mode::ceil: return nonzero;
     // Bitwise & and | on bools: the same truth table as && and ||, without the branches that
     // random data would mispredict half of the time.
-    case rounding_mode::toward_zero:
-      return negative & nonzero;
-    case rounding_mode::half_up:
-      return at_least_half;
-    case rounding_mode::half_down:
-      return at_least_half & !exactly_half;
-    case rounding_mode::half_toward_zero:
-      return at_least_half & (!exactly_half | negative);
-    case rounding_mode::half_away:
-      return at_least_half & (!exactly_half | !negative);
-    case rounding_mode::half_even:
-      return at_least_half & (!exactly_half | q_odd);
+    case rounding_mode::toward_zero: return negative & nonzero;
+    case rounding_mode::half_up: return at_least_half;
+    case rounding_mode::half_down: return at_least_half & !exactly_half;
+    case rounding_mode::half_toward_zero: return at_least_half & (!exactly_half | negative);
+    case rounding_mode::half_away: return at_least_half & (!exactly_half | !negative);
+    case rounding_mode::half_even: return at_least_half & (!exactly_half | q_odd);
   }
   return false;
 }

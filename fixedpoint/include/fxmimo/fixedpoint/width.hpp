@@ -2,10 +2,10 @@
 /// Choosing the integer type of a node once, from its formats: int64 where every value fits,
 /// int128 for wider products and sums, int256 beyond that.
 
-#include "fxmimo/fixedpoint/integer.hpp"
-
 #include <stdexcept>
 #include <string>
+
+#include "fxmimo/fixedpoint/integer.hpp"
 
 namespace fxmimo::fixedpoint {
 
@@ -23,12 +23,9 @@ inline int_width select_width(int bits) {
 template <class F>
 decltype(auto) with_int_type(int_width w, F&& f) {
   switch (w) {
-    case int_width::i64:
-      return f(std::int64_t{});
-    case int_width::i128:
-      return f(int128{});
-    case int_width::i256:
-      break;
+    case int_width::i64: return f(std::int64_t{});
+    case int_width::i128: return f(int128{});
+    case int_width::i256: break;
   }
   return f(int256{});
 }

@@ -1,12 +1,12 @@
 #pragma once
 /// Words as hardware sees them: W-bit two's-complement patterns in hex or binary.
 
-#include "fxmimo/fixedpoint/format.hpp"
-#include "fxmimo/fixedpoint/integer.hpp"
-
 #include <optional>
 #include <string>
 #include <string_view>
+
+#include "fxmimo/fixedpoint/format.hpp"
+#include "fxmimo/fixedpoint/integer.hpp"
 
 namespace fxmimo::fixedpoint {
 

@@ -30,4 +30,4 @@ Eigen::VectorXcd correlate_exponential(const array_config& array, double r, cons
 ///             varphi uniform, a from the link's azimuth/elevation, kappa = 10^(k_factor_db/10).
 Eigen::MatrixXcd draw_channel(const scenario& scen, const large_scale& gains, int i_bs, int i_cell, random_stream& rng);
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

@@ -3,9 +3,8 @@
 // N i.i.d. CN(0,1)); adc = g_agc Y_j.
 #pragma once
 
-#include <vector>
-
 #include <Eigen/Dense>
+#include <vector>
 
 #include "fxmimo/golden/large_scale.hpp"
 #include "fxmimo/golden/rng.hpp"
@@ -39,4 +38,4 @@ double mmse_psi(const scenario& scen, const large_scale& gains, int i_bs, int i_
 /// perfect the LS scale (the estimate itself is replaced by the true channel).
 Eigen::VectorXd estimation_scales(const scenario& scen, const large_scale& gains, int i_bs, double agc);
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

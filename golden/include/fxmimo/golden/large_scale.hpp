@@ -14,16 +14,16 @@ namespace fxmimo::golden {
 struct large_scale {
   int num_cells = 0;
   int num_users = 0;
-  std::vector<double> gain;    ///< beta^j_{lk}, linear, flattened [bs][cell][user]
-  std::vector<double> azimuth; ///< angle of arrival of user (l,k) at BS j, radians, same order
-  std::vector<double> elevation; ///< elevation of arrival (UPA line of sight), radians
+  std::vector<double> gain;       ///< beta^j_{lk}, linear, flattened [bs][cell][user]
+  std::vector<double> azimuth;    ///< angle of arrival of user (l,k) at BS j, radians, same order
+  std::vector<double> elevation;  ///< elevation of arrival (UPA line of sight), radians
 
   /// beta^{i_bs}_{i_cell, i_user}.
   double at(int i_bs, int i_cell, int i_user) const { return gain[index(i_bs, i_cell, i_user)]; }
   /// Flat index of (bs, cell, user).
   std::size_t index(int i_bs, int i_cell, int i_user) const {
-    return (static_cast<std::size_t>(i_bs) * static_cast<std::size_t>(num_cells) +
-            static_cast<std::size_t>(i_cell)) * static_cast<std::size_t>(num_users) +
+    return (static_cast<std::size_t>(i_bs) * static_cast<std::size_t>(num_cells) + static_cast<std::size_t>(i_cell)) *
+               static_cast<std::size_t>(num_users) +
            static_cast<std::size_t>(i_user);
   }
 };
@@ -45,4 +45,4 @@ int hex_pilot_group(int i_cell, int reuse);
 /// elevations are uniform on [-pi/12, pi/12].
 large_scale draw_large_scale(const scenario& scen, random_stream& rng);
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

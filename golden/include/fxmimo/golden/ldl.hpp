@@ -8,8 +8,8 @@ namespace fxmimo::golden {
 
 /// A = L D L^H with L unit lower triangular and D real diagonal.
 struct ldl_factors {
-  Eigen::MatrixXcd unit_lower; ///< L (ones on the diagonal, zeros above)
-  Eigen::VectorXd diag;        ///< d_i
+  Eigen::MatrixXcd unit_lower;  ///< L (ones on the diagonal, zeros above)
+  Eigen::VectorXd diag;         ///< d_i
 };
 
 /// Factorises a Hermitian matrix without pivoting (Golub & Van Loan, Matrix Computations, 4th ed.,
@@ -23,4 +23,4 @@ ldl_factors ldl_decompose(const Eigen::MatrixXcd& a);
 /// scaling z = y * (1/d) with the reciprocals computed once, back substitution L^H x = z.
 Eigen::MatrixXcd ldl_inverse(const ldl_factors& factors);
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

@@ -1,10 +1,9 @@
 // Downlink link metrics of cell 0's users (DESIGN.md §6).
 #pragma once
 
+#include <Eigen/Dense>
 #include <complex>
 #include <vector>
-
-#include <Eigen/Dense>
 
 #include "fxmimo/golden/scenario.hpp"
 
@@ -14,15 +13,15 @@ struct trial_data;
 
 /// Per-user metrics of one block, then their averages over the users.
 struct link_metrics {
-  std::vector<std::complex<double>> gain; ///< g_k = mean(r_k conj(s_k)) / mean|s_k|^2
-  std::vector<double> sinr;               ///< |g_k|^2 E|s|^2 / (mean|r_k - g_k s_k|^2 + 1), linear
-  std::vector<double> sinr_db;            ///< 10 log10 sinr
-  std::vector<double> evm_pct;            ///< 100 sqrt(mean|r_k - g_k s_k|^2 / (|g_k|^2 E|s|^2)), noise excluded
-  std::vector<double> evm_db;             ///< 20 log10(evm_pct / 100)
-  std::vector<double> rate;               ///< log2(1 + sinr), bit/s/Hz
-  double mean_sinr_db = 0.0;              ///< mean over users of sinr_db
-  double mean_evm_pct = 0.0;              ///< mean over users of evm_pct
-  double sum_rate = 0.0;                  ///< sum over users of rate
+  std::vector<std::complex<double>> gain;  ///< g_k = mean(r_k conj(s_k)) / mean|s_k|^2
+  std::vector<double> sinr;                ///< |g_k|^2 E|s|^2 / (mean|r_k - g_k s_k|^2 + 1), linear
+  std::vector<double> sinr_db;             ///< 10 log10 sinr
+  std::vector<double> evm_pct;             ///< 100 sqrt(mean|r_k - g_k s_k|^2 / (|g_k|^2 E|s|^2)), noise excluded
+  std::vector<double> evm_db;              ///< 20 log10(evm_pct / 100)
+  std::vector<double> rate;                ///< log2(1 + sinr), bit/s/Hz
+  double mean_sinr_db = 0.0;               ///< mean over users of sinr_db
+  double mean_evm_pct = 0.0;               ///< mean over users of evm_pct
+  double sum_rate = 0.0;                   ///< sum over users of rate
 };
 
 /// Metrics from noise-free received samples r (K x N) and the sent symbols s (K x N) with the
@@ -48,4 +47,4 @@ link_metrics evaluate_downlink(const scenario& scen, const trial_data& trial, co
 /// A pure scaling of the block (e.g. a rounded gain constant) is therefore no error.
 double implementation_evm(const Eigen::MatrixXcd& x_fixed, const Eigen::MatrixXcd& x_golden);
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

@@ -19,4 +19,4 @@ double neumann_spectral_radius(const Eigen::MatrixXcd& a);
 /// True when the series converges: neumann_spectral_radius(a) < 1.
 bool neumann_converges(const Eigen::MatrixXcd& a);
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

@@ -17,4 +17,4 @@ Eigen::MatrixXcd pilot_family(pilot_sequence sequence, int length);
 /// pilot group (scenario::pilot_group), so cells of one group share a set and groups are orthogonal.
 Eigen::MatrixXcd pilot_matrix(const scenario& scen, int i_cell);
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

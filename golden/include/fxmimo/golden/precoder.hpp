@@ -3,9 +3,8 @@
 // conj(H_hat) and H^T * precoder = I for zero forcing with perfect CSI.
 #pragma once
 
-#include <optional>
-
 #include <Eigen/Dense>
+#include <optional>
 
 #include "fxmimo/golden/ldl.hpp"
 #include "fxmimo/golden/scenario.hpp"
@@ -14,13 +13,13 @@ namespace fxmimo::golden {
 
 /// The precoding nodes of one base station (DESIGN.md §3).
 struct precoder_output {
-  Eigen::MatrixXcd gram;          ///< G = H_hat^H H_hat (+ lambda I for RZF), K x K; empty for MF
-  std::optional<ldl_factors> ldl; ///< factors when inversion = ldl
-  Eigen::MatrixXcd inverse;       ///< G^-1 (or its Neumann approximation), K x K; empty for MF
-  double neumann_radius = 0.0;    ///< spectral radius of I - D^-1 G when inversion = neumann, else 0
-  Eigen::MatrixXcd precoder;      ///< W (M x K) before scaling
-  Eigen::VectorXd norm;           ///< size 1 (total) or M (per antenna)
-  Eigen::MatrixXcd weights;       ///< diag(norm) W, or norm * W
+  Eigen::MatrixXcd gram;           ///< G = H_hat^H H_hat (+ lambda I for RZF), K x K; empty for MF
+  std::optional<ldl_factors> ldl;  ///< factors when inversion = ldl
+  Eigen::MatrixXcd inverse;        ///< G^-1 (or its Neumann approximation), K x K; empty for MF
+  double neumann_radius = 0.0;     ///< spectral radius of I - D^-1 G when inversion = neumann, else 0
+  Eigen::MatrixXcd precoder;       ///< W (M x K) before scaling
+  Eigen::VectorXd norm;            ///< size 1 (total) or M (per antenna)
+  Eigen::MatrixXcd weights;        ///< diag(norm) W, or norm * W
 };
 
 /// G[i,j] = sum_m conj(H[m,i]) H[m,j], summed over antennas in index order.
@@ -42,4 +41,4 @@ Eigen::VectorXd power_normalization_factors(const Eigen::MatrixXcd& precoder, po
 /// with G^-1 by LDL^H, a Neumann series of T terms, or Eigen's pivoted LDL^T (reference).
 precoder_output compute_precoder(const scenario& scen, const Eigen::MatrixXcd& chan_est);
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

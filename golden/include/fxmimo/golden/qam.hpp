@@ -1,10 +1,9 @@
 // Gray-mapped square QAM with unit mean power.
 #pragma once
 
+#include <Eigen/Dense>
 #include <complex>
 #include <cstdint>
-
-#include <Eigen/Dense>
 
 #include "fxmimo/golden/scenario.hpp"
 
@@ -26,4 +25,4 @@ Eigen::VectorXcd qam_constellation(modulation mod);
 /// Nearest-point hard decision (inverse of qam_map on the grid).
 std::uint32_t qam_demap(modulation mod, std::complex<double> point);
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

@@ -20,7 +20,7 @@ std::uint64_t trial_seed(std::uint64_t scenario_seed, std::uint64_t trial_index)
 /// xoshiro256** 1.0 (Blackman & Vigna, "Scrambled linear pseudorandom number generators",
 /// ACM TOMS 2021), state filled from one 64-bit seed by successive SplitMix64 outputs.
 class random_stream {
-public:
+ public:
   explicit random_stream(std::uint64_t seed);
   /// Generator with the given raw xoshiro256** state (not all zero), for checks against the
   /// reference implementation.
@@ -40,9 +40,9 @@ public:
   /// Real standard normal N(0, 1): sqrt(2) times the real part of complex_normal().
   double real_normal();
 
-private:
+ private:
   random_stream() = default;
   std::array<std::uint64_t, 4> state_{};
 };
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

@@ -13,12 +13,12 @@ namespace fxmimo::golden {
 /// A scenario file that cannot be used. what() is one line "FILE:LINE: KEY: message", with KEY
 /// the dotted key (e.g. "pilots.length") and LINE the line of the offending key or value.
 class scenario_error : public std::runtime_error {
-public:
+ public:
   scenario_error(std::string file_name, int line_number, std::string key_name, const std::string& message);
 
-  std::string file; ///< source name given to the parser (file path or a label)
-  int line;         ///< 1-based line of the offending key or value (0 when unknown)
-  std::string key;  ///< dotted key path, e.g. "cells.users_per_cell"
+  std::string file;  ///< source name given to the parser (file path or a label)
+  int line;          ///< 1-based line of the offending key or value (0 when unknown)
+  std::string key;   ///< dotted key path, e.g. "cells.users_per_cell"
 };
 
 enum class array_layout { ula, upa };
@@ -33,32 +33,32 @@ enum class modulation { qpsk, qam16, qam64, qam256, qam1024 };
 
 /// The base-station array (the same at every cell).
 struct array_config {
-  int num_antennas = 0;                    ///< M, 1..4096
-  array_layout layout = array_layout::ula; ///< uniform linear or uniform planar
-  double spacing = 0.5;                    ///< element spacing in wavelengths
-  int num_columns = 0;                     ///< UPA: elements per row (divides M); ULA: M
+  int num_antennas = 0;                     ///< M, 1..4096
+  array_layout layout = array_layout::ula;  ///< uniform linear or uniform planar
+  double spacing = 0.5;                     ///< element spacing in wavelengths
+  int num_columns = 0;                      ///< UPA: elements per row (divides M); ULA: M
 };
 
 /// Cells, users and the large-scale gains beta^j_{lk} (BS j to user k of cell l, linear power,
 /// normalised so that a user at the cell radius without shadowing has gain 1 = 0 dB).
 struct cells_config {
-  int num_cells = 1;                           ///< L; hexagonal: 1, 3, 7 or 19
-  int num_users = 0;                           ///< K users per cell
-  gain_source source = gain_source::hexagonal; ///< how the gains are obtained
-  double radius_m = 500.0;                     ///< hexagon circumradius (hexagonal)
-  double min_distance_m = 35.0;                ///< minimum user–BS distance (hexagonal)
-  double pathloss_exponent = 3.76;             ///< alpha (hexagonal; common practice default)
-  double shadowing_db = 8.0;                   ///< log-normal shadowing std (hexagonal; common practice)
-  std::vector<double> user_gains_db;           ///< per_user: own-BS gain of user k, every cell
-  double cross_gain_db = 0.0;                  ///< per_user: gain from every other BS
-  std::vector<double> gains_db;                ///< explicit: flattened [bs][cell][user]
+  int num_cells = 1;                            ///< L; hexagonal: 1, 3, 7 or 19
+  int num_users = 0;                            ///< K users per cell
+  gain_source source = gain_source::hexagonal;  ///< how the gains are obtained
+  double radius_m = 500.0;                      ///< hexagon circumradius (hexagonal)
+  double min_distance_m = 35.0;                 ///< minimum user–BS distance (hexagonal)
+  double pathloss_exponent = 3.76;              ///< alpha (hexagonal; common practice default)
+  double shadowing_db = 8.0;                    ///< log-normal shadowing std (hexagonal; common practice)
+  std::vector<double> user_gains_db;            ///< per_user: own-BS gain of user k, every cell
+  double cross_gain_db = 0.0;                   ///< per_user: gain from every other BS
+  std::vector<double> gains_db;                 ///< explicit: flattened [bs][cell][user]
 };
 
 /// Small-scale fading.
 struct channel_config {
   channel_model model = channel_model::rayleigh;
-  double correlation = 0.0; ///< exponential correlation coefficient r (Loyka 2001), 0 <= r < 1
-  double k_factor_db = 0.0; ///< Rician K-factor in dB
+  double correlation = 0.0;  ///< exponential correlation coefficient r (Loyka 2001), 0 <= r < 1
+  double k_factor_db = 0.0;  ///< Rician K-factor in dB
 };
 
 /// Uplink pilots.
@@ -76,21 +76,21 @@ struct estimator_config {
 struct precoder_config {
   precoder_kind kind = precoder_kind::zf;
   inversion_kind inversion = inversion_kind::ldl;
-  int neumann_terms = 3;               ///< T, 1..64
-  bool has_regularizer = false;        ///< false: RZF uses K / rho_d
-  double regularizer = 0.0;            ///< RZF diagonal loading when has_regularizer
+  int neumann_terms = 3;         ///< T, 1..64
+  bool has_regularizer = false;  ///< false: RZF uses K / rho_d
+  double regularizer = 0.0;      ///< RZF diagonal loading when has_regularizer
   power_normalization normalization = power_normalization::total;
 };
 
 struct data_config {
   modulation mod = modulation::qam16;
-  int num_symbols = 168; ///< N per block
-  double snr_db = 0.0;   ///< rho_d: total radiated power over noise at unit gain, dB
+  int num_symbols = 168;  ///< N per block
+  double snr_db = 0.0;    ///< rho_d: total radiated power over noise at unit gain, dB
 };
 
 struct frontend_config {
-  double agc_backoff_db = 12.0; ///< expected pilot RMS at the ADC below full scale 1.0, dB
-  double dac_backoff_db = 12.0; ///< per-antenna transmit RMS below full scale 1.0, dB
+  double agc_backoff_db = 12.0;  ///< expected pilot RMS at the ADC below full scale 1.0, dB
+  double dac_backoff_db = 12.0;  ///< per-antenna transmit RMS below full scale 1.0, dB
 };
 
 /// One parsed and validated scenario.
@@ -129,4 +129,4 @@ scenario load_scenario_file(const std::string& path);
 /// Name used in files for a modulation ("qpsk", "16qam", ...).
 std::string_view modulation_name(modulation mod);
 
-} // namespace fxmimo::golden
+}  // namespace fxmimo::golden

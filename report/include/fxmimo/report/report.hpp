@@ -1,15 +1,14 @@
 #pragma once
 /// Results of run, range, sweep and tune as readable tables and as JSON.
 
+#include <cstdio>
+#include <nlohmann/json.hpp>
+#include <string>
+
 #include "fxmimo/analysis/range.hpp"
 #include "fxmimo/analysis/runner.hpp"
 #include "fxmimo/analysis/sweep.hpp"
 #include "fxmimo/analysis/tune.hpp"
-
-#include <nlohmann/json.hpp>
-
-#include <cstdio>
-#include <string>
 
 namespace fxmimo::report {
 

@@ -3,9 +3,8 @@
 /// into one self-contained HTML page with inline SVG charts. No scripts, no external resources;
 /// the markup is also well-formed XML so any XML parser can check it.
 
-#include <nlohmann/json.hpp>
-
 #include <filesystem>
+#include <nlohmann/json.hpp>
 #include <stdexcept>
 #include <string>
 #include <utility>

@@ -6,8 +6,6 @@
 /// The same form is what a testbench writes with $fwrite(fd, "%h\n", word) from a W-bit reg
 /// (§17.1.1.3: %h prints the zero-padded pattern), so RTL dumps are read by the same code.
 
-#include "fxmimo/fixedpoint/format.hpp"
-
 #include <cstdint>
 #include <filesystem>
 #include <optional>
@@ -15,6 +13,8 @@
 #include <string>
 #include <string_view>
 #include <vector>
+
+#include "fxmimo/fixedpoint/format.hpp"
 
 namespace fxmimo::vectors {
 

@@ -9,15 +9,14 @@
 ///   rounding, overflow, dims [{name, size}] in file order, word_count, bytes, sha256,
 ///   dtype (npy only)} ].
 
-#include "fxmimo/fixedpoint/requantize.hpp"
-
-#include <nlohmann/json_fwd.hpp>
-
 #include <cstdint>
+#include <nlohmann/json_fwd.hpp>
 #include <optional>
 #include <string>
 #include <string_view>
 #include <vector>
+
+#include "fxmimo/fixedpoint/requantize.hpp"
 
 namespace fxmimo::vectors {
 

@@ -1,12 +1,12 @@
 #pragma once
 /// One array of words at one datapath node, in one direction: the unit a vector set stores.
 
-#include "fxmimo/fixedpoint/requantize.hpp"
-
 #include <cstddef>
 #include <cstdint>
 #include <string>
 #include <vector>
+
+#include "fxmimo/fixedpoint/requantize.hpp"
 
 namespace fxmimo::vectors {
 
@@ -23,12 +23,12 @@ struct node_words {
   /// Name of the array at that node: an input node has one port per operand (tx_acc consumes
   /// "weights" and "symbols"); empty means the node's own name (the usual case for "out").
   std::string port;
-  fp::target spec;                      ///< format, rounding and overflow of the words
-  std::vector<std::string> dim_names;   ///< e.g. {"antenna", "symbol"}, file order
-  std::vector<std::size_t> dim_sizes;   ///< same length as dim_names
+  fp::target spec;                     ///< format, rounding and overflow of the words
+  std::vector<std::string> dim_names;  ///< e.g. {"antenna", "symbol"}, file order
+  std::vector<std::size_t> dim_sizes;  ///< same length as dim_names
   bool is_complex = false;
-  std::vector<std::int64_t> re;         ///< real parts (or the words of a real node)
-  std::vector<std::int64_t> im;         ///< imaginary parts; empty for a real node
+  std::vector<std::int64_t> re;  ///< real parts (or the words of a real node)
+  std::vector<std::int64_t> im;  ///< imaginary parts; empty for a real node
 
   /// Product of dim_sizes (1 for no dimensions).
   [[nodiscard]] std::size_t num_elements() const;

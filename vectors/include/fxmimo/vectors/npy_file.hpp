@@ -7,8 +7,6 @@
 /// length (never an assumed padding), signed integer dtypes of 1, 2, 4 and 8 bytes in either
 /// byte order, C order only.
 
-#include "fxmimo/fixedpoint/format.hpp"
-
 #include <cstddef>
 #include <cstdint>
 #include <filesystem>
@@ -16,6 +14,8 @@
 #include <string>
 #include <string_view>
 #include <vector>
+
+#include "fxmimo/fixedpoint/format.hpp"
 
 namespace fxmimo::vectors {
 
@@ -33,12 +33,12 @@ std::string format_npy(std::span<const std::int64_t> words, const std::vector<st
 
 /// What a .npy file holds.
 struct npy_array {
-  std::string descr;                ///< as stored, e.g. "<i4"
+  std::string descr;  ///< as stored, e.g. "<i4"
   bool fortran_order = false;
   std::vector<std::size_t> shape;
   std::vector<std::int64_t> values;  ///< C order
   int version_major = 1;
-  std::size_t data_offset = 0;      ///< where the data starts (a multiple of 64 for our files)
+  std::size_t data_offset = 0;  ///< where the data starts (a multiple of 64 for our files)
 };
 
 /// Parses a .npy file's bytes; vector_error "SOURCE: ..." for anything malformed or unsupported.

@@ -10,12 +10,12 @@
 /// new one is renamed into place after the last; on any failure the files of this run and the
 /// temporaries are removed. A directory without manifest.json is never a (complete) set.
 
-#include "fxmimo/vectors/manifest.hpp"
-#include "fxmimo/vectors/node_words.hpp"
-
 #include <filesystem>
 #include <string_view>
 #include <vector>
+
+#include "fxmimo/vectors/manifest.hpp"
+#include "fxmimo/vectors/node_words.hpp"
 
 namespace fxmimo::vectors {
 
