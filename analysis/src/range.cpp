@@ -26,7 +26,6 @@ double quantile(std::vector<double>& v, double q) {
   return v[k];
 }
 
-
 }  // namespace
 
 int int_bits_for(double value) {
