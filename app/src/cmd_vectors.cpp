@@ -1,5 +1,5 @@
 // fxmimo vectors: the bit-true words of a scenario's datapath nodes, for chosen trials, written
-// as a vector set (DESIGN §7) that an RTL testbench reads with $readmemh / hread / numpy.
+// as a vector set (README "Handing vectors to RTL") that an RTL testbench reads with $readmemh / hread / numpy.
 #include <fmt/core.h>
 
 #include <algorithm>

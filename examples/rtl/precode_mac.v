@@ -1,7 +1,7 @@
 // precode_mac: the precoding accumulator of the fxmimo datapath (nodes tx_acc and dac), one
 // complex multiply-accumulate per clock. For one antenna m and symbol n the caller streams the
 // K terms k = 0..K-1 in index order (in_first on k = 0, in_last on k = K-1), and the block
-// computes exactly what the model defines (README "How it computes", DESIGN §4):
+// computes exactly what the model defines (README "How it computes"):
 //   p     = weights[m,k] * symbols[k,n]   exact: re = wr sr - wi si, im = wr si + wi sr,
 //                                          WF + SF fraction bits, WW + SW + 1 bits
 //   term  = Q_acc(p)                       requantise to tx_acc (AW, AF, ACC_RND, ACC_OVF)

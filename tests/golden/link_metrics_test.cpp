@@ -1,4 +1,4 @@
-// Link metrics (DESIGN.md §6) on constructed received blocks whose SINR and EVM are known.
+// Link metrics (README "Evaluation") on constructed received blocks whose SINR and EVM are known.
 #include "fxmimo/golden/link_metrics.hpp"
 
 #include <gtest/gtest.h>
@@ -37,7 +37,7 @@ TEST(link_metrics, clean_gain_is_recovered) {
 }
 
 // r = g s + e with e ~ CN(0, sigma^2) independent of s: EVM_rms = sigma / |g| = 1 / sqrt(SNR) for
-// AWGN-like error, and SINR = |g|^2 / (sigma^2 + noise) (DESIGN.md §6; EVM definition of 3GPP
+// AWGN-like error, and SINR = |g|^2 / (sigma^2 + noise) (README "Evaluation"; EVM definition of 3GPP
 // TS 38.104 Annex B, error power over reference power after one-tap equalisation). The error power
 // is a mean of N exponential samples (relative standard error 1/sqrt(N)); 5 standard errors.
 // sigma = 0.08 |g| is the 64QAM limit of TS 38.104 Table 6.5.2.2-1 (8 %, i.e. 21.9 dB).

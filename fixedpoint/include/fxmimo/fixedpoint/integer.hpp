@@ -3,7 +3,7 @@
 /// arithmetic needs on each of them. Native types (int64, int128) use two's complement, whose
 /// shifts C++20 defines; Boost types (int256, unbounded cpp_int) are sign-magnitude and are
 /// handled through their magnitude. Nothing here rounds or saturates: see rounding.hpp and
-/// overflow.hpp for the one definition of each.
+/// requantize.hpp (requantizer::overflow) for the one definition of each.
 
 #include <boost/multiprecision/cpp_int.hpp>
 #include <cmath>

@@ -1,4 +1,4 @@
-// Downlink link metrics of cell 0's users (DESIGN.md §6).
+// Downlink link metrics of cell 0's users (README "The channel and scenario model", Evaluation).
 #pragma once
 
 #include <Eigen/Dense>

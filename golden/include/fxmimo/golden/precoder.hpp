@@ -11,7 +11,7 @@
 
 namespace fxmimo::golden {
 
-/// The precoding nodes of one base station (DESIGN.md §3).
+/// The precoding nodes of one base station (README "How it computes", the node table).
 struct precoder_output {
   Eigen::MatrixXcd gram;           ///< G = H_hat^H H_hat (+ lambda I for RZF), K x K; empty for MF
   std::optional<ldl_factors> ldl;  ///< factors when inversion = ldl

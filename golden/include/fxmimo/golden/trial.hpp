@@ -17,8 +17,8 @@ namespace fxmimo::golden {
 /// Matrix of QAM labels (bits of each symbol, MSB first), K x N.
 using label_matrix = Eigen::Matrix<std::uint32_t, Eigen::Dynamic, Eigen::Dynamic>;
 
-/// All golden values of one trial at cell 0's base station (DESIGN.md §3 nodes, in double), the
-/// true channels, the other cells' transmissions and the golden metrics.
+/// All golden values of one trial at cell 0's base station (the datapath nodes of README "How it computes", in double),
+/// the true channels, the other cells' transmissions and the golden metrics.
 struct trial_data {
   std::uint64_t trial_index = 0;
   std::uint64_t seed = 0;  ///< generator seed, trial_seed(scenario seed, trial_index)

@@ -1,6 +1,6 @@
 #pragma once
 /// A vector set: a directory holding manifest.json and one file per record and part
-/// (DESIGN §7). File names are NODE.DIRECTION[.PORT][.PART].EXT, e.g. tx_acc.in.weights.re.hex,
+/// (README "Handing vectors to RTL"). File names are NODE.DIRECTION[.PORT][.PART].EXT, e.g. tx_acc.in.weights.re.hex,
 /// tx_acc.out.re.hex, dac.out.im.npy (PORT is left out when it equals the node, PART for real
 /// records and interleaved files).
 ///
