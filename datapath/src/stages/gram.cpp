@@ -50,6 +50,7 @@ class gram_stage final : public stage {
         for (int i_user = 0; i_user < num_users; ++i_user) {
           cw d = get(*g.words, i_user, i_user);
           d.re = fp::convert_int<word>(q.overflow(P(fp::convert_int<P>(d.re) + reg), *g.counters));
+          ++g.counters->requantized;  // the loading adder is a requantisation point
           put(*g.words, i_user, i_user, d);
         }
       }
@@ -58,6 +59,7 @@ class gram_stage final : public stage {
           const cw v = get(*g.words, i_user, j_user);
           put(*g.words, j_user, i_user,
               {v.re, fp::convert_int<word>(q.overflow(P(-fp::convert_int<P>(v.im)), *g.counters))});
+          ++g.counters->requantized;  // so is the mirror's negation (-(-2^(W-1)) overflows)
         }
       }
     });
