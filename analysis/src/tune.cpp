@@ -13,14 +13,15 @@ namespace fp = fxmimo::fixedpoint;
 double tune_figures::worst_ratio(const tune_limits& l) const {
   auto ratio = [](double value, double limit) { return limit > 0 ? value / limit : (value > 0 ? 1e300 : 0.0); };
   return std::max({ratio(sinr_loss_db, l.max_sinr_loss_db), ratio(evm_pct, l.max_evm_pct),
-                   ratio(max_overflow_rate, l.max_overflow_rate), ratio(abs_power_error_db, l.max_power_error_db)});
+                   ratio(max_overflow_rate, l.max_overflow_rate),
+                   ratio(rms_tx_power_error_db, l.max_rms_tx_power_error_db)});
 }
 
 tune_figures figures_of(const run_results& r) {
   tune_figures f;
   f.sinr_loss_db = r.summary.sinr_loss_db;
   f.evm_pct = r.summary.evm_impl_pct;
-  f.abs_power_error_db = r.summary.rms_tx_power_error_db;
+  f.rms_tx_power_error_db = r.summary.rms_tx_power_error_db;
   for (const node_result& n : r.nodes) f.max_overflow_rate = std::max(f.max_overflow_rate, n.overflow_rate());
   return f;
 }
@@ -183,7 +184,7 @@ tune_results tune_widths(const golden::scenario& scen, const datapath::datapath_
   tune_limits search_limits = limits;
   search_limits.max_sinr_loss_db *= 1.0 - search_margin;
   search_limits.max_evm_pct *= 1.0 - search_margin;
-  search_limits.max_power_error_db *= 1.0 - search_margin;
+  search_limits.max_rms_tx_power_error_db *= 1.0 - search_margin;
   const std::vector<int> best = greedy_search(lo, hi, evaluate, cost, search_limits, out.evaluations);
   out.config = config_of(best);
   out.cost = datapath_cost(scen, out.config, model);

@@ -130,7 +130,7 @@ struct tune_options {
   std::string modulation;
   double evm_budget = 0.25;
   double max_overflow_rate = 1e-6;
-  double max_power_error_db = 0.1;
+  double max_rms_tx_power_error_db = 0.1;
   std::string cost = "bits";
   int num_trials = 0;
   unsigned num_threads = 0;
@@ -145,7 +145,7 @@ int run_tune(const tune_options& opt) {
   analysis::tune_limits limits;
   limits.max_sinr_loss_db = opt.max_sinr_loss_db;
   limits.max_overflow_rate = opt.max_overflow_rate;
-  limits.max_power_error_db = opt.max_power_error_db;
+  limits.max_rms_tx_power_error_db = opt.max_rms_tx_power_error_db;
   if (opt.max_evm_pct > 0) {
     limits.max_evm_pct = opt.max_evm_pct;
   } else if (!opt.modulation.empty()) {
@@ -247,8 +247,8 @@ void add_tune_command(CLI::App& app) {
       ->check(CLI::Range(1e-6, 1.0));
   cmd->add_option("--max-overflow-rate", opt->max_overflow_rate, "Largest overflow rate of any node")
       ->capture_default_str();
-  cmd->add_option("--max-power-error", opt->max_power_error_db,
-                  "Largest transmit-power error of the fixed block against the golden one, dB (worst trial)")
+  cmd->add_option("--max-power-error", opt->max_rms_tx_power_error_db,
+                  "Largest RMS over trials of the transmit-power error of the fixed block against the golden one, dB")
       ->capture_default_str();
   cmd->add_option("--cost", opt->cost, "bits (total word bits) or area (a stated proxy, README)")
       ->capture_default_str();

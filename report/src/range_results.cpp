@@ -31,6 +31,7 @@ std::string format_range_table(const analysis::range_results& r) {
 nlohmann::json to_json(const analysis::range_results& r) {
   nlohmann::json out;
   out["kind"] = "range";
+  out["schema"] = results_schema;
   out["scenario"] = {{"name", r.scenario_name}};
   out["trials"] = r.num_trials;
   out["overflow_prob"] = r.overflow_prob;

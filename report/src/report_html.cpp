@@ -22,6 +22,7 @@
 #include <string_view>
 
 #include "fxmimo/datapath/config.hpp"
+#include "fxmimo/report/report.hpp"
 
 namespace fxmimo::report {
 
@@ -869,6 +870,14 @@ void render_tune(page& pg, const input_view& in) {
   limit_row("SINR loss (dB)", "max_sinr_loss_db", "sinr_loss_db", "sinr_loss_db", 4);
   limit_row("implementation EVM (%)", "max_evm_pct", "evm_impl_pct", "evm_pct", 4);
   limit_row("overflow rate (worst node)", "max_overflow_rate", "max_overflow_rate", "overflow_rate", 3);
+  // The RMS transmit-power error: its keys since schema 1 of tune files; files written before
+  // fxmimo 0.2 name it max_tx_power_error_db / abs_tx_power_error_db / tx_power_error_db.
+  if (find_member(limits, "max_rms_tx_power_error_db") != nullptr) {
+    limit_row("RMS tx power error (dB)", "max_rms_tx_power_error_db", "rms_tx_power_error_db", "rms_tx_power_error_db",
+              4);
+  } else if (find_member(limits, "max_tx_power_error_db") != nullptr) {
+    limit_row("RMS tx power error (dB)", "max_tx_power_error_db", "abs_tx_power_error_db", "tx_power_error_db", 4);
+  }
   pg.out += "</table>\n";
 }
 
@@ -1021,6 +1030,15 @@ report_kind report_input_kind(const std::string& name, const json& doc) {
     throw report_input_error(name + ": no \"kind\" (expected run, range, sweep or tune)");
   }
   if (!kind->is_string()) throw report_input_error(name + ": \"kind\" is not a string");
+  // Files without "schema" were written before results files were versioned: schema 1.
+  if (const json* schema = find_member(doc, "schema"); schema != nullptr) {
+    if (!schema->is_number_integer()) throw report_input_error(name + ": \"schema\" is not an integer");
+    if (schema->get<long long>() != results_schema) {
+      throw report_input_error(
+          fmt::format("{}: schema {} is not supported (this reader knows {}); use the fxmimo that wrote it", name,
+                      schema->get<long long>(), results_schema));
+    }
+  }
   const std::string k = kind->get<std::string>();
   if (k == "run") return report_kind::run;
   if (k == "range") return report_kind::range;

@@ -55,6 +55,7 @@ std::string format_run_table(const analysis::run_results& r) {
 nlohmann::json to_json(const analysis::run_results& r) {
   nlohmann::json out;
   out["kind"] = "run";
+  out["schema"] = results_schema;
   out["scenario"] = {{"name", r.scenario_name}, {"source", r.scenario_source}};
   out["trials"] = r.trial_indices.size();
   out["trial_indices"] = r.trial_indices;

@@ -29,6 +29,7 @@ std::string format_sweep_table(const analysis::sweep_results& r) {
 nlohmann::json to_json(const analysis::sweep_results& r) {
   nlohmann::json out;
   out["kind"] = "sweep";
+  out["schema"] = results_schema;
   out["scenario"] = {{"name", r.scenario_name}};
   out["trials"] = r.num_trials;
   out["vary"] = std::string(to_string(r.axis));

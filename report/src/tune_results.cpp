@@ -29,8 +29,9 @@ std::string format_tune_table(const analysis::tune_results& r) {
   out += fmt::format("{:<22} {:>12.4f} {:>12.4f} {:>12.4f} {:>12.4f}\n", "implementation EVM %", r.limits.max_evm_pct,
                      r.search.evm_pct, r.verification.evm_pct, r.limits.max_evm_pct - r.verification.evm_pct);
   out += fmt::format("{:<22} {:>12.4f} {:>12.4f} {:>12.4f} {:>12.4f}\n", "RMS tx power error dB",
-                     r.limits.max_power_error_db, r.search.abs_power_error_db, r.verification.abs_power_error_db,
-                     r.limits.max_power_error_db - r.verification.abs_power_error_db);
+                     r.limits.max_rms_tx_power_error_db, r.search.rms_tx_power_error_db,
+                     r.verification.rms_tx_power_error_db,
+                     r.limits.max_rms_tx_power_error_db - r.verification.rms_tx_power_error_db);
   out += fmt::format("{:<22} {:>12.3g} {:>12.3g} {:>12.3g} {:>12.3g}\n", "max overflow rate",
                      r.limits.max_overflow_rate, r.search.max_overflow_rate, r.verification.max_overflow_rate,
                      r.limits.max_overflow_rate - r.verification.max_overflow_rate);
@@ -42,12 +43,13 @@ std::string format_tune_table(const analysis::tune_results& r) {
 nlohmann::json to_json(const golden::scenario& scen, const analysis::tune_results& r) {
   nlohmann::json out;
   out["kind"] = "tune";
+  out["schema"] = results_schema;
   out["scenario"] = {{"name", r.scenario_name}};
   out["cost_model"] = std::string(to_string(r.model));
   out["cost"] = r.cost;
   out["limits"] = {{"max_sinr_loss_db", r.limits.max_sinr_loss_db},
                    {"max_evm_pct", r.limits.max_evm_pct},
-                   {"max_tx_power_error_db", r.limits.max_power_error_db},
+                   {"max_rms_tx_power_error_db", r.limits.max_rms_tx_power_error_db},
                    {"max_overflow_rate", r.limits.max_overflow_rate}};
   out["nodes"] = nlohmann::json::object();
   for (datapath::node_id id : r.nodes) {
@@ -63,22 +65,23 @@ nlohmann::json to_json(const golden::scenario& scen, const analysis::tune_result
                                                        : f.word_bits * analysis::node_storage_words(scen, id)}};
   }
   out["search"] = {{"trials", r.search_trials.size()},
-                   {"abs_tx_power_error_db", r.search.abs_power_error_db},
+                   {"rms_tx_power_error_db", r.search.rms_tx_power_error_db},
                    {"sinr_loss_db", r.search.sinr_loss_db},
                    {"evm_impl_pct", r.search.evm_pct},
                    {"max_overflow_rate", r.search.max_overflow_rate},
                    {"evaluations", r.evaluations}};
   out["verification"] = {{"trials", r.verify_trials.size()},
                          {"trial_indices", r.verify_trials},
-                         {"abs_tx_power_error_db", r.verification.abs_power_error_db},
+                         {"rms_tx_power_error_db", r.verification.rms_tx_power_error_db},
                          {"sinr_loss_db", r.verification.sinr_loss_db},
                          {"evm_impl_pct", r.verification.evm_pct},
                          {"max_overflow_rate", r.verification.max_overflow_rate},
                          {"meets_limits", r.met}};
-  out["margins"] = {{"sinr_loss_db", r.limits.max_sinr_loss_db - r.verification.sinr_loss_db},
-                    {"evm_pct", r.limits.max_evm_pct - r.verification.evm_pct},
-                    {"tx_power_error_db", r.limits.max_power_error_db - r.verification.abs_power_error_db},
-                    {"overflow_rate", r.limits.max_overflow_rate - r.verification.max_overflow_rate}};
+  out["margins"] = {
+      {"sinr_loss_db", r.limits.max_sinr_loss_db - r.verification.sinr_loss_db},
+      {"evm_pct", r.limits.max_evm_pct - r.verification.evm_pct},
+      {"rms_tx_power_error_db", r.limits.max_rms_tx_power_error_db - r.verification.rms_tx_power_error_db},
+      {"overflow_rate", r.limits.max_overflow_rate - r.verification.max_overflow_rate}};
   out["met"] = r.met;
   out["note"] = r.note;
   return out;

@@ -84,3 +84,30 @@ TEST(OldFiles, AManifestOfANewerSchemaIsOneClearError) {
 }
 
 }  // namespace
+
+namespace {
+
+TEST(OldFiles, AResultsFileOfANewerSchemaIsOneClearError) {
+  const fs::path dir = scratch_dir("newer_results");
+  nlohmann::json run = nlohmann::json::parse(read_text(fixtures / "run.json"));
+  run["schema"] = 2;
+  std::ofstream(dir / "run.json") << run.dump(1);
+  const auto r = run_fxmimo("report " + quoted(dir / "run.json") + " -o " + quoted(dir / "r.html"));
+  EXPECT_EQ(r.exit_code, 2) << r.out << r.err;
+  EXPECT_NE(r.err.find("run.json: schema 2 is not supported (this reader knows 1)"), std::string::npos) << r.err;
+  EXPECT_FALSE(fs::exists(dir / "r.html"));
+}
+
+TEST(OldFiles, TheOldTuneFileShowsItsFourLimitsInTheReport) {
+  // tests/fixtures/tune.json predates the power-error key names (max_tx_power_error_db); the
+  // report still shows the fourth limit from it.
+  const fs::path html = scratch_dir("old_tune_limits") / "r.html";
+  const auto r = run_fxmimo("report " + quoted(fixtures / "tune.json") + " -o " + quoted(html));
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  const std::string page = read_text(html);
+  for (const char* label :
+       {"SINR loss (dB)", "implementation EVM (%)", "overflow rate (worst node)", "RMS tx power error (dB)"})
+    EXPECT_NE(page.find(label), std::string::npos) << label;
+}
+
+}  // namespace

@@ -19,9 +19,9 @@ namespace fxmimo::analysis {
 
 struct tune_limits {
   double max_sinr_loss_db = 0.1;
-  double max_evm_pct = 1.0;         ///< implementation EVM at the DAC, %
-  double max_overflow_rate = 1e-6;  ///< for every node
-  double max_power_error_db = 0.1;  ///< RMS over trials of the transmit-power error of the fixed block, dB
+  double max_evm_pct = 1.0;                ///< implementation EVM at the DAC, %
+  double max_overflow_rate = 1e-6;         ///< for every node
+  double max_rms_tx_power_error_db = 0.1;  ///< RMS over trials of the transmit-power error of the fixed block, dB
 };
 
 /// The figures the limits apply to.
@@ -29,10 +29,10 @@ struct tune_figures {
   double sinr_loss_db = 0.0;
   double evm_pct = 0.0;
   double max_overflow_rate = 0.0;
-  double abs_power_error_db = 0.0;
+  double rms_tx_power_error_db = 0.0;
   [[nodiscard]] bool meets(const tune_limits& l) const {
     return sinr_loss_db <= l.max_sinr_loss_db && evm_pct <= l.max_evm_pct && max_overflow_rate <= l.max_overflow_rate &&
-           abs_power_error_db <= l.max_power_error_db;
+           rms_tx_power_error_db <= l.max_rms_tx_power_error_db;
   }
   /// Largest of the three figures over their limits (<= 1 when every limit holds).
   [[nodiscard]] double worst_ratio(const tune_limits& l) const;

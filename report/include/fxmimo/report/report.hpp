@@ -12,6 +12,10 @@
 
 namespace fxmimo::report {
 
+/// Version of the results files (run, range, sweep, tune JSON), written as "schema"; a reader
+/// refuses any other version with one clear error. Files without the key are version 1.
+inline constexpr int results_schema = 1;
+
 /// The table `fxmimo run` prints: nodes, users, summary with the 3GPP EVM limit, warnings.
 std::string format_run_table(const analysis::run_results& results);
 
