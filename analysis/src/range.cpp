@@ -110,9 +110,13 @@ datapath::datapath_config apply_proposal(const datapath::datapath_config& config
   datapath::datapath_config out = config;
   for (const node_range& r : ranges.nodes) {
     fp::format& f = out[r.id].spec.fmt;
-    const int frac = f.frac_bits;
-    const int word = std::clamp(1 + r.proposed_int_bits + frac, 2, datapath::max_node_word_bits);
-    f = {true, word, word - 1 - r.proposed_int_bits};
+    // The proposed integer bits with the fraction bits kept, signed or unsigned as configured;
+    // the word clamped to [sign + 1, 64] bits (63 unsigned: its container needs a sign bit),
+    // fraction bits giving way first.
+    const int sign = f.is_signed ? 1 : 0;
+    const int word =
+        std::clamp(sign + r.proposed_int_bits + f.frac_bits, sign + 1, datapath::max_node_word_bits - 1 + sign);
+    f = f.with_int_frac(r.proposed_int_bits, word - sign - r.proposed_int_bits);
     out[r.id].is_default = false;
   }
   return out;

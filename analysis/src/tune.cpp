@@ -167,7 +167,7 @@ tune_results tune_widths(const golden::scenario& scen, const datapath::datapath_
     datapath::datapath_config c = start;
     for (std::size_t i = 0; i < n; ++i) {
       datapath::node_setting& s = c[out.nodes[i]];
-      s.spec.fmt = {true, 1 + int_bits[i] + frac[i], frac[i]};
+      s.spec.fmt = s.spec.fmt.with_int_frac(int_bits[i], frac[i]);  // signed stays signed, unsigned unsigned
       s.is_default = false;
     }
     return c;

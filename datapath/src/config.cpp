@@ -3,7 +3,9 @@
 #include <fmt/core.h>
 #include <toml++/toml.h>
 
+#include <algorithm>
 #include <sstream>
+#include <stdexcept>
 
 #include "fxmimo/golden/scenario.hpp"
 
@@ -138,22 +140,115 @@ std::string to_toml(const datapath_config& config) {
   return out;
 }
 
+namespace {
+
+/// The value text a key of a node table takes for a setting ("" when the key is absent).
+std::string value_text(std::string_view key, const node_setting& s) {
+  if (key == "format") return fmt::format("\"{}\"", fp::to_q_string(s.spec.fmt));
+  if (key == "rounding") return fmt::format("\"{}\"", fp::to_string(s.spec.rounding));
+  if (key == "overflow") return fmt::format("\"{}\"", fp::to_string(s.spec.overflow));
+  if (key == "order")
+    return s.order.order == fp::accumulation_order::sequential ? ""
+                                                               : fmt::format("\"{}\"", fp::to_string(s.order.order));
+  if (key == "lanes") return s.order.order == fp::accumulation_order::lanes ? std::to_string(s.order.lanes) : "";
+  return "";
+}
+
+constexpr std::array<std::string_view, 5> setting_keys{"format", "rounding", "overflow", "order", "lanes"};
+
+}  // namespace
+
 std::string scenario_with_nodes(const std::string& scenario_text, const datapath_config& config,
                                 const std::vector<node_id>& nodes, const std::string& comment) {
-  std::istringstream in(scenario_text);
-  std::string line, out;
-  bool in_nodes = false;
-  while (std::getline(in, line)) {
-    const auto first = line.find_first_not_of(" \t");
-    if (first != std::string::npos && line[first] == '[') {
-      const std::string header = line.substr(first);
-      in_nodes = header.rfind("[nodes.", 0) == 0 || header.rfind("[nodes]", 0) == 0;
-    }
-    if (!in_nodes) out += line + "\n";
+  // Where every table starts (toml++ knows; a line that merely begins with '[' inside a
+  // multi-line array is not a header) and which lines are [nodes.NAME] headers.
+  toml::table root;
+  try {
+    root = toml::parse(std::string_view(scenario_text), std::string_view("scenario"));
+  } catch (const toml::parse_error& e) {
+    throw std::invalid_argument(fmt::format("scenario_with_nodes: the scenario is not TOML: {}", e.description()));
   }
-  while (out.size() >= 2 && out[out.size() - 1] == '\n' && out[out.size() - 2] == '\n') out.pop_back();
-  out += "\n# " + comment + "\n";
-  for (node_id id : nodes) out += node_table_toml(id, config[id]) + "\n";
+  std::vector<int> header_lines;
+  std::vector<std::pair<int, node_id>> node_headers;
+  root.for_each([&](const toml::key&, const toml::node& n) {
+    if (const toml::table* t = n.as_table(); t != nullptr && !t->is_inline()) header_lines.push_back(line_of(*t));
+  });
+  if (const toml::table* nodes_table = root["nodes"].as_table()) {
+    for (const auto& [k, v] : *nodes_table) {
+      const toml::table* t = v.as_table();
+      const std::optional<node_id> id = parse_node_name(k.str());
+      if (t == nullptr || !id) continue;
+      header_lines.push_back(line_of(*t));
+      node_headers.emplace_back(line_of(*t), *id);
+    }
+  }
+  std::sort(header_lines.begin(), header_lines.end());
+  std::vector<std::string> lines;
+  {
+    std::istringstream in(scenario_text);
+    for (std::string l; std::getline(in, l);) lines.push_back(l);
+  }
+  auto wanted = [&](node_id id) { return std::find(nodes.begin(), nodes.end(), id) != nodes.end(); };
+  // Each written node's table is edited in place: its setting keys get the new values (a comment
+  // after a value stays), keys no longer needed go, missing ones follow the last key; every
+  // other line, table and node table stays as the user wrote it.
+  std::vector<node_id> written;
+  for (auto it = node_headers.rbegin(); it != node_headers.rend(); ++it) {
+    const auto [header, id] = *it;
+    if (!wanted(id)) continue;
+    written.push_back(id);
+    const auto next = std::upper_bound(header_lines.begin(), header_lines.end(), header);
+    const int end = next == header_lines.end() ? static_cast<int>(lines.size()) : *next - 1;  // 1-based, inclusive
+    const node_setting& s = config[id];
+    std::vector<std::string> body;
+    std::vector<bool> seen(setting_keys.size(), false);
+    int last_key = -1;
+    for (int l = header; l < end; ++l) {  // lines header+1 .. end (1-based)
+      std::string text = lines[static_cast<std::size_t>(l)];
+      const auto first = text.find_first_not_of(" \t");
+      bool is_setting = false;
+      for (std::size_t k = 0; k < setting_keys.size() && first != std::string::npos; ++k) {
+        const std::string_view key = setting_keys[k];
+        if (text.compare(first, key.size(), key) != 0) continue;
+        const auto eq = text.find_first_not_of(" \t", first + key.size());
+        if (eq == std::string::npos || text[eq] != '=') continue;
+        is_setting = true;
+        seen[k] = true;
+        const std::string value = value_text(key, s);
+        if (value.empty()) break;  // a key the setting no longer has: dropped
+        // Keep a trailing comment: it starts at the first '#' after the value.
+        const auto vstart = text.find_first_not_of(" \t", eq + 1);
+        std::size_t vend = vstart == std::string::npos ? text.size() : vstart;
+        if (vend < text.size() && text[vend] == '"') vend = text.find('"', vend + 1) + 1;
+        const auto hash = text.find('#', std::min(vend, text.size()));
+        body.push_back(text.substr(0, first) + std::string(key) + " = " + value +
+                       (hash == std::string::npos ? "" : "  " + text.substr(hash)));
+        last_key = static_cast<int>(body.size()) - 1;
+        break;
+      }
+      if (!is_setting) body.push_back(text);
+    }
+    std::vector<std::string> missing;
+    for (std::size_t k = 0; k < setting_keys.size(); ++k) {
+      const std::string value = value_text(setting_keys[k], s);
+      if (!seen[k] && !value.empty()) missing.push_back(std::string(setting_keys[k]) + " = " + value);
+    }
+    body.insert(body.begin() + (last_key + 1), missing.begin(), missing.end());
+    lines.erase(lines.begin() + header, lines.begin() + end);
+    lines.insert(lines.begin() + header, body.begin(), body.end());
+  }
+  std::string out = "# " + comment + "\n";
+  for (const std::string& l : lines) out += l + "\n";
+  bool first_new = true;
+  for (node_id id : nodes) {
+    if (std::find(written.begin(), written.end(), id) != written.end()) continue;
+    if (first_new) {
+      while (out.size() >= 2 && out[out.size() - 1] == '\n' && out[out.size() - 2] == '\n') out.pop_back();
+      out += "\n";
+      first_new = false;
+    }
+    out += node_table_toml(id, config[id]) + "\n";
+  }
   return out;
 }
 

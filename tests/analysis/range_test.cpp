@@ -337,3 +337,30 @@ INSTANTIATE_TEST_SUITE_P(
     [](const ::testing::TestParamInfo<growth_case>& test) { return std::string(test.param.name); });
 
 }  // namespace
+
+namespace {
+
+TEST(range, proposal_keeps_an_unsigned_node_unsigned) {
+  // power_acc holds a sum of squares (never negative): a team stores it unsigned. The proposal
+  // changes the integer bits only: UQm.n with the same n, m + n bits (no sign bit).
+  std::string text = gaussian_scenario_text();
+  text += "\n[nodes.power_acc]\nformat = \"UQ3.20\"\nrounding = \"floor\"\noverflow = \"saturate\"\n";
+  const d::datapath_config base = d::parse_datapath_config(text, "unsigned.toml");
+  h::range_results ranges;
+  h::node_range r;
+  r.id = d::node_id::power_acc;
+  r.proposed_int_bits = -2;
+  ranges.nodes.push_back(r);
+  const fxmimo::fixedpoint::format f = h::apply_proposal(base, ranges)[d::node_id::power_acc].spec.fmt;
+  EXPECT_FALSE(f.is_signed);
+  EXPECT_EQ(f.frac_bits, 20);
+  EXPECT_EQ(f.int_bits(), -2);
+  EXPECT_EQ(f.word_bits, 18);
+  EXPECT_EQ(fxmimo::fixedpoint::to_q_string(f), "UQ-2.20");
+  // Written back into the scenario, it reads as the same unsigned format.
+  const std::string written =
+      d::scenario_with_nodes(text, h::apply_proposal(base, ranges), {d::node_id::power_acc}, "proposed");
+  EXPECT_EQ(d::parse_datapath_config(written, "written.toml")[d::node_id::power_acc].spec.fmt, f);
+}
+
+}  // namespace

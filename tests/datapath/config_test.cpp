@@ -90,3 +90,79 @@ INSTANTIATE_TEST_SUITE_P(
     [](const testing::TestParamInfo<bad_table>& i) { return std::string(i.param.name); });
 
 }  // namespace
+
+namespace {
+
+TEST(config, writing_back_edits_the_users_document_in_place) {
+  const std::string text = R"(# my scenario
+name = "mine"
+[array]
+antennas = 4   # keep me
+gains = [
+  [1.0, 2.0],
+]
+# The datapath
+[nodes.adc]   # 10-bit converter
+format = "Q0.9"     # from the datasheet
+rounding = "half_up"
+overflow = "saturate"
+
+[nodes.tx_acc]
+format = "Q1.14"
+rounding = "floor"
+overflow = "wrap"
+order = "lanes"
+lanes = 4
+
+[nodes.inv_term]   # not written: stays as it is
+format = "Q-3.16"
+rounding = "floor"
+overflow = "saturate"
+)";
+  d::datapath_config c = d::parse_datapath_config(text, "mine.toml");
+  c[d::node_id::adc].spec.fmt = fp::parse_format("UQ1.11");
+  c[d::node_id::tx_acc].order = {};  // back to sequential: order and lanes go
+  c[d::node_id::dac].spec = {fp::parse_format("Q0.13"), fp::rounding_mode::half_even, fp::overflow_mode::saturate};
+  c[d::node_id::dac].order = {};
+  const std::string out =
+      d::scenario_with_nodes(text, c, {d::node_id::adc, d::node_id::tx_acc, d::node_id::dac}, "tuned for me");
+  EXPECT_EQ(out, R"(# tuned for me
+# my scenario
+name = "mine"
+[array]
+antennas = 4   # keep me
+gains = [
+  [1.0, 2.0],
+]
+# The datapath
+[nodes.adc]   # 10-bit converter
+format = "UQ1.11"  # from the datasheet
+rounding = "half_up"
+overflow = "saturate"
+
+[nodes.tx_acc]
+format = "Q1.14"
+rounding = "floor"
+overflow = "wrap"
+
+[nodes.inv_term]   # not written: stays as it is
+format = "Q-3.16"
+rounding = "floor"
+overflow = "saturate"
+
+[nodes.dac]
+format = "Q0.13"
+rounding = "half_even"
+overflow = "saturate"
+
+)");
+  // And it reads back as the configuration it was written from.
+  const d::datapath_config back = d::parse_datapath_config(out, "out.toml");
+  for (d::node_id id : {d::node_id::adc, d::node_id::tx_acc, d::node_id::dac, d::node_id::inv_term}) {
+    EXPECT_EQ(back[id].spec.fmt, c[id].spec.fmt) << d::node_name(id);
+    EXPECT_EQ(back[id].order, c[id].order) << d::node_name(id);
+  }
+  EXPECT_FALSE(back[d::node_id::adc].spec.fmt.is_signed) << "an unsigned format stays unsigned";
+}
+
+}  // namespace

@@ -43,8 +43,11 @@ datapath_config parse_datapath_config(std::string_view toml_text, const std::str
 std::string node_table_toml(node_id id, const node_setting& setting);
 /// The `[nodes]` section of a scenario as TOML text, every known node.
 std::string to_toml(const datapath_config& config);
-/// The scenario text with its [nodes.*] tables replaced by the given nodes' settings, after a
-/// `# comment` line (tune -o, range --write-scenario).
+/// The scenario text with the given nodes' settings written into it (tune -o, range
+/// --write-scenario): a `# comment` line first; each given node's existing [nodes.NAME] table
+/// edited in place (its format, rounding, overflow, order and lanes values replaced, comments
+/// after them kept, keys it no longer needs removed); tables for given nodes that had none
+/// appended at the end; every other line left as it was.
 std::string scenario_with_nodes(const std::string& scenario_text, const datapath_config& config,
                                 const std::vector<node_id>& nodes, const std::string& comment);
 

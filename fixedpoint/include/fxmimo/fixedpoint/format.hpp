@@ -22,6 +22,11 @@ struct format {
 
   /// Integer bits m of Qm.n: signed m = W - 1 - F (sign bit excluded), unsigned m = W - F.
   [[nodiscard]] int int_bits() const { return is_signed ? word_bits - 1 - frac_bits : word_bits - frac_bits; }
+  /// The format of the same signedness with m integer and n fraction bits: signed Qm.n has
+  /// 1 + m + n bits, unsigned UQm.n has m + n.
+  [[nodiscard]] format with_int_frac(int int_bits_m, int frac_bits_n) const {
+    return {is_signed, (is_signed ? 1 : 0) + int_bits_m + frac_bits_n, frac_bits_n};
+  }
   /// Value of one LSB, 2^-F.
   [[nodiscard]] double lsb() const;
   /// Smallest and largest representable values (signed: -2^(W-1-F) and 2^(W-1-F) - 2^-F).
