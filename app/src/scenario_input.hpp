@@ -1,6 +1,6 @@
 #pragma once
-// A scenario file read once and parsed twice: the golden model's sections and the datapath's
-// [nodes] tables.
+// A scenario file read and parsed once; the golden model's sections and the datapath's [nodes]
+// tables are read from that one document.
 
 #include <string>
 

@@ -7,7 +7,7 @@
 #include <sstream>
 #include <stdexcept>
 
-#include "fxmimo/golden/scenario.hpp"
+#include "fxmimo/golden/checked_table.hpp"
 
 namespace fxmimo::datapath {
 
@@ -21,107 +21,74 @@ int line_of(const toml::node& n) { return static_cast<int>(n.source().begin.line
 
 fp::target default_target() { return {{true, 64, 43}, fp::rounding_mode::half_even, fp::overflow_mode::saturate}; }
 
-datapath_config parse_datapath_config(std::string_view toml_text, const std::string& source_name) {
+datapath_config parse_datapath_config(const golden::scenario_document& doc) {
   datapath_config config;
-  toml::table root;
-  try {
-    root = toml::parse(toml_text, source_name);
-  } catch (const toml::parse_error& e) {
-    throw golden::scenario_error(source_name, static_cast<int>(e.source().begin.line), "",
-                                 std::string(e.description()));
-  }
-  const toml::node* nodes_node = root.get("nodes");
-  if (nodes_node == nullptr) return config;
-  const toml::table* nodes = nodes_node->as_table();
-  if (nodes == nullptr)
-    throw golden::scenario_error(source_name, line_of(*nodes_node), "nodes", "must be a table of node tables");
+  const golden::checked_table root(doc.source_name, doc.root, "");
+  if (!root.has("nodes")) return config;
+  const toml::table* nodes = doc.root.get("nodes")->as_table();
+  if (nodes == nullptr) root.fail("nodes", "must be a table of node tables");
+  const golden::checked_table nodes_reader(doc.source_name, *nodes, "nodes");
   for (const auto& [name_key, value] : *nodes) {
     const std::string name(name_key.str());
-    const std::string key = "nodes." + name;
     const auto id = parse_node_name(name);
-    const int line = static_cast<int>(name_key.source().begin.line);
-    if (!id)
-      throw golden::scenario_error(source_name, line, key,
-                                   fmt::format("unknown node '{}' (known: {})", name, list_node_names()));
-    const toml::table* table = value.as_table();
-    if (table == nullptr)
-      throw golden::scenario_error(source_name, line, key, "must be a table with format, rounding, overflow");
-    node_setting setting{default_target(), {}, false};
+    if (!id) nodes_reader.fail(name, fmt::format("unknown node '{}' (known: {})", name, list_node_names()));
+    if (!value.is_table()) nodes_reader.fail(name, "must be a table with format, rounding, overflow");
+    const golden::checked_table t(doc.source_name, *value.as_table(), "nodes." + name);
     const bool accumulates = role_of(*id) == node_role::accumulator;
-    bool has_format = false;
-    std::optional<int> lanes_line;
-    for (const auto& [field_key, field] : *table) {
-      const std::string field_name(field_key.str());
-      const std::string full = key + "." + field_name;
-      const int field_line = static_cast<int>(field_key.source().begin.line);
-      const char* const expected =
-          accumulates ? "format, rounding, overflow, order, lanes" : "format, rounding, overflow";
-      if (field_name == "lanes") {
-        if (!accumulates)
-          throw golden::scenario_error(
-              source_name, field_line, full,
-              fmt::format("unknown key (expected {}: {} is not an accumulator)", expected, name));
-        const auto lanes = field.value<std::int64_t>();
-        if (!field.is_integer() || !lanes || *lanes < 1 || *lanes > fp::max_accumulation_lanes)
-          throw golden::scenario_error(source_name, field_line, full,
-                                       fmt::format("must be an integer in [1, {}]", fp::max_accumulation_lanes));
-        setting.order.lanes = static_cast<int>(*lanes);
-        lanes_line = field_line;
-        continue;
-      }
-      const auto text = field.value<std::string>();
-      if (field_name != "format" && field_name != "rounding" && field_name != "overflow" &&
-          !(accumulates && field_name == "order"))
-        throw golden::scenario_error(
-            source_name, field_line, full,
-            fmt::format("unknown key (expected {}{})", expected,
-                        field_name == "order" ? fmt::format(": {} is not an accumulator", name) : ""));
-      if (!text) throw golden::scenario_error(source_name, field_line, full, "must be a string");
-      if (field_name == "format") {
-        try {
-          setting.spec.fmt = fp::parse_format(*text);
-        } catch (const fp::format_error& e) {
-          throw golden::scenario_error(source_name, field_line, full, e.what());
-        }
-        if (setting.spec.fmt.container_bits() > max_node_word_bits)
-          throw golden::scenario_error(
-              source_name, field_line, full,
-              fmt::format("'{}' needs {} bits; datapath nodes hold at most 64 (signed) or 63 (unsigned)", *text,
-                          setting.spec.fmt.word_bits));
-        has_format = true;
-      } else if (field_name == "rounding") {
-        const auto mode = fp::parse_rounding_mode(*text);
-        if (!mode)
-          throw golden::scenario_error(
-              source_name, field_line, full,
-              fmt::format("bad rounding '{}' (expected {})", *text, fp::list_rounding_modes()));
-        setting.spec.rounding = *mode;
-      } else if (field_name == "order") {
-        const auto order = fp::parse_accumulation_order(*text);
-        if (!order)
-          throw golden::scenario_error(
-              source_name, field_line, full,
-              fmt::format("bad order '{}' (expected {})", *text, fp::list_accumulation_orders()));
-        setting.order.order = *order;
-      } else {
-        const auto mode = fp::parse_overflow_mode(*text);
-        if (!mode)
-          throw golden::scenario_error(
-              source_name, field_line, full,
-              fmt::format("bad overflow '{}' (expected {})", *text, fp::list_overflow_modes()));
-        setting.spec.overflow = *mode;
-      }
+    // Unknown keys first, each at its own line; order and lanes only on an accumulator.
+    for (const auto& [field_key, field] : t.table()) {
+      const std::string_view field_name = field_key.str();
+      const bool known = field_name == "format" || field_name == "rounding" || field_name == "overflow";
+      const bool order_key = field_name == "order" || field_name == "lanes";
+      if (known || (order_key && accumulates)) continue;
+      t.fail(field_name,
+             fmt::format("unknown key (expected {}{})",
+                         accumulates ? "format, rounding, overflow, order, lanes" : "format, rounding, overflow",
+                         order_key ? fmt::format(": {} is not an accumulator", name) : ""));
     }
-    if (lanes_line && setting.order.order != fp::accumulation_order::lanes)
-      throw golden::scenario_error(source_name, *lanes_line, key + ".lanes", "only used with order = \"lanes\"");
-    if (!lanes_line && setting.order.order == fp::accumulation_order::lanes)
-      throw golden::scenario_error(source_name, line, key + ".lanes",
-                                   "missing: order = \"lanes\" needs lanes = P (e.g. lanes = 4)");
-    if (!has_format)
-      throw golden::scenario_error(source_name, line, key + ".format", "missing (e.g. format = \"Q1.14\")");
+    node_setting setting{default_target(), {}, false};
+    const std::string text = t.required("format", t.string("format"));
+    try {
+      setting.spec.fmt = fp::parse_format(text);
+    } catch (const fp::format_error& e) {
+      t.fail("format", e.what());
+    }
+    if (setting.spec.fmt.container_bits() > max_node_word_bits)
+      t.fail("format", fmt::format("'{}' needs {} bits; datapath nodes hold at most 64 (signed) or 63 (unsigned)", text,
+                                   setting.spec.fmt.word_bits));
+    if (const auto r = t.string("rounding")) {
+      const auto mode = fp::parse_rounding_mode(*r);
+      if (!mode) t.fail("rounding", fmt::format("bad rounding '{}' (expected {})", *r, fp::list_rounding_modes()));
+      setting.spec.rounding = *mode;
+    }
+    if (const auto o = t.string("overflow")) {
+      const auto mode = fp::parse_overflow_mode(*o);
+      if (!mode) t.fail("overflow", fmt::format("bad overflow '{}' (expected {})", *o, fp::list_overflow_modes()));
+      setting.spec.overflow = *mode;
+    }
+    if (const auto o = t.string("order")) {
+      const auto order = fp::parse_accumulation_order(*o);
+      if (!order) t.fail("order", fmt::format("bad order '{}' (expected {})", *o, fp::list_accumulation_orders()));
+      setting.order.order = *order;
+    }
+    if (t.has("lanes")) {
+      if (!t.table().get("lanes")->is_integer())
+        t.fail("lanes", fmt::format("must be an integer in [1, {}]", fp::max_accumulation_lanes));
+      const std::int64_t lanes = t.table().get("lanes")->as_integer()->get();
+      if (lanes < 1 || lanes > fp::max_accumulation_lanes)
+        t.fail("lanes", fmt::format("must be an integer in [1, {}]", fp::max_accumulation_lanes));
+      if (setting.order.order != fp::accumulation_order::lanes) t.fail("lanes", "only used with order = \"lanes\"");
+      setting.order.lanes = static_cast<int>(lanes);
+    } else if (setting.order.order == fp::accumulation_order::lanes) {
+      t.fail("lanes", "missing: order = \"lanes\" needs lanes = P (e.g. lanes = 4)");
+    }
     config[*id] = setting;
   }
   return config;
+}
+
+datapath_config parse_datapath_config(std::string_view toml_text, const std::string& source_name) {
+  return parse_datapath_config(golden::parse_scenario_document(std::string(toml_text), source_name));
 }
 
 std::string node_table_toml(node_id id, const node_setting& s) {

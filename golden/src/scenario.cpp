@@ -12,6 +12,7 @@
 #include <sstream>
 #include <utility>
 
+#include "fxmimo/golden/checked_table.hpp"
 #include "fxmimo/golden/large_scale.hpp"
 
 namespace fxmimo::golden {
@@ -57,148 +58,15 @@ std::string one_line(std::string_view text) {
   return out;
 }
 
-int line_of(const toml::source_region& region) { return static_cast<int>(region.begin.line); }
-
-// Reads one table of the scenario, remembering which keys were consumed so that leftovers can be
-// reported as unknown, and where each value sits in the file.
-class table_reader {
- public:
-  table_reader(const std::string& file, const toml::table& table, std::string prefix)
-      : file_(file), table_(table), prefix_(std::move(prefix)) {}
-
-  [[noreturn]] void fail(std::string_view name, const std::string& message) const {
-    const toml::node* node = table_.get(name);
-    const int line = node != nullptr ? line_of(node->source()) : line_of(table_.source());
-    throw scenario_error(file_, std::max(line, 1), key(name), message);
-  }
-
-  std::string key(std::string_view name) const {
-    return prefix_.empty() ? std::string(name) : prefix_ + "." + std::string(name);
-  }
-
-  bool has(std::string_view name) const { return table_.contains(name); }
-
-  // Rejects every key not in `allowed`, at the line of that key.
-  void only(std::initializer_list<std::string_view> allowed) const {
-    for (auto&& [k, v] : table_) {
-      if (std::find(allowed.begin(), allowed.end(), k.str()) == allowed.end()) {
-        const int line = k.source().begin.line != 0 ? line_of(k.source()) : line_of(v.source());
-        throw scenario_error(file_, std::max(line, 1), key(k.str()), "unknown key");
-      }
-    }
-  }
-
-  std::optional<std::int64_t> integer(std::string_view name, std::int64_t lo, std::int64_t hi) const {
-    const toml::node* node = table_.get(name);
-    if (node == nullptr) {
-      return std::nullopt;
-    }
-    if (!node->is_integer()) {
-      fail(name, "expected an integer");
-    }
-    const std::int64_t value = node->as_integer()->get();
-    if (value < lo || value > hi) {
-      fail(name, fmt::format("{} is out of range [{}, {}]", value, lo, hi));
-    }
-    return value;
-  }
-
-  static std::optional<double> number_of(const toml::node& node) {
-    if (node.is_integer()) {
-      return static_cast<double>(node.as_integer()->get());
-    }
-    if (node.is_floating_point()) {
-      return node.as_floating_point()->get();
-    }
-    return std::nullopt;
-  }
-
-  std::optional<double> number(std::string_view name, double lo, double hi) const {
-    const toml::node* node = table_.get(name);
-    if (node == nullptr) {
-      return std::nullopt;
-    }
-    const std::optional<double> value = number_of(*node);
-    if (!value) {
-      fail(name, "expected a number");
-    }
-    if (!(*value >= lo && *value <= hi)) {
-      fail(name, fmt::format("{} is out of range [{}, {}]", *value, lo, hi));
-    }
-    return value;
-  }
-
-  template <typename Enum>
-  std::optional<Enum> choice(std::string_view name,
-                             std::initializer_list<std::pair<std::string_view, Enum>> options) const {
-    const toml::node* node = table_.get(name);
-    if (node == nullptr) {
-      return std::nullopt;
-    }
-    if (!node->is_string()) {
-      fail(name, "expected a string");
-    }
-    const std::string& text = node->as_string()->get();
-    std::string valid;
-    for (const auto& [label, value] : options) {
-      if (label == text) {
-        return value;
-      }
-      valid += fmt::format("{}\"{}\"", valid.empty() ? "" : ", ", label);
-    }
-    fail(name, fmt::format("unknown value \"{}\" (expected one of {})", text, valid));
-  }
-
-  std::optional<std::string> string(std::string_view name) const {
-    const toml::node* node = table_.get(name);
-    if (node == nullptr) {
-      return std::nullopt;
-    }
-    if (!node->is_string()) {
-      fail(name, "expected a string");
-    }
-    return node->as_string()->get();
-  }
-
-  // Fails unless the key is present.
-  template <typename T>
-  T required(std::string_view name, std::optional<T> value) const {
-    if (!value) {
-      fail(name, "missing required key");
-    }
-    return *value;
-  }
-
-  const toml::table& table() const { return table_; }
-  const std::string& file() const { return file_; }
-
- private:
-  const std::string& file_;
-  const toml::table& table_;
-  std::string prefix_;
-};
-
-const toml::table& sub_table(const table_reader& root, std::string_view name) {
-  static const toml::table empty;
-  const toml::node* node = root.table().get(name);
-  if (node == nullptr) {
-    return empty;
-  }
-  if (!node->is_table()) {
-    root.fail(name, "expected a table");
-  }
-  return *node->as_table();
-}
-
 // Reads a flat array of numbers within [lo, hi], failing at the offending element's line.
-std::vector<double> number_list(const table_reader& reader, std::string_view name, const toml::node& node, double lo,
+std::vector<double> number_list(const checked_table& reader, std::string_view name, const toml::node& node, double lo,
                                 double hi) {
   if (!node.is_array()) {
     reader.fail(name, "expected an array of numbers");
   }
   std::vector<double> values;
   for (const toml::node& element : *node.as_array()) {
-    const std::optional<double> value = table_reader::number_of(element);
+    const std::optional<double> value = checked_table::number_of(element);
     if (!value || !(*value >= lo && *value <= hi)) {
       throw scenario_error(reader.file(), std::max(line_of(element.source()), 1), reader.key(name),
                            fmt::format("every element must be a number in [{}, {}]", lo, hi));
@@ -211,8 +79,8 @@ std::vector<double> number_list(const table_reader& reader, std::string_view nam
 constexpr double gain_db_lo = -300.0;
 constexpr double gain_db_hi = 100.0;
 
-void read_array(const table_reader& root, scenario& scen) {
-  const table_reader r(root.file(), sub_table(root, "array"), "array");
+void read_array(const checked_table& root, scenario& scen) {
+  const checked_table r(root.file(), sub_table(root, "array"), "array");
   r.only({"antennas", "layout", "spacing", "columns"});
   if (!root.has("array")) {
     root.fail("array", "missing required table [array]");
@@ -235,8 +103,8 @@ void read_array(const table_reader& root, scenario& scen) {
   }
 }
 
-void read_cells(const table_reader& root, scenario& scen) {
-  const table_reader r(root.file(), sub_table(root, "cells"), "cells");
+void read_cells(const checked_table& root, scenario& scen) {
+  const checked_table r(root.file(), sub_table(root, "cells"), "cells");
   r.only({"count", "users_per_cell", "radius_m", "min_distance_m", "pathloss_exponent", "shadowing_db", "user_gains_db",
           "cross_gain_db", "gains_db"});
   cells_config& cells = scen.cells;
@@ -339,8 +207,8 @@ void read_cells(const table_reader& root, scenario& scen) {
   cells.shadowing_db = r.number("shadowing_db", 0.0, 20.0).value_or(8.0);
 }
 
-void read_channel(const table_reader& root, scenario& scen) {
-  const table_reader r(root.file(), sub_table(root, "channel"), "channel");
+void read_channel(const checked_table& root, scenario& scen) {
+  const checked_table r(root.file(), sub_table(root, "channel"), "channel");
   r.only({"model", "correlation", "k_factor_db"});
   channel_config& ch = scen.channel;
   ch.model = r.choice<channel_model>("model", {{"rayleigh", channel_model::rayleigh},
@@ -359,8 +227,8 @@ void read_channel(const table_reader& root, scenario& scen) {
   }
 }
 
-void read_pilots(const table_reader& root, scenario& scen) {
-  const table_reader r(root.file(), sub_table(root, "pilots"), "pilots");
+void read_pilots(const checked_table& root, scenario& scen) {
+  const checked_table r(root.file(), sub_table(root, "pilots"), "pilots");
   r.only({"length", "sequence", "snr_db", "reuse"});
   pilot_config& p = scen.pilots;
   if (!root.has("pilots")) {
@@ -395,8 +263,8 @@ void read_pilots(const table_reader& root, scenario& scen) {
   }
 }
 
-void read_estimator(const table_reader& root, scenario& scen) {
-  const table_reader r(root.file(), sub_table(root, "estimator"), "estimator");
+void read_estimator(const checked_table& root, scenario& scen) {
+  const checked_table r(root.file(), sub_table(root, "estimator"), "estimator");
   r.only({"kind"});
   scen.estimator.kind =
       r.choice<estimator_kind>(
@@ -404,8 +272,8 @@ void read_estimator(const table_reader& root, scenario& scen) {
           .value_or(estimator_kind::mmse);
 }
 
-void read_precoder(const table_reader& root, scenario& scen) {
-  const table_reader r(root.file(), sub_table(root, "precoder"), "precoder");
+void read_precoder(const checked_table& root, scenario& scen) {
+  const checked_table r(root.file(), sub_table(root, "precoder"), "precoder");
   r.only({"kind", "inversion", "neumann_terms", "regularizer", "normalization"});
   precoder_config& pc = scen.precoder;
   pc.kind = r.choice<precoder_kind>("kind",
@@ -438,14 +306,14 @@ void read_precoder(const table_reader& root, scenario& scen) {
                                                                      {"per_antenna", power_normalization::per_antenna}})
                          .value_or(power_normalization::total);
   if (pc.kind == precoder_kind::zf && scen.cells.num_users > scen.array.num_antennas) {
-    const table_reader cells(root.file(), sub_table(root, "cells"), "cells");
+    const checked_table cells(root.file(), sub_table(root, "cells"), "cells");
     cells.fail("users_per_cell", fmt::format("zero forcing needs users_per_cell ({}) <= array.antennas ({})",
                                              scen.cells.num_users, scen.array.num_antennas));
   }
 }
 
-void read_data(const table_reader& root, scenario& scen) {
-  const table_reader r(root.file(), sub_table(root, "data"), "data");
+void read_data(const checked_table& root, scenario& scen) {
+  const checked_table r(root.file(), sub_table(root, "data"), "data");
   r.only({"modulation", "symbols", "snr_db"});
   if (!root.has("data")) {
     root.fail("data", "missing required table [data] (at least snr_db)");
@@ -460,8 +328,8 @@ void read_data(const table_reader& root, scenario& scen) {
   scen.data.snr_db = r.required("snr_db", r.number("snr_db", -50.0, 80.0));
 }
 
-void read_frontend(const table_reader& root, scenario& scen) {
-  const table_reader r(root.file(), sub_table(root, "frontend"), "frontend");
+void read_frontend(const checked_table& root, scenario& scen) {
+  const checked_table r(root.file(), sub_table(root, "frontend"), "frontend");
   r.only({"agc_backoff_db", "dac_backoff_db"});
   scen.frontend.agc_backoff_db = r.number("agc_backoff_db", -20.0, 60.0).value_or(12.0);
   scen.frontend.dac_backoff_db = r.number("dac_backoff_db", -20.0, 60.0).value_or(12.0);
@@ -469,14 +337,23 @@ void read_frontend(const table_reader& root, scenario& scen) {
 
 }  // namespace
 
-scenario parse_scenario_text(std::string_view toml_text, std::string source_name) {
-  toml::table root_table;
+scenario_document parse_scenario_document(std::string text, std::string source_name) {
+  scenario_document doc{std::move(source_name), std::move(text), {}};
   try {
-    root_table = toml::parse(toml_text, source_name);
+    doc.root = toml::parse(std::string_view(doc.text), std::string_view(doc.source_name));
   } catch (const toml::parse_error& err) {
-    throw scenario_error(source_name, std::max(line_of(err.source()), 1), "(syntax)", one_line(err.description()));
+    throw scenario_error(doc.source_name, std::max(line_of(err.source()), 1), "(syntax)", one_line(err.description()));
   }
-  const table_reader root(source_name, root_table, "");
+  return doc;
+}
+
+scenario parse_scenario_text(std::string_view toml_text, std::string source_name) {
+  return parse_scenario(parse_scenario_document(std::string(toml_text), std::move(source_name)));
+}
+
+scenario parse_scenario(const scenario_document& doc) {
+  const std::string& source_name = doc.source_name;
+  const checked_table root(source_name, doc.root, "");
   root.only({"name", "seed", "trials", "array", "cells", "channel", "pilots", "estimator", "precoder", "data",
              "frontend", "nodes"});
 
@@ -495,7 +372,7 @@ scenario parse_scenario_text(std::string_view toml_text, std::string source_name
   const std::int64_t entries = static_cast<std::int64_t>(scen.cells.num_cells) * scen.cells.num_cells *
                                scen.array.num_antennas * scen.cells.num_users;
   if (entries > (std::int64_t{1} << 26)) {
-    const table_reader cells(source_name, sub_table(root, "cells"), "cells");
+    const checked_table cells(source_name, sub_table(root, "cells"), "cells");
     cells.fail("users_per_cell",
                fmt::format("cells^2 x antennas x users = {} channel coefficients per trial exceeds 2^26", entries));
   }

@@ -9,6 +9,7 @@
 #include "fxmimo/datapath/node_table.hpp"
 #include "fxmimo/fixedpoint/accumulator.hpp"
 #include "fxmimo/fixedpoint/requantize.hpp"
+#include "fxmimo/golden/checked_table.hpp"
 
 namespace fxmimo::datapath {
 
@@ -37,6 +38,9 @@ struct datapath_config {
 /// accumulator also order = "sequential" | "pairwise" | "lanes" and lanes = P). Unknown nodes or
 /// keys, bad formats, W > 64 are errors that name the file, line and key
 /// (golden::scenario_error). Nodes without a table keep the default.
+datapath_config parse_datapath_config(const golden::scenario_document& doc);
+/// The same from text (parsed here; a program that also needs the golden sections parses the
+/// document once with golden::parse_scenario_document and calls both readers on it).
 datapath_config parse_datapath_config(std::string_view toml_text, const std::string& source_name);
 
 /// One node's `[nodes.NAME]` table as TOML text (order and lanes only where not sequential).

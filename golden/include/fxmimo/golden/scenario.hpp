@@ -119,7 +119,7 @@ struct scenario {
 };
 
 /// Parses and validates TOML text. Unknown keys are errors, except inside the top-level table
-/// `nodes` (the datapath formats, read by the harness), which is skipped entirely.
+/// `nodes` (the datapath formats, read by fxmimo::datapath), which is skipped entirely.
 /// Throws scenario_error naming `source_name`, line and key.
 scenario parse_scenario_text(std::string_view toml_text, std::string source_name);
 
