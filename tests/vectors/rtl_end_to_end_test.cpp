@@ -249,46 +249,10 @@ struct rtl_block {
 const rtl_block mac_block{"tb_precode_mac.v", "precode_mac.v", {fp::accumulation_order::sequential, 1}};
 const rtl_block tree_block{"tb_precode_tree.v", "precode_tree.v", {fp::accumulation_order::pairwise, 1}};
 
-/// testing::run_testbench with the sources of `block` (that helper compiles precode_mac only).
-void run_block_testbench(simulator sim, const rtl_block& block,
-                         const std::vector<std::pair<std::string, long long>>& params, bool force_truncate,
-                         const fs::path& build, const fs::path& vec_dir, const fs::path& dump_dir) {
-  fs::create_directories(build);
-  fs::create_directories(dump_dir);
-  std::string compile;
-  std::string run;
-  if (sim == simulator::icarus) {
-    compile = "iverilog -g2005 -Wall -o " + quote(build / "tb.vvp");
-    for (const auto& [name, value] : params) compile += fmt::format(" -Ptb.{}={}", name, value);
-    run = "vvp -n " + quote(build / "tb.vvp");
-  } else {
-    compile = "verilator --binary -Wall -Wno-DECLFILENAME --top-module tb --Mdir " + quote(build / "obj") +
-              " -o Vtb -MAKEFLAGS 'OPT_FAST=-O0 OPT_SLOW=-O0 OPT_GLOBAL=-O0'";
-    for (const auto& [name, value] : params) compile += fmt::format(" -G{}={}", name, value);
-    run = quote(build / "obj" / "Vtb");
-  }
-  if (force_truncate) compile += " -DFORCE_TRUNCATE";
-  const fs::path rtl = fs::path(FXMIMO_SOURCE_DIR) / "examples" / "rtl";
-  for (const char* src : {block.testbench, block.design, "fxm_requant.v"}) compile += " " + quote(rtl / src);
-  const auto built = run_command(compile, build / "compile.log");
-  ASSERT_EQ(built.exit_code, 0) << compile << "\n" << built.output;
-  if (sim == simulator::icarus) {
-    EXPECT_EQ(built.output, "") << "iverilog -Wall must be silent:\n" << compile;
-  }
-  const auto ran = run_command(run + " +vec=" + quote(vec_dir) + " +out=" + quote(dump_dir), build / "sim.log");
-  ASSERT_EQ(ran.exit_code, 0) << ran.output;
-  EXPECT_EQ(ran.output.find("WARNING"), std::string::npos) << ran.output;
-  EXPECT_EQ(ran.output.find("tb:"), std::string::npos) << ran.output;
-}
-
 /// Compiles and runs the testbench of `block` with this case's parameters; dumps land in `dump_dir`.
 void simulate(simulator sim, const rtl_block& block, const rtl_case& c, bool force_truncate, const fs::path& work,
               const fs::path& vec_dir, const fs::path& dump_dir) {
-  if (std::string_view(block.design) == mac_block.design) {
-    testing::run_testbench(sim, parameters(c), force_truncate, work, vec_dir, dump_dir);
-  } else {
-    run_block_testbench(sim, block, parameters(c), force_truncate, work, vec_dir, dump_dir);
-  }
+  testing::run_testbench(sim, parameters(c), force_truncate, work, vec_dir, dump_dir, block.testbench, block.design);
 }
 
 testing::command_result fxmimo_check(const fs::path& vec_dir, const char* node, const fs::path& dump_dir,

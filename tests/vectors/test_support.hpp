@@ -103,13 +103,15 @@ inline int rtl_code(fixedpoint::overflow_mode m) {
 
 enum class simulator { icarus, verilator };
 
-/// Compiles examples/rtl/tb_precode_mac.v with `parameters` in `build` and runs it on the vector
-/// set `vec_dir`; the dumps land in `dump_dir`. Fails the test on any simulator warning or error
-/// (Icarus prints nothing for a -Wall clean compile; $readmemh complains about short files and
-/// the testbench prints "tb:" about missing outputs).
+/// Compiles an example block's testbench (examples/rtl/: `testbench` and `design`, both with top
+/// module tb and the same plusargs, plus fxm_requant.v; by default the sequential MAC) with
+/// `parameters` in `build` and runs it on the vector set `vec_dir`; the dumps land in `dump_dir`. Fails the test on any
+/// simulator warning or error (Icarus prints nothing for a -Wall clean compile; $readmemh complains about short files
+/// and the testbench prints "tb:" about missing outputs).
 inline void run_testbench(simulator sim, const std::vector<std::pair<std::string, long long>>& parameters,
                           bool force_truncate, const std::filesystem::path& build, const std::filesystem::path& vec_dir,
-                          const std::filesystem::path& dump_dir) {
+                          const std::filesystem::path& dump_dir, const char* testbench = "tb_precode_mac.v",
+                          const char* design = "precode_mac.v") {
   std::filesystem::create_directories(build);
   std::filesystem::create_directories(dump_dir);
   std::string compile;
@@ -126,7 +128,7 @@ inline void run_testbench(simulator sim, const std::vector<std::pair<std::string
   }
   if (force_truncate) compile += " -DFORCE_TRUNCATE";
   const std::filesystem::path rtl = std::filesystem::path(FXMIMO_SOURCE_DIR) / "examples" / "rtl";
-  for (const char* src : {"tb_precode_mac.v", "precode_mac.v", "fxm_requant.v"}) compile += " " + quote(rtl / src);
+  for (const char* src : {testbench, design, "fxm_requant.v"}) compile += " " + quote(rtl / src);
   const auto built = run_command(compile, build / "compile.log");
   ASSERT_EQ(built.exit_code, 0) << compile << "\n" << built.output;
   if (sim == simulator::icarus) {
