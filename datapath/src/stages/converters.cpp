@@ -38,14 +38,14 @@ class requantizer_stage final : public stage {
     const word_matrix& w = *in.words;
     *out.words = word_matrix(w.rows, w.cols, node_is_complex(output(0)));
     const fp::requantizer<word> q(out.spec);
-    for (std::size_t i = 0; i < w.size(); ++i) {
-      if (out.words->is_complex) {
+    if (out.words->is_complex) {
+      for (std::size_t i = 0; i < w.size(); ++i) {
         const cw v = fp::requantize(cw{w.re[i], w.is_complex ? w.im[i] : 0}, in.frac(), q, *out.counters);
         out.words->re[i] = v.re;
         out.words->im[i] = v.im;
-      } else {
-        out.words->re[i] = q(w.re[i], in.frac(), *out.counters);
       }
+    } else {
+      for (std::size_t i = 0; i < w.size(); ++i) out.words->re[i] = q(w.re[i], in.frac(), *out.counters);
     }
   }
   void golden_view(golden_context& ctx) const override { ctx.set(output(0), ctx.value_of(source(0, 0))); }

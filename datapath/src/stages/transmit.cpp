@@ -29,25 +29,35 @@ class transmit_stage final : public stage {
   void compute(fixed_context& ctx) const override {
     const node_state wts = state(ctx, source(0, 0)), sym = state(ctx, source(0, 1));
     node_state tx = state(ctx, output(0));
+    const word_matrix& w = *wts.words;
+    const word_matrix& s = *sym.words;
+    const int num_ant = w.rows, num_users = w.cols, num_sym = s.cols;
+    *tx.words = word_matrix(num_ant, num_sym, true);
+    const std::vector<cw> ws = interleaved(w), ss = interleaved(s);
+    const auto sum = [&](auto&& dot) {
+      for (int i_ant = 0; i_ant < num_ant; ++i_ant)
+        for (int i_sym = 0; i_sym < num_sym; ++i_sym)
+          put(*tx.words, i_ant, i_sym, dot(&ws[w.at(i_ant, 0)], &ss[s.at(0, i_sym)]));
+    };
+    const auto stride = static_cast<std::size_t>(num_sym), n = static_cast<std::size_t>(num_users);
+    const int product_frac = wts.frac() + sym.frac();
+    if (tx.sequential()) {  // the hot loop: the specialised kernel, no tree state
+      const fp::requantizer<word> q_tx(tx.spec);
+      sum([&](const cw* a, const cw* b) {
+        return fp::dot_accumulate<fp::product_form::plain>(a, 1, b, stride, n, wts.bits(), sym.bits(), product_frac,
+                                                           q_tx, *tx.counters);
+      });
+      return;
+    }
     with_width(work_bits(ctx.config), [&](auto tag) {
       using P = decltype(tag);
-      const word_matrix& w = *wts.words;
-      const word_matrix& s = *sym.words;
-      const int num_ant = w.rows, num_users = w.cols, num_sym = s.cols;
-      *tx.words = word_matrix(num_ant, num_sym, true);
       const fp::requantizer<word> q_tx(tx.spec);
       const fp::requantizer<P> q_tree(tx.spec);
       fp::complex_accumulator<P> tree(q_tree, tx.order);
-      const std::vector<cw> ws = interleaved(w), ss = interleaved(s);
-      for (int i_ant = 0; i_ant < num_ant; ++i_ant) {
-        for (int i_sym = 0; i_sym < num_sym; ++i_sym) {
-          put(*tx.words, i_ant, i_sym,
-              dot_in_order<fp::product_form::plain>(&ws[w.at(i_ant, 0)], 1, &ss[s.at(0, i_sym)],
-                                                    static_cast<std::size_t>(num_sym),
-                                                    static_cast<std::size_t>(num_users), wts.bits(), sym.bits(),
-                                                    wts.frac() + sym.frac(), q_tx, tree, tx));
-        }
-      }
+      sum([&](const cw* a, const cw* b) {
+        return dot_in_order<fp::product_form::plain>(a, 1, b, stride, n, wts.bits(), sym.bits(), product_frac, q_tx,
+                                                     tree, tx);
+      });
     });
   }
   void golden_view(golden_context& ctx) const override { ctx.set(output(0), ctx.trial.tx); }

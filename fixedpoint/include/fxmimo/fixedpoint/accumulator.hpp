@@ -84,21 +84,18 @@ class accumulator {
     std::fill(lanes_.begin(), lanes_.end(), T(0));
   }
   /// Adds the exact term x * 2^-x_frac.
-  void add(const T& x, int x_frac, counters& c) {
+  [[gnu::always_inline]] void add(const T& x, int x_frac, counters& c) {
     const T term = (*q_)(x, x_frac, c);
-    switch (how_.order) {
-      case accumulation_order::sequential:
-        value_ = q_->overflow(T(value_ + term), c);
-        ++c.requantized;
-        return;
-      case accumulation_order::pairwise: terms_.push_back(term); return;
-      case accumulation_order::lanes: {
-        T& lane = lanes_[count_ % lanes_.size()];
-        lane = q_->overflow(T(lane + term), c);
-        ++c.requantized;
-        ++count_;
-        return;
-      }
+    if (how_.order == accumulation_order::sequential) [[likely]] {
+      value_ = q_->overflow(T(value_ + term), c);
+      ++c.requantized;
+    } else if (how_.order == accumulation_order::pairwise) {
+      terms_.push_back(term);
+    } else {
+      T& lane = lanes_[count_ % lanes_.size()];
+      lane = q_->overflow(T(lane + term), c);
+      ++c.requantized;
+      ++count_;
     }
   }
   /// The sum of the terms added since reset(); the tree adders (pairwise, lanes) count into c.
