@@ -115,9 +115,10 @@ fp::cword<P> scale(const cw& v, word s) {
 /// accumulation order: the sequential order runs the specialised dot kernel, the tree orders
 /// feed a complex_accumulator<P> (P from the stage's width rule) with the same exact products.
 template <fp::product_form Form, class P>
-[[gnu::always_inline]] inline cw dot_in_order(const cw* a, std::size_t sa, const cw* b, std::size_t sb, std::size_t n, int a_bits, int b_bits,
-                int product_frac, const fp::requantizer<word>& q_seq, fp::complex_accumulator<P>& acc,
-                const node_state& node) {
+[[gnu::always_inline]] inline cw dot_in_order(const cw* a, std::size_t sa, const cw* b, std::size_t sb, std::size_t n,
+                                              int a_bits, int b_bits, int product_frac,
+                                              const fp::requantizer<word>& q_seq, fp::complex_accumulator<P>& acc,
+                                              const node_state& node) {
   if (node.sequential()) {
     return fp::dot_accumulate<Form>(a, sa, b, sb, n, a_bits, b_bits, product_frac, q_seq, *node.counters);
   }
