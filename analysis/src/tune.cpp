@@ -28,20 +28,19 @@ tune_figures figures_of(const run_results& r) {
 
 std::string_view to_string(cost_model m) { return m == cost_model::bits ? "bits" : "area"; }
 
-double node_storage_words(const golden::scenario& scen, datapath::node_id id) {
-  const datapath::datapath_plan plan = datapath::stages_for(scen);
+double node_cost(const datapath::datapath_plan& plan, const datapath::datapath_config& config, datapath::node_id id,
+                 cost_model model) {
+  const double w = config[id].spec.fmt.word_bits;
+  if (model == cost_model::bits) return w;
   const datapath::stage* producer = plan.producer(id);
-  return producer != nullptr ? producer->storage_words(id, plan.dims) : 0.0;
+  return producer != nullptr ? w * producer->storage_words(id, plan.dims) : 0.0;
 }
 
 double datapath_cost(const golden::scenario& scen, const datapath::datapath_config& config, cost_model model) {
   const datapath::datapath_plan plan = datapath::stages_for(scen);
   double cost = 0;
   for (const auto& stage : plan.stages) {
-    for (const datapath::port& p : stage->ports()) {
-      const double w = config[p.node].spec.fmt.word_bits;
-      cost += model == cost_model::bits ? w : w * stage->storage_words(p.node, plan.dims);
-    }
+    for (const datapath::port& p : stage->ports()) cost += node_cost(plan, config, p.node, model);
     if (model == cost_model::area) cost += stage->multiplier_cost(config, plan.dims);
   }
   return cost;

@@ -13,12 +13,6 @@ namespace fxmimo::datapath {
 
 namespace fp = fxmimo::fixedpoint;
 
-namespace {
-
-int line_of(const toml::node& n) { return static_cast<int>(n.source().begin.line); }
-
-}  // namespace
-
 fp::target default_target() { return {{true, 64, 43}, fp::rounding_mode::half_even, fp::overflow_mode::saturate}; }
 
 datapath_config parse_datapath_config(const golden::scenario_document& doc) {
@@ -91,22 +85,6 @@ datapath_config parse_datapath_config(std::string_view toml_text, const std::str
   return parse_datapath_config(golden::parse_scenario_document(std::string(toml_text), source_name));
 }
 
-std::string node_table_toml(node_id id, const node_setting& s) {
-  std::string out =
-      fmt::format("[nodes.{}]\nformat = \"{}\"\nrounding = \"{}\"\noverflow = \"{}\"\n", node_name(id),
-                  fp::to_q_string(s.spec.fmt), fp::to_string(s.spec.rounding), fp::to_string(s.spec.overflow));
-  if (s.order.order != fp::accumulation_order::sequential)
-    out += fmt::format("order = \"{}\"\n", fp::to_string(s.order.order));
-  if (s.order.order == fp::accumulation_order::lanes) out += fmt::format("lanes = {}\n", s.order.lanes);
-  return out;
-}
-
-std::string to_toml(const datapath_config& config) {
-  std::string out;
-  for (node_id id : all_nodes()) out += node_table_toml(id, config[id]) + "\n";
-  return out;
-}
-
 namespace {
 
 /// The value text a key of a node table takes for a setting ("" when the key is absent).
@@ -125,6 +103,19 @@ constexpr std::array<std::string_view, 5> setting_keys{"format", "rounding", "ov
 
 }  // namespace
 
+std::string node_table_toml(node_id id, const node_setting& s) {
+  std::string out = fmt::format("[nodes.{}]\n", node_name(id));
+  for (std::string_view key : setting_keys)
+    if (const std::string value = value_text(key, s); !value.empty()) out += fmt::format("{} = {}\n", key, value);
+  return out;
+}
+
+std::string to_toml(const datapath_config& config) {
+  std::string out;
+  for (node_id id : all_nodes()) out += node_table_toml(id, config[id]) + "\n";
+  return out;
+}
+
 std::string scenario_with_nodes(const std::string& scenario_text, const datapath_config& config,
                                 const std::vector<node_id>& nodes, const std::string& comment) {
   // Where every table starts (toml++ knows; a line that merely begins with '[' inside a
@@ -138,15 +129,16 @@ std::string scenario_with_nodes(const std::string& scenario_text, const datapath
   std::vector<int> header_lines;
   std::vector<std::pair<int, node_id>> node_headers;
   root.for_each([&](const toml::key&, const toml::node& n) {
-    if (const toml::table* t = n.as_table(); t != nullptr && !t->is_inline()) header_lines.push_back(line_of(*t));
+    if (const toml::table* t = n.as_table(); t != nullptr && !t->is_inline())
+      header_lines.push_back(golden::line_of(t->source()));
   });
   if (const toml::table* nodes_table = root["nodes"].as_table()) {
     for (const auto& [k, v] : *nodes_table) {
       const toml::table* t = v.as_table();
       const std::optional<node_id> id = parse_node_name(k.str());
       if (t == nullptr || !id) continue;
-      header_lines.push_back(line_of(*t));
-      node_headers.emplace_back(line_of(*t), *id);
+      header_lines.push_back(golden::line_of(t->source()));
+      node_headers.emplace_back(golden::line_of(t->source()), *id);
     }
   }
   std::sort(header_lines.begin(), header_lines.end());

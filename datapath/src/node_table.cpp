@@ -64,11 +64,6 @@ std::array<dim, 2> dims_of(node_id id) {
   return index_of(id) < num_reference_nodes ? reference_node_table[index_of(id)].dims : custom_row(id).dims;
 }
 
-std::string_view node_holds(node_id id) {
-  return index_of(id) < num_reference_nodes ? reference_node_table[index_of(id)].holds
-                                            : std::string_view(custom_row(id).holds);
-}
-
 std::optional<node_id> parse_node_name(std::string_view name) {
   for (node_id id : all_nodes())
     if (node_name(id) == name) return id;

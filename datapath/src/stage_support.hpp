@@ -74,6 +74,13 @@ inline int product_bits(std::initializer_list<int> operand_bits, int acc_bits) {
   return std::max(sum, acc_bits + 1);
 }
 
+/// ceil(log2(n)) for n >= 1: the integer bits a sum of n terms can add (common practice).
+inline int ceil_log2(long long n) {
+  int b = 0;
+  while ((1LL << b) < n) ++b;
+  return b;
+}
+
 /// A golden double matrix brought into a node: each value converted exactly, then requantised
 /// once by the node's mode (the ADC, the ROMs, the symbols, the perfect-CSI estimate).
 inline void quantize_values(const Eigen::MatrixXcd& values, bool is_complex, node_state& node) {

@@ -52,6 +52,7 @@ nlohmann::json to_json(const golden::scenario& scen, const analysis::tune_result
                    {"max_rms_tx_power_error_db", r.limits.max_rms_tx_power_error_db},
                    {"max_overflow_rate", r.limits.max_overflow_rate}};
   out["nodes"] = nlohmann::json::object();
+  const datapath::datapath_plan plan = datapath::stages_for(scen);
   for (datapath::node_id id : r.nodes) {
     const fp::format& f = r.config[id].spec.fmt;
     out["nodes"][std::string(datapath::node_name(id))] = {
@@ -61,8 +62,7 @@ nlohmann::json to_json(const golden::scenario& scen, const analysis::tune_result
         {"int_bits", f.int_bits()},
         {"rounding", std::string(fp::to_string(r.config[id].spec.rounding))},
         {"overflow", std::string(fp::to_string(r.config[id].spec.overflow))},
-        {"cost", r.model == analysis::cost_model::bits ? static_cast<double>(f.word_bits)
-                                                       : f.word_bits * analysis::node_storage_words(scen, id)}};
+        {"cost", analysis::node_cost(plan, r.config, id, r.model)}};
   }
   out["search"] = {{"trials", r.search_trials.size()},
                    {"rms_tx_power_error_db", r.search.rms_tx_power_error_db},

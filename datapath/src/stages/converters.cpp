@@ -53,12 +53,6 @@ class requantizer_stage final : public stage {
 
 }  // namespace
 
-int ceil_log2(long long n) {
-  int b = 0;
-  while ((1LL << b) < n) ++b;
-  return b;
-}
-
 }  // namespace fxmimo::datapath::detail
 
 namespace fxmimo::datapath {

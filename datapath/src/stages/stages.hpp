@@ -22,7 +22,4 @@ std::shared_ptr<stage> make_power(bool per_antenna);                  // power.c
 std::shared_ptr<stage> make_weights();                                // weights.cpp
 std::shared_ptr<stage> make_transmit();                               // transmit.cpp: tx_acc
 
-/// ceil(log2(n)) for n >= 1: the integer bits a sum of n terms can add (common practice).
-int ceil_log2(long long n);
-
 }  // namespace fxmimo::datapath::detail

@@ -48,8 +48,10 @@ std::string_view to_string(cost_model m);
 /// their operand widths (stage::multiplier_cost: four per complex multiplier; the precoding
 /// accumulator has one complex multiplier per antenna, every other stage one).
 double datapath_cost(const golden::scenario& scen, const datapath::datapath_config& config, cost_model model);
-/// Words a node stores (real and imaginary parts counted).
-double node_storage_words(const golden::scenario& scen, datapath::node_id id);
+/// One node's share of that cost: its word bits (bits), or word bits times the words its stage
+/// stores for it (area; multipliers are the stages', not the nodes').
+double node_cost(const datapath::datapath_plan& plan, const datapath::datapath_config& config, datapath::node_id id,
+                 cost_model model);
 
 /// The generic search over integer variables x_i in [lo_i, hi_i] (the fraction bits), given an
 /// evaluation and a cost. Returns the chosen x; `evaluations` counts calls of `evaluate`.

@@ -68,7 +68,7 @@ struct node_row {
   bool is_complex;
   std::array<dim, 2> dims;  ///< rows, columns of the words (row-major)
   node_role role;
-  std::string_view holds;  ///< what it holds, one line (help text, README)
+  std::string_view holds;  ///< what it holds, one line (the README node table says the same)
 };
 
 /// The reference datapath's rows, in datapath order.
@@ -213,7 +213,6 @@ std::string_view node_name(node_id id);
 bool node_is_complex(node_id id);
 node_role role_of(node_id id);
 std::array<dim, 2> dims_of(node_id id);
-std::string_view node_holds(node_id id);
 std::optional<node_id> parse_node_name(std::string_view name);
 /// "adc, pilot_rom, ..." for messages and help.
 std::string list_node_names();
