@@ -1,22 +1,9 @@
 # The custom-stage example (examples/custom-stage/) built against the installed package and run
 # through fxmimo's commands on its extended datapath: run, vectors + check, sweep, range, tune,
 # report. Variables: BINARY_DIR (fxmimo build tree), EXAMPLE_DIR, WORK_DIR (scratch).
-file(REMOVE_RECURSE ${WORK_DIR})
+include(${CMAKE_CURRENT_LIST_DIR}/build_against_install.cmake)
+fxmimo_build_against_install(${EXAMPLE_DIR} "the custom-stage example")
 file(MAKE_DIRECTORY ${WORK_DIR}/out)
-execute_process(COMMAND ${CMAKE_COMMAND} --install ${BINARY_DIR} --prefix ${WORK_DIR}/prefix
-                RESULT_VARIABLE rc OUTPUT_QUIET)
-if(rc)
-  message(FATAL_ERROR "install failed: ${rc}")
-endif()
-execute_process(COMMAND ${CMAKE_COMMAND} -S ${EXAMPLE_DIR} -B ${WORK_DIR}/build -G Ninja
-                -DCMAKE_PREFIX_PATH=${WORK_DIR}/prefix RESULT_VARIABLE rc)
-if(rc)
-  message(FATAL_ERROR "configuring the custom-stage example failed: ${rc}")
-endif()
-execute_process(COMMAND ${CMAKE_COMMAND} --build ${WORK_DIR}/build RESULT_VARIABLE rc)
-if(rc)
-  message(FATAL_ERROR "building the custom-stage example failed: ${rc}")
-endif()
 set(exe ${WORK_DIR}/build/calibrated-fxmimo)
 set(scenario ${EXAMPLE_DIR}/calibrated.toml)
 set(out ${WORK_DIR}/out)

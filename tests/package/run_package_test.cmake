@@ -1,20 +1,7 @@
 # Installs the build tree into a scratch prefix, then configures, builds and runs the consumer.
 # Variables: BINARY_DIR (fxmimo build tree), SOURCE_DIR (this folder), WORK_DIR (scratch).
-file(REMOVE_RECURSE ${WORK_DIR})
-execute_process(COMMAND ${CMAKE_COMMAND} --install ${BINARY_DIR} --prefix ${WORK_DIR}/prefix
-                RESULT_VARIABLE rc OUTPUT_QUIET)
-if(rc)
-  message(FATAL_ERROR "install failed: ${rc}")
-endif()
-execute_process(COMMAND ${CMAKE_COMMAND} -S ${SOURCE_DIR} -B ${WORK_DIR}/build -G Ninja
-                -DCMAKE_PREFIX_PATH=${WORK_DIR}/prefix RESULT_VARIABLE rc)
-if(rc)
-  message(FATAL_ERROR "configuring the consumer failed: ${rc}")
-endif()
-execute_process(COMMAND ${CMAKE_COMMAND} --build ${WORK_DIR}/build RESULT_VARIABLE rc)
-if(rc)
-  message(FATAL_ERROR "building the consumer failed: ${rc}")
-endif()
+include(${CMAKE_CURRENT_LIST_DIR}/build_against_install.cmake)
+fxmimo_build_against_install(${SOURCE_DIR} "the consumer")
 execute_process(COMMAND ${WORK_DIR}/build/consumer OUTPUT_VARIABLE out RESULT_VARIABLE rc)
 string(STRIP "${out}" out)
 set(expected "2666\n13 adc dac\nrun\nba7816bf")
