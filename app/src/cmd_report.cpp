@@ -18,12 +18,11 @@ struct report_options {
 };
 
 int run_report(const report_options& opt) {
-  std::vector<std::pair<std::string, nlohmann::json>> inputs;
+  std::vector<report::named_record> inputs;
   inputs.reserve(opt.inputs.size());
   try {
-    for (const std::string& file : opt.inputs) inputs.emplace_back(file, report::read_report_input(file));
-    const std::string html = report::render_report_html(inputs);
-    write_file_atomically(opt.out_path, html);
+    for (const std::string& file : opt.inputs) inputs.push_back(report::read_results_file(file));
+    write_file_atomically(opt.out_path, report::render_report_html(inputs));
   } catch (const report::report_input_error& e) {
     throw usage_error(e.what());
   }

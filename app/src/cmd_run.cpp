@@ -9,6 +9,7 @@
 #include "fxmimo/analysis/runner.hpp"
 #include "fxmimo/analysis/sweep.hpp"
 #include "fxmimo/analysis/tune.hpp"
+#include "fxmimo/report/records.hpp"
 #include "fxmimo/report/report.hpp"
 #include "fxmimo/report/report_html.hpp"
 #include "output_files.hpp"
@@ -37,7 +38,8 @@ int run_run(const run_options& opt) {
   const scenario_input in = load_scenario_input(opt.scenario_path);
   const analysis::run_results results = run_scenario(in, opt.num_trials, opt.num_threads);
   fmt::print("{}", report::format_run_table(results));
-  if (!opt.json_path.empty()) write_file_atomically(opt.json_path, report::to_json(results).dump(2) + "\n");
+  if (!opt.json_path.empty())
+    write_file_atomically(opt.json_path, report::to_json(report::make_record(results)).dump(2) + "\n");
   return exit_ok;
 }
 
@@ -59,7 +61,7 @@ int run_demo(const demo_options& opt) {
   // 1. The scenario's own widths, side by side with the golden model.
   const analysis::run_results results = run_scenario(in, 0, opt.num_threads);
   fmt::print("{}", report::format_run_table(results));
-  const nlohmann::json run_json = report::to_json(results);
+  const nlohmann::json run_json = report::to_json(report::make_record(results));
   write_file_atomically(dir / "run.json", run_json.dump(2) + "\n");
 
   // 2. Where the values live: integer bits per node.
@@ -67,7 +69,7 @@ int run_demo(const demo_options& opt) {
   const analysis::range_results ranges =
       analysis::profile_ranges(in.scen, in.config, in.scen.num_trials, opt.num_threads, 1e-6);
   fmt::print("{}", report::format_range_table(ranges));
-  const nlohmann::json range_json = report::to_json(ranges);
+  const nlohmann::json range_json = report::to_json(report::make_record(ranges));
   write_file_atomically(dir / "range.json", range_json.dump(2) + "\n");
 
   // 3. What the last stages' fraction bits buy.
@@ -79,7 +81,7 @@ int run_demo(const demo_options& opt) {
                           analysis::sweep_axis::frac, analysis::first_trials(sweep_trials), opt.num_threads,
                           [&](std::size_t d, std::size_t t) { sweep_progress.update(d, t); });
   fmt::print("{}", report::format_sweep_table(sweep));
-  const nlohmann::json sweep_json = report::to_json(sweep);
+  const nlohmann::json sweep_json = report::to_json(report::make_record(sweep));
   write_file_atomically(dir / "sweep.json", sweep_json.dump(2) + "\n");
 
   // 4. The cheapest widths for a budget: 0.05 dB SINR loss, a tenth of the 64-QAM EVM limit.
@@ -96,7 +98,7 @@ int run_demo(const demo_options& opt) {
                                                              tune_trials, opt.num_threads, 1e-6, 0.1, show_status);
   show_status("");
   fmt::print("{}", report::format_tune_table(tuned));
-  const nlohmann::json tune_json = report::to_json(in.scen, tuned);
+  const nlohmann::json tune_json = report::to_json(report::make_record(in.scen, tuned));
   write_file_atomically(dir / "tune.json", tune_json.dump(2) + "\n");
   write_file_atomically(dir / "tuned.toml",
                         datapath::scenario_with_nodes(

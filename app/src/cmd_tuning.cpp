@@ -7,6 +7,7 @@
 #include "fxmimo/analysis/range.hpp"
 #include "fxmimo/analysis/sweep.hpp"
 #include "fxmimo/analysis/tune.hpp"
+#include "fxmimo/report/records.hpp"
 #include "fxmimo/report/report.hpp"
 #include "output_files.hpp"
 #include "progress.hpp"
@@ -34,7 +35,8 @@ int run_range(const range_options& opt) {
       analysis::profile_ranges(in.scen, in.config, in.trials_or_default(opt.num_trials), opt.num_threads,
                                opt.overflow_prob, [&](std::size_t d, std::size_t t) { progress.update(d, t); });
   fmt::print("{}", report::format_range_table(r));
-  if (!opt.json_path.empty()) write_file_atomically(opt.json_path, report::to_json(r).dump(2) + "\n");
+  if (!opt.json_path.empty())
+    write_file_atomically(opt.json_path, report::to_json(report::make_record(r)).dump(2) + "\n");
   if (!opt.scenario_out.empty()) {
     const datapath::datapath_config proposed = analysis::apply_proposal(in.config, r);
     write_file_atomically(opt.scenario_out, datapath::scenario_with_nodes(
@@ -116,7 +118,8 @@ int run_sweep_command(const sweep_options& opt) {
     throw usage_error(e.what());
   }
   fmt::print("{}", report::format_sweep_table(r));
-  if (!opt.json_path.empty()) write_file_atomically(opt.json_path, report::to_json(r).dump(2) + "\n");
+  if (!opt.json_path.empty())
+    write_file_atomically(opt.json_path, report::to_json(report::make_record(r)).dump(2) + "\n");
   if (!opt.csv_path.empty()) write_file_atomically(opt.csv_path, report::to_csv(r));
   return exit_ok;
 }
@@ -183,7 +186,8 @@ int run_tune(const tune_options& opt) {
                                                       analysis::to_string(model),
                                                       r.met ? "verified on fresh trials" : "NOT verified: " + r.note)));
   fmt::print("wrote {}\n", opt.out_path);
-  if (!opt.json_path.empty()) write_file_atomically(opt.json_path, report::to_json(in.scen, r).dump(2) + "\n");
+  if (!opt.json_path.empty())
+    write_file_atomically(opt.json_path, report::to_json(report::make_record(in.scen, r)).dump(2) + "\n");
   return r.met ? exit_ok : exit_check_failed;
 }
 

@@ -1,4 +1,4 @@
-// The range results as a text table and as JSON.
+// The range results as a text table.
 #include <fmt/core.h>
 
 #include <algorithm>
@@ -25,32 +25,6 @@ std::string format_range_table(const analysis::range_results& r) {
   out +=
       "(int bits m of a signed Qm.n: values up to 2^m; 'max+1' = too few values for the quantile, the\n"
       " largest observed value plus one guard bit; analytic = worst-case growth from the configured inputs)\n";
-  return out;
-}
-
-nlohmann::json to_json(const analysis::range_results& r) {
-  nlohmann::json out;
-  out["kind"] = "range";
-  out["schema"] = results_schema;
-  out["scenario"] = {{"name", r.scenario_name}};
-  out["trials"] = r.num_trials;
-  out["overflow_prob"] = r.overflow_prob;
-  out["nodes"] = nlohmann::json::object();
-  for (const analysis::node_range& n : r.nodes) {
-    out["nodes"][std::string(datapath::node_name(n.id))] = {
-        {"values", n.num_values},
-        {"max_abs", n.max_abs},
-        {"p99", n.p99},
-        {"p99_99", n.p9999},
-        {"p99_9999", n.p999999},
-        {"proposed_int_bits", n.proposed_int_bits},
-        {"proposal_basis", n.proposal_basis},
-        {"analytic_int_bits", n.analytic_int_bits ? nlohmann::json(*n.analytic_int_bits) : nlohmann::json(nullptr)},
-        {"analytic_rule", n.analytic_rule},
-        {"hist_min_exp", n.hist_min_exp},
-        {"log2_histogram", n.log2_histogram},
-    };
-  }
   return out;
 }
 

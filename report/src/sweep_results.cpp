@@ -1,4 +1,4 @@
-// The sweep results as a text table and as JSON.
+// The sweep results as a text table.
 #include <fmt/core.h>
 
 #include <algorithm>
@@ -22,33 +22,6 @@ std::string format_sweep_table(const analysis::sweep_results& r) {
                        p.summary.evm_fixed_pct, p.summary.evm_impl_pct,
                        std::isinf(p.node_sqnr_db) ? std::string("exact") : fmt::format("{:.1f}", p.node_sqnr_db),
                        p.node_overflow_rate, p.max_overflow_rate);
-  }
-  return out;
-}
-
-nlohmann::json to_json(const analysis::sweep_results& r) {
-  nlohmann::json out;
-  out["kind"] = "sweep";
-  out["schema"] = results_schema;
-  out["scenario"] = {{"name", r.scenario_name}};
-  out["trials"] = r.num_trials;
-  out["vary"] = std::string(to_string(r.axis));
-  out["points"] = nlohmann::json::array();
-  for (const analysis::sweep_point& p : r.points) {
-    out["points"].push_back(
-        {{"node", std::string(datapath::node_name(p.id))},
-         {"bits", p.bits},
-         {"format", fp::to_q_string(p.fmt)},
-         {"word_bits", p.fmt.word_bits},
-         {"frac_bits", p.fmt.frac_bits},
-         {"int_bits", p.fmt.int_bits()},
-         {"sinr_loss_db", p.summary.sinr_loss_db},
-         {"sinr_fixed_db", p.summary.sinr_fixed_db},
-         {"evm_fixed_pct", p.summary.evm_fixed_pct},
-         {"evm_impl_pct", p.summary.evm_impl_pct},
-         {"sqnr_db", std::isinf(p.node_sqnr_db) ? nlohmann::json(nullptr) : nlohmann::json(p.node_sqnr_db)},
-         {"overflow_rate", p.node_overflow_rate},
-         {"max_overflow_rate", p.max_overflow_rate}});
   }
   return out;
 }

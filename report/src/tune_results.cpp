@@ -1,4 +1,4 @@
-// The tune results as a text table and as JSON.
+// The tune results as a text table.
 #include <fmt/core.h>
 
 #include <algorithm>
@@ -37,53 +37,6 @@ std::string format_tune_table(const analysis::tune_results& r) {
                      r.limits.max_overflow_rate - r.verification.max_overflow_rate);
   out += r.met ? "verification on fresh trials: PASS (every limit met)\n"
                : "verification on fresh trials: FAIL - " + r.note + "\n";
-  return out;
-}
-
-nlohmann::json to_json(const golden::scenario& scen, const analysis::tune_results& r) {
-  nlohmann::json out;
-  out["kind"] = "tune";
-  out["schema"] = results_schema;
-  out["scenario"] = {{"name", r.scenario_name}};
-  out["cost_model"] = std::string(to_string(r.model));
-  out["cost"] = r.cost;
-  out["limits"] = {{"max_sinr_loss_db", r.limits.max_sinr_loss_db},
-                   {"max_evm_pct", r.limits.max_evm_pct},
-                   {"max_rms_tx_power_error_db", r.limits.max_rms_tx_power_error_db},
-                   {"max_overflow_rate", r.limits.max_overflow_rate}};
-  out["nodes"] = nlohmann::json::object();
-  const datapath::datapath_plan plan = datapath::stages_for(scen);
-  for (datapath::node_id id : r.nodes) {
-    const fp::format& f = r.config[id].spec.fmt;
-    out["nodes"][std::string(datapath::node_name(id))] = {
-        {"format", fp::to_q_string(f)},
-        {"word_bits", f.word_bits},
-        {"frac_bits", f.frac_bits},
-        {"int_bits", f.int_bits()},
-        {"rounding", std::string(fp::to_string(r.config[id].spec.rounding))},
-        {"overflow", std::string(fp::to_string(r.config[id].spec.overflow))},
-        {"cost", analysis::node_cost(plan, r.config, id, r.model)}};
-  }
-  out["search"] = {{"trials", r.search_trials.size()},
-                   {"rms_tx_power_error_db", r.search.rms_tx_power_error_db},
-                   {"sinr_loss_db", r.search.sinr_loss_db},
-                   {"evm_impl_pct", r.search.evm_pct},
-                   {"max_overflow_rate", r.search.max_overflow_rate},
-                   {"evaluations", r.evaluations}};
-  out["verification"] = {{"trials", r.verify_trials.size()},
-                         {"trial_indices", r.verify_trials},
-                         {"rms_tx_power_error_db", r.verification.rms_tx_power_error_db},
-                         {"sinr_loss_db", r.verification.sinr_loss_db},
-                         {"evm_impl_pct", r.verification.evm_pct},
-                         {"max_overflow_rate", r.verification.max_overflow_rate},
-                         {"meets_limits", r.met}};
-  out["margins"] = {
-      {"sinr_loss_db", r.limits.max_sinr_loss_db - r.verification.sinr_loss_db},
-      {"evm_pct", r.limits.max_evm_pct - r.verification.evm_pct},
-      {"rms_tx_power_error_db", r.limits.max_rms_tx_power_error_db - r.verification.rms_tx_power_error_db},
-      {"overflow_rate", r.limits.max_overflow_rate - r.verification.max_overflow_rate}};
-  out["met"] = r.met;
-  out["note"] = r.note;
   return out;
 }
 

@@ -3,7 +3,8 @@
 //   golden:     parses a small scenario
 //   datapath:   lays out its stages (MF: 13 nodes, adc first, dac last)
 //   analysis:   runs one trial of it
-//   report:     formats the run as JSON
+//   io:         reads the scenario name back through the checked JSON reader
+//   report:     writes the run as a results record (JSON) and reads it back
 //   vectors:    SHA-256 of "abc" (FIPS 180-2 appendix B.1: ba7816bf...)
 //   app:        the fxmimo program's --version
 #include <cstdio>
@@ -13,6 +14,8 @@
 #include <fxmimo/fixedpoint/conversions.hpp>
 #include <fxmimo/fixedpoint/words.hpp>
 #include <fxmimo/golden/scenario.hpp>
+#include <fxmimo/io/checked_json.hpp>
+#include <fxmimo/report/records.hpp>
 #include <fxmimo/report/report.hpp>
 #include <fxmimo/vectors/sha256.hpp>
 #include <string>
@@ -47,7 +50,9 @@ snr_db = 10.0
   std::printf("%zu %s %s\n", nodes.size(), std::string(fxmimo::datapath::node_name(nodes.front())).c_str(),
               std::string(fxmimo::datapath::node_name(nodes.back())).c_str());
   const auto run = fxmimo::analysis::run_trials(scen, fxmimo::datapath::datapath_config{}, {0}, 1);
-  std::printf("%s\n", fxmimo::report::to_json(run).at("kind").get<std::string>().c_str());
+  const nlohmann::json run_json = fxmimo::report::to_json(fxmimo::report::make_record(run));
+  const fxmimo::io::checked_json doc(run_json, "run.json");
+  std::printf("%s %s\n", doc["kind"].text().c_str(), fxmimo::report::run_from_json(doc).scenario.name.c_str());
   std::printf("%s\n", fxmimo::vectors::sha256_hex("abc").substr(0, 8).c_str());
   return 0;
 }

@@ -4,6 +4,7 @@
 
 #include <nlohmann/json.hpp>
 
+#include "fxmimo/io/checked_json.hpp"
 #include "fxmimo/vectors/errors.hpp"
 #include "fxmimo/vectors/sha256.hpp"
 
@@ -82,49 +83,6 @@ nlohmann::json to_json(const manifest& m) {
 
 namespace {
 
-class field_reader {
- public:
-  explicit field_reader(std::string_view source) : source_(source) {}
-
-  [[noreturn]] void fail(const std::string& where, const std::string& what) const {
-    throw vector_error(fmt::format("{}: {}: {}", source_, where, what));
-  }
-
-  const nlohmann::json& get(const nlohmann::json& obj, const char* key, const std::string& where) const {
-    if (!obj.is_object()) fail(where, "expected an object");
-    const auto it = obj.find(key);
-    if (it == obj.end()) fail(where, fmt::format("missing field '{}'", key));
-    return *it;
-  }
-  std::string str(const nlohmann::json& obj, const char* key, const std::string& where) const {
-    const auto& v = get(obj, key, where);
-    if (!v.is_string()) fail(where, fmt::format("field '{}' must be a string", key));
-    return v.get<std::string>();
-  }
-  std::uint64_t uint(const nlohmann::json& obj, const char* key, const std::string& where) const {
-    const auto& v = get(obj, key, where);
-    if (!v.is_number_unsigned() && !(v.is_number_integer() && v.get<std::int64_t>() >= 0)) {
-      fail(where, fmt::format("field '{}' must be a non-negative integer", key));
-    }
-    return v.get<std::uint64_t>();
-  }
-  int integer(const nlohmann::json& obj, const char* key, const std::string& where) const {
-    const auto& v = get(obj, key, where);
-    if (!v.is_number_integer()) fail(where, fmt::format("field '{}' must be an integer", key));
-    const auto x = v.get<std::int64_t>();
-    if (x < -100000 || x > 100000) fail(where, fmt::format("field '{}' out of range", key));
-    return static_cast<int>(x);
-  }
-  bool boolean(const nlohmann::json& obj, const char* key, const std::string& where) const {
-    const auto& v = get(obj, key, where);
-    if (!v.is_boolean()) fail(where, fmt::format("field '{}' must be true or false", key));
-    return v.get<bool>();
-  }
-
- private:
-  std::string_view source_;
-};
-
 bool is_safe_file_name(const std::string& name) {
   if (name.empty() || name == "." || name == ".." || name == manifest_file_name) return false;
   return name.find('/') == std::string::npos && name.find('\\') == std::string::npos && name[0] != '.';
@@ -133,86 +91,74 @@ bool is_safe_file_name(const std::string& name) {
 }  // namespace
 
 manifest manifest_from_json(const nlohmann::json& j, std::string_view source) {
-  const field_reader r(source);
-  manifest m;
-  if (r.str(j, "kind", "top level") != "fxmimo vector set") r.fail("top level", "kind is not \"fxmimo vector set\"");
-  const int schema = r.integer(j, "schema", "top level");
-  if (schema != manifest_schema)
-    r.fail("top level", fmt::format("schema {} is not supported (this reader knows {})", schema, manifest_schema));
-  m.info.tool_version = r.str(r.get(j, "tool", "top level"), "version", "tool");
-  const auto& scen = r.get(j, "scenario", "top level");
-  m.info.scenario_name = r.str(scen, "name", "scenario");
-  m.info.scenario_text = r.str(scen, "text", "scenario");
-  m.scenario_sha256 = r.str(scen, "sha256", "scenario");
-  if (sha256_hex(m.info.scenario_text) != m.scenario_sha256) {
-    r.fail("scenario", "sha256 does not match the embedded scenario text");
-  }
-  m.info.seed = r.uint(j, "seed", "top level");
-  const auto& trials = r.get(j, "trials", "top level");
-  if (!trials.is_array()) r.fail("top level", "field 'trials' must be an array");
-  for (const auto& t : trials) {
-    if (!t.is_number_unsigned()) r.fail("trials", "trial indices must be non-negative integers");
-    m.info.trials.push_back(t.get<std::uint64_t>());
-  }
-  const std::string form_text = r.str(j, "form", "top level");
-  const auto form = parse_file_form(form_text);
-  if (!form) r.fail("top level", fmt::format("unknown form '{}' (hex, bin, npy)", form_text));
-  m.form = *form;
-  const std::string layout_text = r.str(j, "complex_layout", "top level");
-  const auto layout = parse_complex_layout(layout_text);
-  if (!layout) r.fail("top level", fmt::format("unknown complex_layout '{}' (split, interleaved)", layout_text));
-  m.layout = *layout;
+  try {
+    const io::checked_json doc(j, std::string(source));
+    manifest m;
+    if (doc["kind"].text() != "fxmimo vector set") doc["kind"].fail("expected \"fxmimo vector set\"");
+    const io::checked_json schema = doc["schema"];
+    if (const auto v = schema.integer(-100000, 100000); v != manifest_schema) {
+      schema.fail(fmt::format("schema {} is not supported (this reader knows {})", v, manifest_schema));
+    }
+    m.info.tool_version = doc["tool"]["version"].text();
+    const io::checked_json scen = doc["scenario"];
+    m.info.scenario_name = scen["name"].text();
+    m.info.scenario_text = scen["text"].text();
+    m.scenario_sha256 = scen["sha256"].text();
+    if (sha256_hex(m.info.scenario_text) != m.scenario_sha256) {
+      scen["sha256"].fail("does not match the embedded scenario text");
+    }
+    m.info.seed = doc["seed"].count();
+    const io::checked_json trials = doc["trials"];
+    for (std::size_t i = 0; i < trials.size(); ++i) m.info.trials.push_back(trials[i].count());
+    const io::checked_json form = doc["form"];
+    const auto parsed_form = parse_file_form(form.text());
+    if (!parsed_form) form.fail(fmt::format("unknown form '{}' (hex, bin, npy)", form.text()));
+    m.form = *parsed_form;
+    const io::checked_json layout = doc["complex_layout"];
+    const auto parsed_layout = parse_complex_layout(layout.text());
+    if (!parsed_layout) layout.fail(fmt::format("unknown complex_layout '{}' (split, interleaved)", layout.text()));
+    m.layout = *parsed_layout;
 
-  const auto& files = r.get(j, "files", "top level");
-  if (!files.is_array()) r.fail("top level", "field 'files' must be an array");
-  for (std::size_t i = 0; i < files.size(); ++i) {
-    const auto& e = files[i];
-    file_entry f;
-    std::string where = fmt::format("files[{}]", i);
-    f.file = r.str(e, "file", where);
-    where += " (" + f.file + ")";
-    if (!is_safe_file_name(f.file)) r.fail(where, "file name must be a plain name inside the set directory");
-    f.node = r.str(e, "node", where);
-    f.direction = r.str(e, "direction", where);
-    f.port = r.str(e, "port", where);
-    f.part = r.str(e, "part", where);
-    if (f.part != "real" && f.part != "re" && f.part != "im" && f.part != "re_im") {
-      r.fail(where, fmt::format("part '{}' is not real, re, im or re_im", f.part));
-    }
-    const std::string q = r.str(e, "format", where);
-    f.spec.fmt.word_bits = r.integer(e, "word_bits", where);
-    f.spec.fmt.frac_bits = r.integer(e, "frac_bits", where);
-    f.spec.fmt.is_signed = r.boolean(e, "signed", where);
-    try {
-      fp::validate(f.spec.fmt);
-      if (fp::parse_format(q) != f.spec.fmt) {
-        r.fail(where, fmt::format("format '{}' disagrees with word_bits {}, frac_bits {}, signed {}", q,
-                                  f.spec.fmt.word_bits, f.spec.fmt.frac_bits, f.spec.fmt.is_signed));
+    const io::checked_json files = doc["files"];
+    for (std::size_t i = 0; i < files.size(); ++i) {
+      const io::checked_json e = files[i];
+      file_entry f;
+      f.file = e["file"].text();
+      if (!is_safe_file_name(f.file)) e["file"].fail("must be a plain file name inside the set directory");
+      f.node = e["node"].text();
+      f.direction = e["direction"].text();
+      f.port = e["port"].text();
+      f.part = e["part"].text();
+      if (f.part != "real" && f.part != "re" && f.part != "im" && f.part != "re_im") {
+        e["part"].fail(fmt::format("part '{}' is not real, re, im or re_im", f.part));
       }
-    } catch (const fp::format_error& ex) {
-      r.fail(where, ex.what());
+      f.spec.fmt = e.format_fields();
+      try {
+        fp::validate(f.spec.fmt);
+      } catch (const fp::format_error& ex) {
+        e["format"].fail(ex.what());
+      }
+      const auto rm = fp::parse_rounding_mode(e["rounding"].text());
+      const auto om = fp::parse_overflow_mode(e["overflow"].text());
+      if (!rm) e["rounding"].fail(fmt::format("unknown rounding '{}'", e["rounding"].text()));
+      if (!om) e["overflow"].fail(fmt::format("unknown overflow '{}'", e["overflow"].text()));
+      f.spec.rounding = *rm;
+      f.spec.overflow = *om;
+      const io::checked_json dims = e["dims"];
+      for (std::size_t d = 0; d < dims.size(); ++d) {
+        f.dim_names.push_back(dims[d]["name"].text());
+        f.dim_sizes.push_back(static_cast<std::size_t>(dims[d]["size"].count()));
+      }
+      f.word_count = static_cast<std::size_t>(e["word_count"].count());
+      f.bytes = e["bytes"].count();
+      f.sha256 = e["sha256"].text();
+      if (const auto dtype = e.find("dtype")) f.dtype = dtype->text();
+      m.files.push_back(std::move(f));
     }
-    const std::string rnd = r.str(e, "rounding", where);
-    const std::string ovf = r.str(e, "overflow", where);
-    const auto rm = fp::parse_rounding_mode(rnd);
-    const auto om = fp::parse_overflow_mode(ovf);
-    if (!rm) r.fail(where, fmt::format("unknown rounding '{}'", rnd));
-    if (!om) r.fail(where, fmt::format("unknown overflow '{}'", ovf));
-    f.spec.rounding = *rm;
-    f.spec.overflow = *om;
-    const auto& dims = r.get(e, "dims", where);
-    if (!dims.is_array()) r.fail(where, "field 'dims' must be an array");
-    for (const auto& d : dims) {
-      f.dim_names.push_back(r.str(d, "name", where + " dims"));
-      f.dim_sizes.push_back(static_cast<std::size_t>(r.uint(d, "size", where + " dims")));
-    }
-    f.word_count = static_cast<std::size_t>(r.uint(e, "word_count", where));
-    f.bytes = r.uint(e, "bytes", where);
-    f.sha256 = r.str(e, "sha256", where);
-    if (e.contains("dtype")) f.dtype = r.str(e, "dtype", where);
-    m.files.push_back(std::move(f));
+    return m;
+  } catch (const io::json_error& e) {
+    throw vector_error(e.what());
   }
-  return m;
 }
 
 }  // namespace fxmimo::vectors

@@ -10,6 +10,7 @@
 #include <system_error>
 #include <tuple>
 
+#include "fxmimo/io/checked_json.hpp"
 #include "fxmimo/vectors/errors.hpp"
 #include "fxmimo/vectors/hex_file.hpp"
 #include "fxmimo/vectors/npy_file.hpp"
@@ -225,9 +226,9 @@ vector_set read_vector_set(const fs::path& dir) {
   }
   nlohmann::json j;
   try {
-    j = nlohmann::json::parse(read_file_bytes(manifest_path));
-  } catch (const nlohmann::json::exception& e) {
-    throw vector_error(fmt::format("{}: not valid JSON: {}", manifest_path.string(), e.what()));
+    j = io::read_json_file(manifest_path);
+  } catch (const io::json_error& e) {
+    throw vector_error(e.what());
   }
   set.man = manifest_from_json(j, manifest_path.string());
 

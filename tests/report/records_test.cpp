@@ -1,0 +1,124 @@
+// The typed results records against files written by an earlier fxmimo (tests/fixtures/, commit
+// 1e106d8): reading a file and writing its record gives back the same JSON, number for number
+// (the newest key names and "schema" aside), and today's writer reproduces the earlier
+// program's run file from the same scenario and trials.
+#include "fxmimo/report/records.hpp"
+
+#include <gtest/gtest.h>
+
+#include <fstream>
+#include <sstream>
+
+#include "fxmimo/analysis/runner.hpp"
+#include "fxmimo/datapath/config.hpp"
+#include "fxmimo/golden/checked_table.hpp"
+
+namespace {
+
+namespace fs = std::filesystem;
+namespace r = fxmimo::report;
+using nlohmann::json;
+
+const fs::path fixtures = fs::path(FXMIMO_SOURCE_DIR) / "tests" / "fixtures";
+
+json load(const fs::path& p) { return fxmimo::io::read_json_file(p); }
+
+/// The record written back: what the file holds, with "schema" (the fixtures predate it).
+json written_back(const json& file) {
+  const r::results_record rec = r::record_from_json(fxmimo::io::checked_json(file, "fixture"));
+  return r::to_json(rec);
+}
+
+TEST(records, a_run_file_of_the_earlier_program_reads_and_writes_back_unchanged) {
+  json expected = load(fixtures / "run.json");
+  expected["schema"] = r::results_schema;
+  EXPECT_EQ(written_back(load(fixtures / "run.json")), expected);
+}
+
+TEST(records, a_sweep_file_of_the_earlier_program_reads_and_writes_back_unchanged) {
+  json expected = load(fixtures / "sweep.json");
+  expected["schema"] = r::results_schema;
+  EXPECT_EQ(written_back(load(fixtures / "sweep.json")), expected);
+}
+
+TEST(records, a_tune_file_of_the_earlier_program_keeps_every_figure_under_the_newest_names) {
+  const json old = load(fixtures / "tune.json");
+  json expected = old;
+  expected["schema"] = r::results_schema;
+  // The transmit-power figure's names before it was called the RMS error (same values).
+  expected["limits"]["max_rms_tx_power_error_db"] = old["limits"]["max_tx_power_error_db"];
+  expected["limits"].erase("max_tx_power_error_db");
+  for (const char* part : {"search", "verification"}) {
+    expected[part]["rms_tx_power_error_db"] = old[part]["abs_tx_power_error_db"];
+    expected[part].erase("abs_tx_power_error_db");
+  }
+  expected["margins"]["rms_tx_power_error_db"] = old["margins"]["tx_power_error_db"];
+  expected["margins"].erase("tx_power_error_db");
+  // The margins are recomputed as limit - value: bit for bit what the earlier program wrote.
+  EXPECT_EQ(written_back(old), expected);
+}
+
+TEST(records, todays_writer_reproduces_the_earlier_programs_run_file) {
+  // tests/fixtures/run.json: `fxmimo run -c examples/village-16-mf.toml --json` at 1e106d8 (its
+  // trials and scenario path are in the file).
+  const json old = load(fixtures / "run.json");
+  std::ifstream in(fs::path(FXMIMO_SOURCE_DIR) / "examples" / "village-16-mf.toml");
+  std::stringstream text;
+  text << in.rdbuf();
+  const auto doc = fxmimo::golden::parse_scenario_document(text.str(), "examples/village-16-mf.toml");
+  const auto results =
+      fxmimo::analysis::run_trials(fxmimo::golden::parse_scenario(doc), fxmimo::datapath::parse_datapath_config(doc),
+                                   old["trial_indices"].get<std::vector<std::uint64_t>>(), 2);
+  r::run_record rec = r::make_record(results);
+  rec.scenario.source = old["scenario"]["source"];
+  json expected = old;
+  expected["schema"] = r::results_schema;
+  EXPECT_EQ(r::to_json(rec), expected);
+}
+
+TEST(records, every_missing_key_of_a_kind_is_one_error_naming_it) {
+  // Every key today's writer puts into a sweep point and a tune file is read: drop any one that
+  // is not optional and the reader names it.
+  const json sweep = load(fixtures / "sweep.json");
+  for (const std::string key : {"node", "bits", "format", "word_bits", "frac_bits", "sinr_loss_db", "evm_fixed_pct",
+                                "evm_impl_pct", "sqnr_db", "overflow_rate"}) {
+    json broken = sweep;
+    broken["points"][1].erase(key);
+    try {
+      r::record_from_json(fxmimo::io::checked_json(broken, "s.json"));
+      ADD_FAILURE() << "no error without " << key;
+    } catch (const fxmimo::io::json_error& e) {
+      EXPECT_EQ(std::string(e.what()), "s.json: points[1]." + key + ": missing");
+    }
+  }
+  const json tune = load(fixtures / "tune.json");
+  for (const auto& [part, key] : std::vector<std::pair<std::string, std::string>>{{"limits", "max_evm_pct"},
+                                                                                  {"verification", "meets_limits"},
+                                                                                  {"verification", "sinr_loss_db"},
+                                                                                  {"nodes.adc", "cost"}}) {
+    json broken = tune;
+    json* obj = &broken[part.substr(0, part.find('.'))];
+    if (part.find('.') != std::string::npos) obj = &(*obj)[part.substr(part.find('.') + 1)];
+    obj->erase(key);
+    try {
+      r::record_from_json(fxmimo::io::checked_json(broken, "t.json"));
+      ADD_FAILURE() << "no error without " << part << "." << key;
+    } catch (const fxmimo::io::json_error& e) {
+      EXPECT_EQ(std::string(e.what()), "t.json: " + part + "." + key + ": missing");
+    }
+  }
+}
+
+TEST(records, a_node_of_a_users_own_stage_is_kept_after_the_known_ones) {
+  json sweep = load(fixtures / "sweep.json");
+  json custom = sweep["points"][0];
+  custom["node"] = "tx_cal";
+  sweep["points"].insert(sweep["points"].begin(), custom);
+  const auto rec = std::get<r::sweep_record>(r::record_from_json(fxmimo::io::checked_json(sweep, "s.json")));
+  ASSERT_EQ(rec.points.size(), sweep["points"].size());
+  EXPECT_EQ(rec.points[0].node, "tx_cal") << "points keep their order";
+  EXPECT_LT(r::node_rank("adc"), r::node_rank("dac"));
+  EXPECT_LT(r::node_rank("dac"), r::node_rank("tx_cal"));
+}
+
+}  // namespace
