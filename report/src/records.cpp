@@ -23,9 +23,14 @@ json metric_json(const metric& m) { return m ? json(*m) : json(nullptr); }
 
 // --- pieces several kinds share
 
-json scenario_json(const scenario_ref& s, bool with_source) {
-  json out = {{"name", s.name}};
-  if (with_source) out["source"] = s.source;
+/// What every results file starts with: its kind, the schema and the scenario (with its source
+/// file only in run files).
+json file_head(report_kind kind, const scenario_ref& s, bool with_source) {
+  json out;
+  out["kind"] = std::string(to_string(kind));
+  out["schema"] = results_schema;
+  out["scenario"] = {{"name", s.name}};
+  if (with_source) out["scenario"]["source"] = s.source;
   return out;
 }
 
@@ -149,10 +154,7 @@ run_record make_record(const analysis::run_results& r) {
 }
 
 json to_json(const run_record& r) {
-  json out;
-  out["kind"] = "run";
-  out["schema"] = results_schema;
-  out["scenario"] = scenario_json(r.scenario, true);
+  json out = file_head(report_kind::run, r.scenario, true);
   out["trials"] = r.trials;
   out["trial_indices"] = r.trial_indices;
   out["nodes"] = json::object();
@@ -263,10 +265,7 @@ range_record make_record(const analysis::range_results& r) {
 }
 
 json to_json(const range_record& r) {
-  json out;
-  out["kind"] = "range";
-  out["schema"] = results_schema;
-  out["scenario"] = scenario_json(r.scenario, false);
+  json out = file_head(report_kind::range, r.scenario, false);
   out["trials"] = r.trials;
   out["overflow_prob"] = r.overflow_prob;
   out["nodes"] = json::object();
@@ -340,10 +339,7 @@ sweep_record make_record(const analysis::sweep_results& r) {
 }
 
 json to_json(const sweep_record& r) {
-  json out;
-  out["kind"] = "sweep";
-  out["schema"] = results_schema;
-  out["scenario"] = scenario_json(r.scenario, false);
+  json out = file_head(report_kind::sweep, r.scenario, false);
   out["trials"] = r.trials;
   out["vary"] = r.vary;
   out["points"] = json::array();
@@ -440,16 +436,12 @@ tune_record make_record(const golden::scenario& scen, const analysis::tune_resul
   out.verification_trials = r.verify_trials.size();
   out.verification_trial_indices = r.verify_trials;
   out.meets_limits = r.met;
-  out.met = r.met;
   out.note = r.note;
   return out;
 }
 
 json to_json(const tune_record& r) {
-  json out;
-  out["kind"] = "tune";
-  out["schema"] = results_schema;
-  out["scenario"] = scenario_json(r.scenario, false);
+  json out = file_head(report_kind::tune, r.scenario, false);
   out["cost_model"] = r.cost_model;
   out["cost"] = r.cost;
   out["limits"] = {{"max_sinr_loss_db", r.max_sinr_loss_db},
@@ -483,9 +475,19 @@ json to_json(const tune_record& r) {
     out["margins"]["rms_tx_power_error_db"] =
         metric_json(margin(*r.max_rms_tx_power_error_db, *r.verification.rms_tx_power_error_db));
   }
-  out["met"] = r.met;
+  out["met"] = r.meets_limits;
   out["note"] = r.note;
   return out;
+}
+
+std::optional<bool> tune_record::search_meets_limits() const {
+  if (!search) return std::nullopt;
+  const auto within = [](const metric& value, const std::optional<double>& limit) {
+    return !limit || (value && *value <= *limit);
+  };
+  return within(search->sinr_loss_db, max_sinr_loss_db) && within(search->evm_impl_pct, max_evm_pct) &&
+         within(search->max_overflow_rate, max_overflow_rate) &&
+         (!search->rms_tx_power_error_db || within(*search->rms_tx_power_error_db, max_rms_tx_power_error_db));
 }
 
 tune_record tune_from_json(const checked_json& doc) {
@@ -527,7 +529,6 @@ tune_record tune_from_json(const checked_json& doc) {
   if (const auto v = ver.find("trials")) r.verification_trials = v->count();
   if (const auto v = ver.find("trial_indices")) r.verification_trial_indices = counts_from(*v);
   r.meets_limits = ver["meets_limits"].boolean();
-  r.met = doc["met"].boolean();
   if (const auto v = doc.find("note")) r.note = v->text();
   return r;
 }

@@ -122,3 +122,23 @@ TEST(records, a_node_of_a_users_own_stage_is_kept_after_the_known_ones) {
 }
 
 }  // namespace
+
+namespace {
+
+TEST(records, the_search_verdict_comes_from_the_search_figures_not_from_met) {
+  // The earlier program's tune file: widths that met every limit on the search trials (power
+  // error 0.0596 dB against 0.1 dB) but not on the fresh ones ("met": false).
+  json tune = fxmimo::io::read_json_file(fixtures / "tune.json");
+  ASSERT_FALSE(tune["met"].get<bool>());
+  auto rec = r::tune_from_json(fxmimo::io::checked_json(tune, "t.json"));
+  EXPECT_FALSE(rec.meets_limits);
+  EXPECT_EQ(rec.search_meets_limits(), std::optional<bool>(true));
+  tune["search"]["sinr_loss_db"] = 0.2;  // above the 0.1 dB limit
+  rec = r::tune_from_json(fxmimo::io::checked_json(tune, "t.json"));
+  EXPECT_EQ(rec.search_meets_limits(), std::optional<bool>(false));
+  tune.erase("search");
+  rec = r::tune_from_json(fxmimo::io::checked_json(tune, "t.json"));
+  EXPECT_FALSE(rec.search_meets_limits().has_value());
+}
+
+}  // namespace

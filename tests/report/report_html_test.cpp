@@ -20,6 +20,7 @@
 #include <nlohmann/json.hpp>
 #include <sstream>
 #include <string>
+#include <tuple>
 #include <vector>
 
 namespace {
@@ -439,6 +440,81 @@ INSTANTIATE_TEST_SUITE_P(fixtures, tune_section,
                          ::testing::Values(tune_case{"pass", "report_tune_pass.json", "PASS", "FAIL"},
                                            tune_case{"fail", "report_tune_fail.json", "FAIL", "PASS"}),
                          [](const auto& param_info) { return std::string(param_info.param.name); });
+
+/// The page for a file outside tests/report/fixtures.
+json page_of_file(const fs::path& file, const fs::path& dir) {
+  const fs::path html = dir / "report.html";
+  std::ofstream(html, std::ios::binary) << fxmimo::report::render_report_html(
+      {fxmimo::report::read_results_file(file)});
+  return parse_page(html);
+}
+
+/// Two figures agree to the 4 significant digits the page prints.
+void expect_shown(const json& cell, double value, const std::string& what) {
+  const double shown = std::stod(cell.get<std::string>());
+  EXPECT_NEAR(shown, value, 5e-4 * std::abs(value) + 1e-300) << what << ": page shows " << cell;
+}
+
+TEST_F(report_page, every_figure_a_tune_file_holds_is_on_the_page) {
+  // tests/fixtures/tune.json: written by an earlier fxmimo tune (commit 1e106d8).
+  const fs::path file = fs::path(FXMIMO_SOURCE_DIR) / "tests/fixtures/tune.json";
+  const json tune = json::parse(read_text(file));
+  const json page = page_of_file(file, scratch_dir("tune_all_fields"));
+  const json limits = table_starting(page, "limit");
+  ASSERT_EQ(limits.size(), 5u) << "four limits";
+  const std::vector<std::tuple<std::string, std::string, std::string>> rows{
+      {"max_sinr_loss_db", "sinr_loss_db", "SINR loss"},
+      {"max_evm_pct", "evm_impl_pct", "EVM"},
+      {"max_overflow_rate", "max_overflow_rate", "overflow"},
+      {"max_tx_power_error_db", "abs_tx_power_error_db", "power"}};
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    const auto& [limit, figure, label] = rows[i];
+    const json& row = limits[i + 1];
+    EXPECT_NE(row[0].get<std::string>().find(label), std::string::npos) << row;
+    expect_shown(row[1], tune["limits"][limit], label + " limit");
+    expect_shown(row[2], tune["verification"][figure], label + " re-verified");
+    expect_shown(row[5], tune["search"][figure], label + " on the search trials");
+  }
+  bool found_modes = false;
+  for (const json& t : page["tables"]) {
+    if (t[0] != json::array({"node", "rounding", "overflow"})) continue;
+    found_modes = true;
+    ASSERT_EQ(t.size(), 1 + tune["nodes"].size());
+    for (std::size_t i = 1; i < t.size(); ++i) {
+      const json& n = tune["nodes"][t[i][0].get<std::string>()];
+      EXPECT_EQ(t[i][1], n["rounding"]) << t[i];
+      EXPECT_EQ(t[i][2], n["overflow"]) << t[i];
+    }
+  }
+  EXPECT_TRUE(found_modes) << "a table of the nodes' rounding and overflow";
+  const json verdicts = page["verdicts"];
+  ASSERT_FALSE(verdicts.empty());
+  EXPECT_NE(verdicts[0].get<std::string>().find(std::to_string(tune["verification"]["trials"].get<int>()) + " fresh"),
+            std::string::npos);
+}
+
+TEST_F(report_page, every_counter_a_run_file_holds_is_on_the_page) {
+  // tests/fixtures/run.json: written by an earlier fxmimo run (commit 1e106d8).
+  const fs::path file = fs::path(FXMIMO_SOURCE_DIR) / "tests/fixtures/run.json";
+  const json run = json::parse(read_text(file));
+  const json page = page_of_file(file, scratch_dir("run_all_fields"));
+  const json nodes = table_starting(page, "node");
+  ASSERT_EQ(nodes.size(), 1 + run["nodes"].size());
+  const json& header = nodes[0];
+  const auto column = [&](const std::string& name) {
+    const auto it = std::find(header.begin(), header.end(), name);
+    EXPECT_NE(it, header.end()) << name;
+    return static_cast<std::size_t>(it - header.begin());
+  };
+  for (std::size_t i = 1; i < nodes.size(); ++i) {
+    const json& n = run["nodes"][nodes[i][0].get<std::string>()];
+    EXPECT_EQ(nodes[i][column("values")], std::to_string(n["values"].get<std::uint64_t>()));
+    EXPECT_EQ(nodes[i][column("requantised")], std::to_string(n["requantized"].get<std::uint64_t>()));
+    EXPECT_EQ(nodes[i][column("inexact")], std::to_string(n["inexact"].get<std::uint64_t>()));
+    EXPECT_EQ(nodes[i][column("overflows")], std::to_string(n["overflows"].get<std::uint64_t>()));
+    expect_shown(nodes[i][column("max |golden|")], n["max_abs_golden"], "max |golden|");
+  }
+}
 
 TEST_F(report_page, a_run_file_without_kind_is_drawn_as_a_run) {
   const json run = load_fixture("report_run_nokind.json");

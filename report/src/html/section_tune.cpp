@@ -46,7 +46,7 @@ void render_section(page& pg, const tune_record& r) {
       r.meets_limits ? "pass" : "fail", trials_text(r.verification_trials), r.meets_limits ? "PASS" : "FAIL",
       r.meets_limits ? "the widths meet every limit." : "the widths do NOT meet every limit; see the margins below.");
   if (!r.note.empty()) pg.out += fmt::format("<p class=\"note\">{}</p>\n", esc(r.note));
-  if (!r.met) {
+  if (const auto searched = r.search_meets_limits(); searched && !*searched) {
     pg.out += "<p class=\"verdict fail\"><b>FAIL</b> — the search itself found no widths that meet every limit.</p>\n";
   }
   std::vector<std::string> facts;

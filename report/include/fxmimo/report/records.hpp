@@ -152,11 +152,15 @@ struct tune_record {
   tune_figures_record verification;  ///< on fresh trials
   std::optional<std::uint64_t> verification_trials;
   std::optional<std::vector<std::uint64_t>> verification_trial_indices;
-  bool meets_limits = false;  ///< the re-verification met every limit
-  bool met = true;            ///< the search itself found widths that meet every limit
+  /// The re-verification met every limit (the file says so twice: verification.meets_limits and
+  /// the top-level "met"; the second is written from this and ignored when read).
+  bool meets_limits = false;
   std::string note;
   // The margins (limit - value on the fresh trials) are not stored: the file's "margins" are
   // written from these fields and ignored when read.
+
+  /// Whether the figures on the search trials meet every limit; nullopt without them.
+  std::optional<bool> search_meets_limits() const;
 };
 
 // --- any of them ------------------------------------------------------------------------------
