@@ -5,16 +5,27 @@
 #include <gtest/gtest.h>
 #include <sys/wait.h>
 
+#include <cstddef>
+#include <cstdint>
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
 #include <optional>
+#include <ostream>
+#include <random>
 #include <sstream>
 #include <string>
 #include <utility>
 #include <vector>
 
+#include "fxmimo/fixedpoint/accumulator.hpp"
+#include "fxmimo/fixedpoint/complex.hpp"
+#include "fxmimo/fixedpoint/conversions.hpp"
+#include "fxmimo/fixedpoint/counters.hpp"
+#include "fxmimo/fixedpoint/format.hpp"
 #include "fxmimo/fixedpoint/modes.hpp"
+#include "fxmimo/fixedpoint/requantize.hpp"
+#include "fxmimo/vectors/node_words.hpp"
 
 namespace fxmimo::vectors::testing {
 
@@ -138,6 +149,201 @@ inline void run_testbench(simulator sim, const std::vector<std::pair<std::string
   ASSERT_EQ(ran.exit_code, 0) << ran.output;
   EXPECT_EQ(ran.output.find("WARNING"), std::string::npos) << ran.output;
   EXPECT_EQ(ran.output.find("tb:"), std::string::npos) << ran.output;
+}
+
+// The sequential precoding MAC (examples/rtl/precode_mac.v and its VHDL-2008 twin under
+// examples/rtl/vhdl/): one configuration, its random stimulus and the words the fixedpoint core
+// (the model under test) computes for it.
+
+/// Sizes, formats and modes of the block, and the seed of its stimulus.
+struct mac_case {
+  const char* name;
+  std::size_t num_ant, num_user, num_sym;
+  fixedpoint::format weights, symbols, acc, dac;
+  fixedpoint::rounding_mode acc_rnd;
+  fixedpoint::overflow_mode acc_ovf;
+  fixedpoint::rounding_mode dac_rnd;
+  fixedpoint::overflow_mode dac_ovf;
+  bool acc_must_overflow;  ///< the case exists to drive the accumulator past its range
+  std::uint64_t seed;
+};
+
+inline std::ostream& operator<<(std::ostream& os, const mac_case& c) {
+  return os << c.name << " (seed " << c.seed << ")";
+}
+
+/// Stimulus and the model's expected words.
+struct mac_flow_data {
+  node_words weights, symbols, tx_acc, dac;
+  fixedpoint::counters acc_counters, dac_counters;
+};
+
+/// A complex record with no words yet.
+inline node_words mac_record(const char* node, const char* direction, const char* port, fixedpoint::target spec,
+                             std::vector<std::string> names, std::vector<std::size_t> sizes) {
+  node_words r;
+  r.node = node;
+  r.direction = direction;
+  r.port = port;
+  r.spec = spec;
+  r.dim_names = std::move(names);
+  r.dim_sizes = std::move(sizes);
+  r.is_complex = true;
+  return r;
+}
+
+/// Random full-range words: values uniform over 1.05 times the format's range, brought in by the
+/// core (half_even, saturate), so the extreme words, the most negative one included, occur.
+inline std::vector<std::int64_t> mac_draw_words(std::size_t n, const fixedpoint::format& fmt, std::mt19937_64& rng) {
+  const fixedpoint::requantizer<std::int64_t> q(
+      {fmt, fixedpoint::rounding_mode::half_even, fixedpoint::overflow_mode::saturate});
+  std::uniform_real_distribution<double> dist(1.05 * fmt.min_value(), 1.05 * fmt.max_value());
+  fixedpoint::counters counts;
+  std::vector<std::int64_t> words(n);
+  for (std::int64_t& w : words) w = fixedpoint::from_double(dist(rng), q, counts);
+  return words;
+}
+
+/// Weights [antenna, user] and symbols [user, symbol] drawn from the case's seed.
+inline mac_flow_data mac_stimulus(const mac_case& c) {
+  std::mt19937_64 rng(c.seed);
+  mac_flow_data d;
+  const fixedpoint::target in_spec_w{c.weights, fixedpoint::rounding_mode::half_even,
+                                     fixedpoint::overflow_mode::saturate};
+  const fixedpoint::target in_spec_s{c.symbols, fixedpoint::rounding_mode::half_even,
+                                     fixedpoint::overflow_mode::saturate};
+  d.weights = mac_record("tx_acc", "in", "weights", in_spec_w, {"antenna", "user"}, {c.num_ant, c.num_user});
+  d.symbols = mac_record("tx_acc", "in", "symbols", in_spec_s, {"user", "symbol"}, {c.num_user, c.num_sym});
+  d.weights.re = mac_draw_words(c.num_ant * c.num_user, c.weights, rng);
+  d.weights.im = mac_draw_words(c.num_ant * c.num_user, c.weights, rng);
+  d.symbols.re = mac_draw_words(c.num_user * c.num_sym, c.symbols, rng);
+  d.symbols.im = mac_draw_words(c.num_user * c.num_sym, c.symbols, rng);
+  return d;
+}
+
+/// The model under test: the fixedpoint core's complex accumulator (sequential order) and
+/// requantize, with the given rounding modes (the case's, or floor for the truncated RTL).
+inline void mac_model(const mac_case& c, mac_flow_data& d, fixedpoint::rounding_mode acc_rnd,
+                      fixedpoint::rounding_mode dac_rnd) {
+  const fixedpoint::target acc_spec{c.acc, acc_rnd, c.acc_ovf};
+  const fixedpoint::target dac_spec{c.dac, dac_rnd, c.dac_ovf};
+  d.tx_acc = mac_record("tx_acc", "out", "", acc_spec, {"antenna", "symbol"}, {c.num_ant, c.num_sym});
+  d.dac = mac_record("dac", "out", "", dac_spec, {"antenna", "symbol"}, {c.num_ant, c.num_sym});
+  d.acc_counters = {};
+  d.dac_counters = {};
+  const fixedpoint::requantizer<std::int64_t> q_acc(acc_spec);
+  const fixedpoint::requantizer<std::int64_t> q_dac(dac_spec);
+  const int product_frac = c.weights.frac_bits + c.symbols.frac_bits;
+  for (std::size_t i_ant = 0; i_ant < c.num_ant; ++i_ant) {
+    for (std::size_t i_sym = 0; i_sym < c.num_sym; ++i_sym) {
+      fixedpoint::complex_accumulator<std::int64_t> acc(q_acc);
+      for (std::size_t i_user = 0; i_user < c.num_user; ++i_user) {
+        const std::size_t iw = i_ant * c.num_user + i_user;
+        const std::size_t is = i_user * c.num_sym + i_sym;
+        const fixedpoint::cword<std::int64_t> w{d.weights.re[iw], d.weights.im[iw]};
+        const fixedpoint::cword<std::int64_t> s{d.symbols.re[is], d.symbols.im[is]};
+        acc.add(fixedpoint::cmul<std::int64_t>(w, s), product_frac, d.acc_counters);
+      }
+      const fixedpoint::cword<std::int64_t> x = acc.result(d.acc_counters);
+      d.tx_acc.re.push_back(x.re);
+      d.tx_acc.im.push_back(x.im);
+      const fixedpoint::cword<std::int64_t> y = fixedpoint::requantize(x, c.acc.frac_bits, q_dac, d.dac_counters);
+      d.dac.re.push_back(y.re);
+      d.dac.im.push_back(y.im);
+    }
+  }
+}
+
+/// First (flat index, part) where two complex records differ, or nullopt.
+inline std::optional<std::pair<std::size_t, std::string>> first_word_difference(const node_words& a,
+                                                                                const node_words& b) {
+  for (std::size_t i = 0; i < a.re.size(); ++i) {
+    if (a.re[i] != b.re[i]) return std::pair{i, std::string("re")};
+    if (a.im[i] != b.im[i]) return std::pair{i, std::string("im")};
+  }
+  return std::nullopt;
+}
+
+/// The line `fxmimo check` prints for the first failing word of an [antenna, symbol] record.
+inline std::string first_mismatch_line(const node_words& r, const std::pair<std::size_t, std::string>& first) {
+  const auto coords = r.coordinates(first.first);
+  return fmt::format("first mismatch: flat index {} (antenna={}, symbol={}), part {}", first.first, coords[0],
+                     coords[1], first.second);
+}
+
+/// The block's parameters (Verilog) or generics (VHDL), same names in both.
+inline std::vector<std::pair<std::string, long long>> mac_parameters(const mac_case& c) {
+  auto ll = [](auto v) { return static_cast<long long>(v); };
+  return {{"M", ll(c.num_ant)},
+          {"K", ll(c.num_user)},
+          {"N", ll(c.num_sym)},
+          {"WW", c.weights.word_bits},
+          {"WF", c.weights.frac_bits},
+          {"SW", c.symbols.word_bits},
+          {"SF", c.symbols.frac_bits},
+          {"AW", c.acc.word_bits},
+          {"AF", c.acc.frac_bits},
+          {"DW", c.dac.word_bits},
+          {"DF", c.dac.frac_bits},
+          {"ACC_RND", rtl_code(c.acc_rnd)},
+          {"ACC_OVF", rtl_code(c.acc_ovf)},
+          {"DAC_RND", rtl_code(c.dac_rnd)},
+          {"DAC_OVF", rtl_code(c.dac_ovf)}};
+}
+
+#ifdef FXMIMO_EXE
+/// `fxmimo check VEC --node NODE --dump DUMP/NODE_re.hex --dump DUMP/NODE_im.hex`.
+inline command_result fxmimo_check_node(const std::filesystem::path& vec_dir, const char* node,
+                                        const std::filesystem::path& dump_dir, const std::filesystem::path& log) {
+  const std::string cmd =
+      fmt::format("{} check {} --node {} --dump {} --dump {}", quote(FXMIMO_EXE), quote(vec_dir), node,
+                  quote(dump_dir / (std::string(node) + "_re.hex")), quote(dump_dir / (std::string(node) + "_im.hex")));
+  return run_command(cmd, log);
+}
+#endif
+
+/// Analyses the VHDL-2008 sources `sources` (paths relative to examples/rtl/vhdl/) into a fresh
+/// GHDL library in `build`; fails the test unless GHDL says nothing.
+inline void analyse_vhdl(const std::filesystem::path& build, const std::vector<std::string>& sources) {
+  std::filesystem::create_directories(build);
+  const std::filesystem::path vhdl = std::filesystem::path(FXMIMO_SOURCE_DIR) / "examples" / "rtl" / "vhdl";
+  std::string analyse = "ghdl -a --std=08 --workdir=" + quote(build);
+  for (const std::string& src : sources) analyse += " " + quote(vhdl / src);
+  const auto analysed = run_command(analyse, build / "analyse.log");
+  ASSERT_EQ(analysed.exit_code, 0) << analyse << "\n" << analysed.output;
+  EXPECT_EQ(analysed.output, "") << "GHDL analysis must be silent:\n" << analyse;
+}
+
+/// Elaborates and runs the top unit `top` of the GHDL library in `build` (from analyse_vhdl)
+/// with the given generics, from inside `build` (where a GHDL with a compiling back end puts
+/// its executable; the Debian mcode build elaborates in memory).
+inline command_result run_vhdl(const std::filesystem::path& build, const std::string& top,
+                               const std::vector<std::pair<std::string, std::string>>& generics) {
+  std::string run = "cd " + quote(build) + " && ghdl --elab-run --std=08 --workdir=" + quote(build) + " " + top;
+  for (const auto& [name, value] : generics) run += " " + quote(std::filesystem::path("-g" + name + "=" + value));
+  return run_command(run, build / (top + ".log"));
+}
+
+/// The VHDL-2008 twin of run_testbench: analyses examples/rtl/vhdl/ (fxm_requant_pkg.vhd,
+/// precode_mac.vhd, tb_precode_mac.vhd) in `build`, runs tb_precode_mac with `parameters` as
+/// generics on the vector set `vec_dir`, dumps into `dump_dir`. FORCE_TRUNCATE => true builds
+/// the block with floor rounding. Fails the test on any GHDL output: analysis and a good run
+/// print nothing; the testbench reports its own errors as "tb: ..." assertion failures, GHDL's
+/// IEEE libraries as "(assertion warning)" lines.
+inline void run_ghdl_testbench(const std::vector<std::pair<std::string, long long>>& parameters, bool force_truncate,
+                               const std::filesystem::path& build, const std::filesystem::path& vec_dir,
+                               const std::filesystem::path& dump_dir) {
+  std::filesystem::remove_all(build);
+  std::filesystem::create_directories(dump_dir);
+  ASSERT_NO_FATAL_FAILURE(analyse_vhdl(build, {"fxm_requant_pkg.vhd", "precode_mac.vhd", "tb_precode_mac.vhd"}));
+  std::vector<std::pair<std::string, std::string>> generics;
+  for (const auto& [name, value] : parameters) generics.emplace_back(name, std::to_string(value));
+  generics.emplace_back("FORCE_TRUNCATE", force_truncate ? "true" : "false");
+  generics.emplace_back("VEC_DIR", std::filesystem::absolute(vec_dir).string());
+  generics.emplace_back("OUT_DIR", std::filesystem::absolute(dump_dir).string());
+  const auto ran = run_vhdl(build, "tb_precode_mac", generics);
+  ASSERT_EQ(ran.exit_code, 0) << ran.output;
+  EXPECT_EQ(ran.output, "") << "the VHDL testbench must run silently";
 }
 
 }  // namespace fxmimo::vectors::testing
