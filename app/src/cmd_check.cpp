@@ -5,8 +5,10 @@
 #include <nlohmann/json.hpp>
 
 #include "commands.hpp"
+#include "fxmimo/io/junit.hpp"
 #include "fxmimo/vectors/compare.hpp"
 #include "fxmimo/vectors/vector_set.hpp"
+#include "output_files.hpp"
 
 namespace fxmimo::cli {
 
@@ -20,6 +22,7 @@ struct check_options {
   std::uint64_t tolerance_lsb = 0;
   std::size_t max_report = 10;
   bool json = false;
+  std::string junit_path;
 };
 
 int run_check(const check_options& opt) {
@@ -33,6 +36,10 @@ int run_check(const check_options& opt) {
     fmt::print("{}\n", vectors::to_json(report).dump(2));
   } else {
     fmt::print("{}", vectors::format_report(report));
+  }
+  if (!opt.junit_path.empty()) {
+    write_file_atomically(opt.junit_path,
+                          io::to_junit_xml({vectors::to_junit(report, set.man.info.scenario_name)}, "fxmimo check"));
   }
   return report.passed() ? exit_ok : exit_check_failed;
 }
@@ -54,6 +61,7 @@ void add_check_command(CLI::App& app) {
       ->capture_default_str();
   cmd->add_option("--max-report", opt->max_report, "Failing words listed in full")->capture_default_str();
   cmd->add_flag("--json", opt->json, "Print the report as JSON");
+  cmd->add_option("--junit", opt->junit_path, "Also write the verdict as JUnit XML (one test case: the node)");
   cmd->footer(
       "Exit code: 0 every word matches (or lies within --tolerance-lsb), 1 mismatch, 2 unreadable\n"
       "set or dump (x/z digits, wrong digit counts, too few or too many lines: the message names\n"
@@ -61,7 +69,8 @@ void add_check_command(CLI::App& app) {
       "Examples:\n"
       "  fxmimo check vec/ --node dac --dump sim/dac_re.hex --dump sim/dac_im.hex\n"
       "  fxmimo check vec/ --node tx_acc --dump sim/tx_acc_re.hex --dump sim/tx_acc_im.hex --max-report 50\n"
-      "  fxmimo check vec/ --node norm --dump sim/norm.hex --tolerance-lsb 1 --json");
+      "  fxmimo check vec/ --node norm --dump sim/norm.hex --tolerance-lsb 1 --json\n"
+      "  fxmimo check vec/ --node dac --dump sim/dac_re.hex --dump sim/dac_im.hex --junit check.xml");
   cmd->callback([opt] { run_guarded("check", [opt] { return run_check(*opt); }); });
 }
 

@@ -5,8 +5,10 @@
 #include <nlohmann/json.hpp>
 
 #include "commands.hpp"
+#include "fxmimo/io/junit.hpp"
 #include "fxmimo/vectors/set_diff.hpp"
 #include "fxmimo/vectors/vector_set.hpp"
+#include "output_files.hpp"
 
 namespace fxmimo::cli {
 
@@ -17,6 +19,7 @@ struct diff_options {
   std::string dir_b;
   std::vector<std::string> allowed;
   bool json = false;
+  std::string junit_path;
 };
 
 int run_diff(const diff_options& opt) {
@@ -27,6 +30,9 @@ int run_diff(const diff_options& opt) {
     fmt::print("{}\n", vectors::to_json(report).dump(2));
   } else {
     fmt::print("A: {}\nB: {}\n{}", opt.dir_a, opt.dir_b, vectors::format_diff(report));
+  }
+  if (!opt.junit_path.empty()) {
+    write_file_atomically(opt.junit_path, io::to_junit_xml({vectors::to_junit(report)}, "fxmimo diff"));
   }
   return report.unallowed_changes() == 0 ? exit_ok : exit_check_failed;
 }
@@ -41,6 +47,7 @@ void add_diff_command(CLI::App& app) {
   cmd->add_option("dir_b", opt->dir_b, "New vector set (B)")->required();
   cmd->add_option("--allow", opt->allowed, "Nodes whose change is intended (reported, not failed)");
   cmd->add_flag("--json", opt->json, "Print the report as JSON");
+  cmd->add_option("--junit", opt->junit_path, "Also write the result as JUnit XML (one test case per record)");
   cmd->footer(
       "Per record: identical / changed / added / removed, changed words, max |B - A| in LSBs of A,\n"
       "SQNR of B against A in dB.\n"
@@ -48,7 +55,8 @@ void add_diff_command(CLI::App& app) {
       "Examples:\n"
       "  fxmimo diff vec_main/ vec_branch/\n"
       "  fxmimo diff vec_main/ vec_branch/ --allow tx_acc --allow dac\n"
-      "  fxmimo diff vec_main/ vec_branch/ --json > diff.json");
+      "  fxmimo diff vec_main/ vec_branch/ --json > diff.json\n"
+      "  fxmimo diff vec_main/ vec_branch/ --junit diff.xml");
   cmd->callback([opt] { run_guarded("diff", [opt] { return run_diff(*opt); }); });
 }
 

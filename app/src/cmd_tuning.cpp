@@ -7,6 +7,7 @@
 #include "fxmimo/analysis/range.hpp"
 #include "fxmimo/analysis/sweep.hpp"
 #include "fxmimo/analysis/tune.hpp"
+#include "fxmimo/io/junit.hpp"
 #include "fxmimo/report/records.hpp"
 #include "fxmimo/report/report.hpp"
 #include "output_files.hpp"
@@ -141,6 +142,7 @@ struct tune_options {
   double margin = 0.1;
   std::string out_path;
   std::string json_path;
+  std::string junit_path;
 };
 
 int run_tune(const tune_options& opt) {
@@ -186,8 +188,11 @@ int run_tune(const tune_options& opt) {
                                                       analysis::to_string(model),
                                                       r.met ? "verified on fresh trials" : "NOT verified: " + r.note)));
   fmt::print("wrote {}\n", opt.out_path);
-  if (!opt.json_path.empty())
-    write_file_atomically(opt.json_path, report::to_json(report::make_record(in.scen, r)).dump(2) + "\n");
+  const report::tune_record record = report::make_record(in.scen, r);
+  if (!opt.json_path.empty()) write_file_atomically(opt.json_path, report::to_json(record).dump(2) + "\n");
+  if (!opt.junit_path.empty()) {
+    write_file_atomically(opt.junit_path, io::to_junit_xml({report::to_junit(record)}, "fxmimo tune"));
+  }
   return r.met ? exit_ok : exit_check_failed;
 }
 
@@ -268,13 +273,16 @@ void add_tune_command(CLI::App& app) {
       ->check(CLI::Range(0.0, 0.9));
   cmd->add_option("-o,--out", opt->out_path, "Write the tuned scenario here")->required();
   cmd->add_option("--json", opt->json_path, "Write the result as JSON (input of fxmimo report)");
+  cmd->add_option("--junit", opt->junit_path,
+                  "Write the re-verification as JUnit XML (one test case per limit, failing when exceeded)");
   cmd->footer(
       "Integer bits come from range profiling; fraction bits from a per-node minimum and greedy add/remove passes.\n"
       "Exit code 1 when the choice does not meet the limits on the fresh verification trials.\n"
       "Examples:\n"
       "  fxmimo tune -c examples/rooftop-64.toml --max-sinr-loss 0.05 --max-evm 0.5 -o tuned.toml\n"
       "  fxmimo tune -c examples/tower-128-neumann.toml --modulation scenario --evm-budget 0.2 --cost area -o t.toml "
-      "--json t.json");
+      "--json t.json\n"
+      "  fxmimo tune -c examples/rooftop-64.toml --max-evm 0.5 -o tuned.toml --junit tune.xml");
   cmd->callback([opt] { run_guarded("tune", [opt] { return run_tune(*opt); }); });
 }
 

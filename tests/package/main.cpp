@@ -6,6 +6,7 @@
 //   io:         reads the scenario name back through the checked JSON reader
 //   report:     writes the run as a results record (JSON) and reads it back
 //   vectors:    SHA-256 of "abc" (FIPS 180-2 appendix B.1: ba7816bf...)
+//   dpi:        the C ABI requantises 0x15 of Q3.4 (1.3125) into Q3.1, half_even: 3 (1.5)
 //   app:        the fxmimo program's --version
 #include <cstdio>
 #include <fxmimo/analysis/runner.hpp>
@@ -18,6 +19,7 @@
 #include <fxmimo/report/records.hpp>
 #include <fxmimo/report/report.hpp>
 #include <fxmimo/vectors/sha256.hpp>
+#include <fxmimo_dpi.h>
 #include <string>
 
 int main(int argc, char** argv) {
@@ -54,5 +56,8 @@ snr_db = 10.0
   const fxmimo::io::checked_json doc(run_json, "run.json");
   std::printf("%s %s\n", doc["kind"].text().c_str(), fxmimo::report::run_from_json(doc).scenario.name.c_str());
   std::printf("%s\n", fxmimo::vectors::sha256_hex("abc").substr(0, 8).c_str());
+  std::int64_t word = 0;
+  const int overflowed = fxm_requantize("Q3.4", 0x15, "Q3.1", "half_even", "saturate", &word);
+  std::printf("%d %lld\n", overflowed, static_cast<long long>(word));
   return 0;
 }

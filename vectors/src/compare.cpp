@@ -304,4 +304,33 @@ nlohmann::json to_json(const compare_report& report) {
   return j;
 }
 
+io::junit_suite to_junit(const compare_report& report, const std::string& scenario_name) {
+  io::junit_suite suite;
+  suite.name = "fxmimo check " + report.label;
+  suite.properties = {{"scenario", scenario_name},
+                      {"tolerance_lsb", std::to_string(report.tolerance_lsb)},
+                      {"words_compared", std::to_string(report.words_compared)}};
+  for (const std::string& f : report.dump_files) suite.properties.push_back({"dump", f});
+  io::junit_case c;
+  c.name = report.label;
+  c.classname = "fxmimo.check." + scenario_name;
+  const std::string text = format_report(report);
+  if (report.passed()) {
+    c.details = text;
+  } else {
+    c.failed = true;
+    c.failure_type = "mismatch";
+    // The verdict line and the first mismatch: what a CI page shows in one line.
+    const std::size_t verdict_end = text.find('\n');
+    std::string message = text.substr(0, verdict_end);
+    if (const std::size_t first = text.find("first mismatch:"); first != std::string::npos) {
+      message += "; " + text.substr(first, text.find('\n', first) - first);
+    }
+    c.failure_message = message;
+    c.details = text;
+  }
+  suite.cases.push_back(std::move(c));
+  return suite;
+}
+
 }  // namespace fxmimo::vectors

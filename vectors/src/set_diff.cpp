@@ -189,4 +189,36 @@ nlohmann::json to_json(const set_diff_report& report) {
   return j;
 }
 
+io::junit_suite to_junit(const set_diff_report& report) {
+  io::junit_suite suite;
+  suite.name = "fxmimo diff";
+  suite.properties = {{"scenario_a", report.scenario_a}, {"scenario_b", report.scenario_b}};
+  for (const std::string& note : report.notes) suite.properties.push_back({"note", note});
+  const std::string table = format_diff(report);
+  for (const record_diff& r : report.records) {
+    io::junit_case c;
+    c.name = r.label;
+    c.classname = "fxmimo.diff." + r.node;
+    // The record's row of the table (the line that starts with its label).
+    std::string row;
+    for (std::size_t pos = 0; pos < table.size();) {
+      const std::size_t end = std::min(table.find('\n', pos), table.size());
+      if (table.compare(pos, r.label.size() + 1, r.label + " ") == 0) row = table.substr(pos, end - pos);
+      pos = end + 1;
+    }
+    c.details = row;
+    if (r.status != diff_status::identical && !r.allowed) {
+      c.failed = true;
+      c.failure_type = std::string(to_string(r.status));
+      std::string what;
+      for (const std::string& w : r.what) what += (what.empty() ? "" : "; ") + w;
+      c.failure_message = what.empty() ? fmt::format("{} {}: {} of {} words changed", r.label, to_string(r.status),
+                                                     r.changed_words, r.words)
+                                       : fmt::format("{} {}: {}", r.label, to_string(r.status), what);
+    }
+    suite.cases.push_back(std::move(c));
+  }
+  return suite;
+}
+
 }  // namespace fxmimo::vectors

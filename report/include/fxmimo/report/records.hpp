@@ -23,6 +23,7 @@
 #include "fxmimo/fixedpoint/format.hpp"
 #include "fxmimo/fixedpoint/modes.hpp"
 #include "fxmimo/io/checked_json.hpp"
+#include "fxmimo/io/junit.hpp"
 
 namespace fxmimo::report {
 
@@ -208,6 +209,10 @@ sweep_record sweep_from_json(const io::checked_json& doc);
 tune_record tune_from_json(const io::checked_json& doc);
 /// Any kind, by kind_of(doc).
 results_record record_from_json(const io::checked_json& doc);
+
+/// JUnit XML suite of a tune: one test case per limit, failing when the value on the fresh trials
+/// exceeds it (message: value, limit and margin); the chosen formats and the cost as properties.
+io::junit_suite to_junit(const tune_record& r);
 
 /// Reads and checks one results file (io::json_error "PATH: ..." on any fault).
 named_record read_results_file(const std::filesystem::path& path);

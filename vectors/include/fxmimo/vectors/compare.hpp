@@ -12,6 +12,7 @@
 #include <vector>
 
 #include "fxmimo/fixedpoint/integer.hpp"
+#include "fxmimo/io/junit.hpp"
 #include "fxmimo/vectors/node_words.hpp"
 #include "fxmimo/vectors/vector_set.hpp"
 
@@ -69,6 +70,9 @@ compare_report compare_dump(const vector_set& set, std::string_view node,
 /// coordinates by name, expected and got in hex and value, difference in LSB), histograms.
 std::string format_report(const compare_report& report);
 nlohmann::json to_json(const compare_report& report);
+/// JUnit XML suite of a check: one test case, the node's record (e.g. "dac/out"), failing with
+/// the verdict and first mismatch as message and the whole report as text.
+io::junit_suite to_junit(const compare_report& report, const std::string& scenario_name);
 
 /// Decimal text of a 128-bit integer.
 std::string to_decimal(fp::int128 value);

@@ -8,6 +8,7 @@
 #include <string>
 #include <vector>
 
+#include "fxmimo/io/junit.hpp"
 #include "fxmimo/vectors/vector_set.hpp"
 
 namespace fxmimo::vectors {
@@ -47,5 +48,8 @@ set_diff_report diff_vector_sets(const vector_set& a, const vector_set& b,
 
 std::string format_diff(const set_diff_report& report);
 nlohmann::json to_json(const set_diff_report& report);
+/// JUnit XML suite of a diff: one test case per record, failing when it changed and is not on
+/// the allow list (message: what changed; text: its row of the diff table).
+io::junit_suite to_junit(const set_diff_report& report);
 
 }  // namespace fxmimo::vectors

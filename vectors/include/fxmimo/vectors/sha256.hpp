@@ -1,13 +1,15 @@
 #pragma once
-/// SHA-256 (FIPS 180-4 §6.2) of byte strings and files, for the digests a vector-set manifest
-/// records. Written from the standard; checked against its published examples.
+/// SHA-256 (FIPS 180-4) of byte strings and files, for the digests a vector-set manifest records.
+/// Computed by OpenSSL's EVP interface (Debian libssl); checked against the standard's examples
+/// and two independent implementations.
 
 #include <array>
-#include <cstddef>
 #include <cstdint>
 #include <filesystem>
 #include <string>
 #include <string_view>
+
+struct evp_md_ctx_st;  // OpenSSL's EVP_MD_CTX, kept out of this header
 
 namespace fxmimo::vectors {
 
@@ -15,17 +17,16 @@ namespace fxmimo::vectors {
 class sha256 {
  public:
   sha256();
+  ~sha256();
+  sha256(const sha256&) = delete;
+  sha256& operator=(const sha256&) = delete;
+
   void update(std::string_view bytes);
   /// The 32-byte digest; the object must not be updated afterwards.
   std::array<std::uint8_t, 32> finish();
 
  private:
-  void compress(const std::uint8_t* block);
-
-  std::array<std::uint32_t, 8> state_{};
-  std::array<std::uint8_t, 64> block_{};
-  std::size_t block_used_ = 0;
-  std::uint64_t total_bytes_ = 0;
+  evp_md_ctx_st* ctx_;
 };
 
 /// 64 lower-case hex digits of SHA-256(bytes).
