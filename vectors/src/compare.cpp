@@ -313,7 +313,7 @@ io::junit_suite to_junit(const compare_report& report, const std::string& scenar
   for (const std::string& f : report.dump_files) suite.properties.push_back({"dump", f});
   io::junit_case c;
   c.name = report.label;
-  c.classname = "fxmimo.check." + scenario_name;
+  c.classname = "fxmimo.check." + std::filesystem::path(scenario_name).stem().string();  // no ".toml" in it
   const std::string text = format_report(report);
   if (report.passed()) {
     c.details = text;
