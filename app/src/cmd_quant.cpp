@@ -1,6 +1,7 @@
 // fxmimo quant: decimal values to words and words back to values, in one format.
 #include <fmt/core.h>
 
+#include <cmath>
 #include <iostream>
 #include <nlohmann/json.hpp>
 #include <optional>
@@ -23,6 +24,23 @@ struct quant_options {
   bool json = false;
   std::vector<std::string> values;
 };
+
+/// num / den (den > 0) as the nearest double, however many digits both have: each is cut to its
+/// top 62 bits first (a decimal input of hundreds of digits has a denominator past any double).
+double ratio_as_double(const fp::big_int& num, const fp::big_int& den) {
+  if (num == 0) return 0.0;
+  const auto top = [](const fp::big_int& v, long& exponent) {
+    const fp::big_int mag = v < 0 ? fp::big_int(-v) : v;
+    const long msb = static_cast<long>(boost::multiprecision::msb(mag));
+    exponent = msb - 62;
+    const fp::big_int cut = exponent > 0 ? fp::big_int(mag >> static_cast<unsigned>(exponent))
+                                         : fp::big_int(mag << static_cast<unsigned>(-exponent));
+    return cut.convert_to<double>();
+  };
+  long e_num = 0, e_den = 0;
+  const double n = top(num, e_num), d = top(den, e_den);
+  return std::ldexp((num < 0 ? -n : n) / d, static_cast<int>(e_num - e_den));
+}
 
 struct quant_row {
   std::string input;
@@ -67,7 +85,7 @@ quant_row convert_one(const std::string& text, const fp::target& tgt) {
   fp::big_int scaled_num = f >= 0 ? fp::big_int(num << static_cast<unsigned>(f)) : num;
   fp::big_int scaled_den = f >= 0 ? den : fp::big_int(den << static_cast<unsigned>(-f));
   const fp::big_int diff = row.word * scaled_den - scaled_num;
-  row.error_lsb = diff.convert_to<double>() / scaled_den.convert_to<double>();
+  row.error_lsb = ratio_as_double(diff, scaled_den);
   return row;
 }
 

@@ -124,7 +124,7 @@ void add_run_command(CLI::App& app) {
   CLI::App* cmd = app.add_subcommand("run", "Run a scenario's golden model and bit-true datapath side by side");
   cmd->add_option("-c,--scenario", opt->scenario_path, "Scenario file (TOML)")->required();
   cmd->add_option("--trials", opt->num_trials, "Number of trials (default: the scenario's)")
-      ->check(CLI::PositiveNumber);
+      ->check(CLI::Range(1, 100000000));
   cmd->add_option("--threads", opt->num_threads, "Worker threads (default: all cores)");
   cmd->add_option("--json", opt->json_path, "Also write the results as JSON to this file");
   cmd->footer(

@@ -202,7 +202,7 @@ void add_range_command(CLI::App& app) {
   auto opt = std::make_shared<range_options>();
   CLI::App* cmd = app.add_subcommand("range", "Profile every node's golden values and propose integer bits");
   cmd->add_option("-c,--scenario", opt->scenario_path, "Scenario file (TOML)")->required();
-  cmd->add_option("--trials", opt->num_trials, "Golden trials (default: the scenario's)")->check(CLI::PositiveNumber);
+  cmd->add_option("--trials", opt->num_trials, "Golden trials (default: the scenario's)")->check(CLI::Range(1, 100000000));
   cmd->add_option("--threads", opt->num_threads, "Worker threads (default: all cores)");
   cmd->add_option("--overflow-prob", opt->overflow_prob, "Target probability that a value overflows")
       ->capture_default_str()
@@ -229,7 +229,7 @@ void add_sweep_command(CLI::App& app) {
   cmd->add_option("--vary", opt->vary, "frac (fraction bits), word (word bits) or int (integer bits)")
       ->capture_default_str();
   cmd->add_option("--trials", opt->num_trials, "Trials per point (default: the scenario's)")
-      ->check(CLI::PositiveNumber);
+      ->check(CLI::Range(1, 100000000));
   cmd->add_option("--threads", opt->num_threads, "Worker threads (default: all cores)");
   cmd->add_option("--json", opt->json_path, "Write the points as JSON (input of fxmimo report)");
   cmd->add_option("--csv", opt->csv_path, "Write the points as CSV");
@@ -263,7 +263,7 @@ void add_tune_command(CLI::App& app) {
       ->capture_default_str();
   cmd->add_option("--trials", opt->num_trials,
                   "Trials per evaluation (default: the scenario's); the verification uses as many fresh ones")
-      ->check(CLI::PositiveNumber);
+      ->check(CLI::Range(1, 100000000));
   cmd->add_option("--threads", opt->num_threads, "Worker threads (default: all cores)");
   cmd->add_option("--overflow-prob", opt->overflow_prob, "Overflow probability for the integer bits")
       ->capture_default_str();

@@ -1,10 +1,10 @@
 #include "scenario_input.hpp"
 
-#include <fstream>
-#include <sstream>
+#include <filesystem>
 
 #include "commands.hpp"
 #include "fxmimo/golden/checked_table.hpp"
+#include "fxmimo/io/checked_json.hpp"
 
 namespace fxmimo::cli {
 
@@ -19,11 +19,15 @@ scenario_input parse_scenario_input(std::string text, const std::string& source_
 }
 
 scenario_input load_scenario_input(const std::string& path) {
-  std::ifstream file(path, std::ios::binary);
-  if (!file) throw usage_error(path + ": cannot open the scenario file");
-  std::ostringstream buffer;
-  buffer << file.rdbuf();
-  return parse_scenario_input(buffer.str(), path);
+  std::error_code ec;
+  if (std::filesystem::is_directory(path, ec)) throw usage_error(path + ": is a directory, not a scenario file");
+  std::string text;
+  try {
+    text = io::read_file(path);
+  } catch (const io::json_error&) {
+    throw usage_error(path + ": cannot open the scenario file");
+  }
+  return parse_scenario_input(std::move(text), path);
 }
 
 }  // namespace fxmimo::cli

@@ -337,7 +337,84 @@ void read_frontend(const checked_table& root, scenario& scen) {
 
 }  // namespace
 
+namespace {
+
+/// Where TOML allows a byte: outside strings and comments only printable ASCII, tab, CR and LF
+/// (TOML 1.0: bare keys, values and whitespace are ASCII; other text lives in strings and
+/// comments). Checked before toml++ sees the text, so that no input reaches the library's
+/// Unicode-whitespace table with a byte it was not written for (a two-byte file holding U+03B6
+/// reached an unreachable branch of toml++ 3.3 there). Throws scenario_error naming the line.
+void check_toml_bytes(std::string_view text, const std::string& source_name) {
+  enum class where { plain, comment, basic, literal, multi_basic, multi_literal };
+  where at = where::plain;
+  int line = 1;
+  const std::size_t bom = text.substr(0, 3) == "\xEF\xBB\xBF" ? 3 : 0;  // a UTF-8 byte-order mark may lead
+  for (std::size_t i = bom; i < text.size(); ++i) {
+    const auto byte = static_cast<unsigned char>(text[i]);
+    const auto starts = [&](std::string_view token) { return text.substr(i, token.size()) == token; };
+    if (byte == '\n') ++line;
+    switch (at) {
+      case where::plain:
+        if (byte >= 0x80 || (byte < 0x20 && byte != '\t' && byte != '\n' && byte != '\r') || byte == 0x7F) {
+          throw scenario_error(source_name, line, "(syntax)",
+                               fmt::format("byte 0x{:02X} outside a string or comment (TOML allows only ASCII "
+                                           "there; put other text in quotes or after #)",
+                                           byte));
+        }
+        if (byte == '#') {
+          at = where::comment;
+        } else if (starts("\"\"\"")) {
+          at = where::multi_basic;
+          i += 2;
+        } else if (starts("'''")) {
+          at = where::multi_literal;
+          i += 2;
+        } else if (byte == '"') {
+          at = where::basic;
+        } else if (byte == '\'') {
+          at = where::literal;
+        }
+        break;
+      case where::comment:
+        if (byte == '\n') at = where::plain;
+        break;
+      case where::basic:
+        if (byte == '\\') {
+          if (i + 1 < text.size() && text[i + 1] == '\n') ++line;
+          ++i;  // the escaped character
+        } else if (byte == '"' || byte == '\n') {
+          at = where::plain;  // a newline ends a broken string: toml++ reports it
+        }
+        break;
+      case where::literal:
+        if (byte == '\'' || byte == '\n') at = where::plain;
+        break;
+      case where::multi_basic:
+        if (byte == '\\') {
+          if (i + 1 < text.size() && text[i + 1] == '\n') ++line;
+          ++i;
+        } else if (starts("\"\"\"")) {
+          // Up to two more quotes may close it as part of the string ("""a"""""): skip them.
+          i += 2;
+          while (i + 1 < text.size() && text[i + 1] == '"') ++i;
+          at = where::plain;
+        }
+        break;
+      case where::multi_literal:
+        if (starts("'''")) {
+          i += 2;
+          while (i + 1 < text.size() && text[i + 1] == '\'') ++i;
+          at = where::plain;
+        }
+        break;
+    }
+  }
+}
+
+}  // namespace
+
 scenario_document parse_scenario_document(std::string text, std::string source_name) {
+  check_toml_bytes(text, source_name);
   scenario_document doc{std::move(source_name), std::move(text), {}};
   try {
     doc.root = toml::parse(std::string_view(doc.text), std::string_view(doc.source_name));

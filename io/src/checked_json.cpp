@@ -12,7 +12,7 @@ namespace fxmimo::io {
 
 namespace fp = fxmimo::fixedpoint;
 
-nlohmann::json read_json_file(const std::filesystem::path& path) {
+std::string read_file(const std::filesystem::path& path) {
   const std::string name = path.string();
   std::error_code ec;
   if (std::filesystem::is_directory(path, ec)) throw json_error(name + ": is a directory, not a file");
@@ -20,8 +20,15 @@ nlohmann::json read_json_file(const std::filesystem::path& path) {
   if (!in) throw json_error(name + ": cannot open the file");
   std::ostringstream content;
   content << in.rdbuf();
+  if (in.bad()) throw json_error(name + ": read error");
+  return std::move(content).str();
+}
+
+nlohmann::json read_json_file(const std::filesystem::path& path) {
+  const std::string name = path.string();
+  const std::string content = read_file(path);
   try {
-    return nlohmann::json::parse(content.str());
+    return nlohmann::json::parse(content);
   } catch (const nlohmann::json::parse_error& e) {
     // "[json.exception.parse_error.101] parse error at line 1, column 2: ..." without the tag.
     std::string what = e.what();

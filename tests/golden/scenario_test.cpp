@@ -155,8 +155,28 @@ INSTANTIATE_TEST_SUITE_P(
                    "expected an integer"},
         error_case{"missing_array", edit("[array]\nantennas = 8\n", ""), 1, "array", "missing required table"},
         error_case{"missing_data_snr", edit("snr_db = 10", "symbols = 4"), 10, "data.snr_db", "missing required key"},
-        error_case{"syntax", edit("seed = 3", "seed = = 3"), 2, "(syntax)", ""}),
+        error_case{"syntax", edit("seed = 3", "seed = = 3"), 2, "(syntax)", ""},
+        // Non-ASCII outside strings and comments never reaches toml++ (TOML 1.0 allows only ASCII
+        // there). The two-byte file U+03B6 reached an unreachable branch of toml++ 3.3.0's
+        // Unicode-whitespace table (found by fuzzing the scenario parser).
+        error_case{"zeta_alone", "\xCE\xB6", 1, "(syntax)", "byte 0xCE outside a string or comment"},
+        error_case{"non_ascii_key", edit("seed = 3", "seed = 3\nca\xC3\xA9 = 1"), 3, "(syntax)", "byte 0xC3"},
+        error_case{"non_breaking_space",
+                   edit("seed = 3",
+                        "seed =\xC2\xA0"
+                        "3"),
+                   2, "(syntax)", "byte 0xC2"},
+        error_case{"control_byte", edit("seed = 3", "seed = 3\x01"), 2, "(syntax)", "byte 0x01"}),
     [](const ::testing::TestParamInfo<error_case>& param_info) { return param_info.param.name; });
+
+TEST(scenario, non_ascii_text_in_strings_and_comments_is_fine) {
+  // UTF-8 inside basic and multi-line strings and in comments, an escaped quote, a byte-order
+  // mark, and quote runs inside a comment: all TOML 1.0, all accepted.
+  const std::string text = "\xEF\xBB\xBF# caf\xC3\xA9 \xCE\xB6\nname = \"Z\xC3\xBCrich \\\" \xCE\xA9\"\n" +
+                           base_text.substr(base_text.find("seed")) + "# ''' \"\"\" \xCE\xB6\n" +
+                           "[frontend]\n# \xE2\x82\xAC\n";
+  EXPECT_EQ(parse_scenario_text(text, "u.toml").name, "Z\xC3\xBCrich \" \xCE\xA9");
+}
 
 TEST(scenario, missing_file_names_the_path) {
   try {

@@ -114,6 +114,47 @@ INSTANTIATE_TEST_SUITE_P(Forms, VectorSetRoundTrip,
                                   std::string(to_string(param_info.param.layout));
                          });
 
+TEST(VectorSetManifest, AnInterleavedFilesDimsEndWithThePartAxisAndCountEveryWord) {
+  // A testbench that sizes its memory from dims must get every word: word_count = product(dims).
+  const auto dir = scratch_dir("set");
+  write_vector_set(dir, sample_info(), sample_records(), file_form::hex, complex_layout::interleaved);
+  nlohmann::json m = nlohmann::json::parse(slurp(dir / "manifest.json"));
+  EXPECT_EQ(m["schema"], 2);
+  std::size_t interleaved = 0;
+  for (const auto& f : m["files"]) {
+    std::size_t product = 1;
+    for (const auto& d : f["dims"]) product *= d["size"].get<std::size_t>();
+    EXPECT_EQ(f["word_count"].get<std::size_t>(), product) << f["file"];
+    if (f["part"] == "re_im") {
+      ++interleaved;
+      EXPECT_EQ(f["dims"].back(), nlohmann::json({{"name", "part"}, {"size", 2}})) << f["file"];
+    }
+  }
+  EXPECT_GT(interleaved, 0u);
+  const vector_set now = read_vector_set(dir);
+
+  // The same set as schema 1 wrote it (no part axis) reads into the same records.
+  nlohmann::json old = m;
+  old["schema"] = 1;
+  for (auto& f : old["files"]) {
+    if (f["part"] == "re_im") f["dims"].erase(f["dims"].size() - 1);
+  }
+  spit(dir / "manifest.json", old.dump(2));
+  expect_same_records(read_vector_set(dir).records, now.records);
+
+  // A word count that is not the product of the dims is one error naming the key.
+  nlohmann::json bad = m;
+  bad["files"][0]["word_count"] = bad["files"][0]["word_count"].get<std::size_t>() + 1;
+  spit(dir / "manifest.json", bad.dump(2));
+  try {
+    read_vector_set(dir);
+    ADD_FAILURE() << "no error for a word count beside its dims";
+  } catch (const vector_error& e) {
+    EXPECT_NE(std::string(e.what()).find("files[0].word_count: "), std::string::npos) << e.what();
+    EXPECT_NE(std::string(e.what()).find("is not the product of the dims"), std::string::npos) << e.what();
+  }
+}
+
 TEST(VectorSet, ManifestRecordsEveryField) {
   const auto dir = scratch_dir("set");
   const auto records = sample_records();
@@ -121,7 +162,7 @@ TEST(VectorSet, ManifestRecordsEveryField) {
   write_vector_set(dir, info, records);
   const auto j = nlohmann::json::parse(slurp(dir / "manifest.json"));
   EXPECT_EQ(j["kind"], "fxmimo vector set");
-  EXPECT_EQ(j["schema"], 1);
+  EXPECT_EQ(j["schema"], 2);  // 2 since interleaved files list their part axis in dims
   EXPECT_FALSE(j["tool"]["version"].get<std::string>().empty());
   EXPECT_EQ(j["scenario"]["text"], info.scenario_text);
   EXPECT_EQ(j["scenario"]["name"], info.scenario_name);

@@ -6,6 +6,7 @@
 #include <sstream>
 
 #include "fxmimo/fixedpoint/words.hpp"
+#include "fxmimo/io/checked_json.hpp"
 #include "fxmimo/vectors/errors.hpp"
 
 namespace fxmimo::vectors {
@@ -106,12 +107,11 @@ std::vector<std::int64_t> parse_word_lines(std::string_view text, const fp::form
 }
 
 std::string read_file_bytes(const std::filesystem::path& file) {
-  std::ifstream in(file, std::ios::binary);
-  if (!in) throw vector_error("cannot read " + file.string());
-  std::ostringstream buffer;
-  buffer << in.rdbuf();
-  if (in.bad()) throw vector_error("error reading " + file.string());
-  return std::move(buffer).str();
+  try {
+    return io::read_file(file);
+  } catch (const io::json_error& e) {
+    throw vector_error(e.what());
+  }
 }
 
 std::vector<std::int64_t> read_word_file(const std::filesystem::path& file, const fp::format& fmt, word_radix radix,

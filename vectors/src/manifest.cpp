@@ -96,8 +96,9 @@ manifest manifest_from_json(const nlohmann::json& j, std::string_view source) {
     manifest m;
     if (doc["kind"].text() != "fxmimo vector set") doc["kind"].fail("expected \"fxmimo vector set\"");
     const io::checked_json schema = doc["schema"];
-    if (const auto v = schema.integer(-100000, 100000); v != manifest_schema) {
-      schema.fail(fmt::format("schema {} is not supported (this reader knows {})", v, manifest_schema));
+    const long long version = schema.integer(-100000, 100000);
+    if (version != 1 && version != manifest_schema) {
+      schema.fail(fmt::format("schema {} is not supported (this reader knows 1 to {})", version, manifest_schema));
     }
     m.info.tool_version = doc["tool"]["version"].text();
     const io::checked_json scen = doc["scenario"];
@@ -149,7 +150,19 @@ manifest manifest_from_json(const nlohmann::json& j, std::string_view source) {
         f.dim_names.push_back(dims[d]["name"].text());
         f.dim_sizes.push_back(static_cast<std::size_t>(dims[d]["size"].count()));
       }
+      if (version == 1 && f.part == "re_im") {  // version 1 left the part axis out
+        f.dim_names.emplace_back("part");
+        f.dim_sizes.push_back(2);
+      }
+      if (f.part == "re_im" && (f.dim_names.empty() || f.dim_names.back() != "part" || f.dim_sizes.back() != 2)) {
+        e["dims"].fail("an interleaved file's dims end with {\"name\": \"part\", \"size\": 2}");
+      }
       f.word_count = static_cast<std::size_t>(e["word_count"].count());
+      std::size_t product = 1;
+      for (const std::size_t d : f.dim_sizes) product *= d;
+      if (f.word_count != product) {
+        e["word_count"].fail(fmt::format("{} is not the product of the dims ({})", f.word_count, product));
+      }
       f.bytes = e["bytes"].count();
       f.sha256 = e["sha256"].text();
       if (const auto dtype = e.find("dtype")) f.dtype = dtype->text();

@@ -143,6 +143,10 @@ manifest write_vector_set(const fs::path& dir, const manifest_info& info, const 
       e.spec = r.spec;
       e.dim_names = r.dim_names;
       e.dim_sizes = r.dim_sizes;
+      if (part == "re_im") {  // the innermost position is the part: re, im, re, im, ...
+        e.dim_names.emplace_back("part");
+        e.dim_sizes.push_back(2);
+      }
       e.word_count = part == "re_im" ? 2 * r.num_elements() : r.num_elements();
       if (form == file_form::npy) e.dtype = npy_descr(npy_item_bytes(r.spec.fmt));
       std::string bytes = file_bytes(r, part, form);
@@ -216,6 +220,21 @@ std::vector<const file_entry*> vector_set::files_of(const node_words& record) co
   return out;
 }
 
+namespace {
+
+/// A file's dims as its record has them: an interleaved file's last axis (the part) left out.
+std::pair<std::vector<std::string>, std::vector<std::size_t>> record_dims(const file_entry& f) {
+  auto names = f.dim_names;
+  auto sizes = f.dim_sizes;
+  if (f.part == "re_im") {
+    names.pop_back();
+    sizes.pop_back();
+  }
+  return {names, sizes};
+}
+
+}  // namespace
+
 vector_set read_vector_set(const fs::path& dir) {
   vector_set set;
   set.dir = dir;
@@ -253,8 +272,7 @@ vector_set read_vector_set(const fs::path& dir) {
         break;
       case file_form::npy: {
         npy_array a = parse_npy(bytes, path.string());
-        std::vector<std::size_t> shape = f.dim_sizes;
-        if (f.part == "re_im") shape.push_back(2);
+        const std::vector<std::size_t>& shape = f.dim_sizes;
         const std::string want = npy_descr(npy_item_bytes(f.spec.fmt));
         if (a.descr != want)
           throw vector_error(fmt::format("{}: dtype '{}', expected '{}' for {}", path.string(), a.descr, want,
@@ -277,14 +295,14 @@ vector_set read_vector_set(const fs::path& dir) {
       r.direction = f.direction;
       r.port = f.port == f.node ? std::string() : f.port;
       r.spec = f.spec;
-      r.dim_names = f.dim_names;
-      r.dim_sizes = f.dim_sizes;
+      r.dim_names = record_dims(f).first;
+      r.dim_sizes = record_dims(f).second;
       r.is_complex = f.part != "real";
       set.records.push_back(std::move(r));
       it = index.emplace(key, set.records.size() - 1).first;
     }
     node_words& r = set.records[it->second];
-    if (r.spec != f.spec || r.dim_names != f.dim_names || r.dim_sizes != f.dim_sizes) {
+    if (r.spec != f.spec || r.dim_names != record_dims(f).first || r.dim_sizes != record_dims(f).second) {
       throw vector_error(fmt::format("{}: the parts of record {} disagree on format or dims", manifest_path.string(),
                                      record_label(r)));
     }

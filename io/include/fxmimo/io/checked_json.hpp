@@ -22,6 +22,10 @@ struct json_error : std::runtime_error {
   using std::runtime_error::runtime_error;
 };
 
+/// The bytes of a file; throws json_error("PATH: is a directory, not a file" / "PATH: cannot open
+/// the file" / "PATH: read error"). Every file fxmimo reads whole goes through here.
+std::string read_file(const std::filesystem::path& path);
+
 /// Reads and parses a JSON file; throws json_error("PATH: cannot open the file" / "PATH: not
 /// valid JSON: at line L, column C: ...").
 nlohmann::json read_json_file(const std::filesystem::path& path);

@@ -23,7 +23,10 @@ namespace fxmimo::vectors {
 namespace fp = fxmimo::fixedpoint;
 
 inline constexpr std::string_view manifest_file_name = "manifest.json";
-inline constexpr int manifest_schema = 1;
+/// Version of manifest.json. 2: an interleaved file's dims end with the part axis
+/// {"name": "part", "size": 2}, so word_count is the product of its dims. Version 1 files (no
+/// part axis) are read too.
+inline constexpr int manifest_schema = 2;
 
 /// File form of a set: one word per line in hex ($readmemh) or binary ($readmemb), or NEP 1 .npy.
 enum class file_form { hex, bin, npy };
