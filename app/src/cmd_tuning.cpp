@@ -202,7 +202,8 @@ void add_range_command(CLI::App& app) {
   auto opt = std::make_shared<range_options>();
   CLI::App* cmd = app.add_subcommand("range", "Profile every node's golden values and propose integer bits");
   cmd->add_option("-c,--scenario", opt->scenario_path, "Scenario file (TOML)")->required();
-  cmd->add_option("--trials", opt->num_trials, "Golden trials (default: the scenario's)")->check(CLI::Range(1, 100000000));
+  cmd->add_option("--trials", opt->num_trials, "Golden trials (default: the scenario's)")
+      ->check(CLI::Range(1, 100000000));
   cmd->add_option("--threads", opt->num_threads, "Worker threads (default: all cores)");
   cmd->add_option("--overflow-prob", opt->overflow_prob, "Target probability that a value overflows")
       ->capture_default_str()
