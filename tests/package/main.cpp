@@ -8,6 +8,8 @@
 //   vectors:    SHA-256 of "abc" (FIPS 180-2 appendix B.1: ba7816bf...)
 //   dpi:        the C ABI requantises 0x15 of Q3.4 (1.3125) into Q3.1, half_even: 3 (1.5)
 //   app:        the fxmimo program's --version
+#include <fxmimo_dpi.h>
+
 #include <cstdio>
 #include <fxmimo/analysis/runner.hpp>
 #include <fxmimo/app/program.hpp>
@@ -19,7 +21,6 @@
 #include <fxmimo/report/records.hpp>
 #include <fxmimo/report/report.hpp>
 #include <fxmimo/vectors/sha256.hpp>
-#include <fxmimo_dpi.h>
 #include <string>
 
 int main(int argc, char** argv) {
