@@ -29,11 +29,11 @@ FXM_API const char* fxm_last_error(void);
  * as the model does. Returns 1 when the value overflowed (the result is then the overflow
  * mode's word), 0 when it did not, -1 on bad arguments. */
 FXM_API int fxm_requantize(const char* from_format, int64_t word, const char* to_format, const char* rounding,
-                   const char* overflow, int64_t* result);
+                           const char* overflow, int64_t* result);
 
 /* The same for `count` words; returns how many overflowed, or -1. */
 FXM_API int64_t fxm_requantize_array(const char* from_format, const int64_t* words, const char* to_format,
-                             const char* rounding, const char* overflow, int64_t* results, int64_t count);
+                                     const char* rounding, const char* overflow, int64_t* results, int64_t count);
 
 /* Loads a scenario file and runs its golden model and bit-true datapath for one trial; the
  * handle holds every node's words and a mismatch count per node. NULL on error. */

@@ -38,206 +38,14 @@ using testing::run_command;
 using testing::scratch_dir;
 using testing::simulator;
 
-struct rtl_case {
-  const char* name;
-  std::size_t num_ant, num_user, num_sym;
-  fp::format weights, symbols, acc, dac;
-  rounding_mode acc_rnd;
-  overflow_mode acc_ovf;
-  rounding_mode dac_rnd;
-  overflow_mode dac_ovf;
-  bool acc_must_overflow;  ///< the case exists to drive the accumulator past its range
-  std::uint64_t seed;
-};
-
-std::ostream& operator<<(std::ostream& os, const rtl_case& c) { return os << c.name << " (seed " << c.seed << ")"; }
-
-const rtl_case nominal{"nominal",
-                       4,
-                       4,
-                       8,
-                       {true, 16, 14},
-                       {true, 12, 10},
-                       {true, 20, 14},
-                       {true, 12, 9},
-                       rounding_mode::half_even,
-                       overflow_mode::saturate,
-                       rounding_mode::half_up,
-                       overflow_mode::saturate,
-                       false,
-                       8101};
-// tx_acc spans +-8 while one product reaches +-8: the running sum saturates often.
-const rtl_case acc_saturates{"acc_saturates",
-                             4,
-                             6,
-                             8,
-                             {true, 16, 14},
-                             {true, 12, 10},
-                             {true, 12, 8},
-                             {true, 10, 7},
-                             rounding_mode::half_up,
-                             overflow_mode::saturate,
-                             rounding_mode::half_even,
-                             overflow_mode::wrap,
-                             true,
-                             8102};
-// Odd widths, K prime, the accumulator wraps; the DAC has one more fraction bit than tx_acc
-// (bits appended, no rounding) and saturates symmetrically (-2^13 becomes -max).
-const rtl_case odd_widths_wrap{"odd_widths_wrap",
-                               3,
-                               5,
-                               7,
-                               {true, 13, 12},
-                               {true, 7, 5},
-                               {true, 13, 11},
-                               {true, 14, 12},
-                               rounding_mode::half_away,
-                               overflow_mode::wrap,
-                               rounding_mode::toward_zero,
-                               overflow_mode::saturate_symmetric,
-                               true,
-                               8103};
-// The remaining rounding and overflow modes of the RTL.
-const rtl_case other_modes_a{"other_modes_a",
-                             2,
-                             3,
-                             16,
-                             {true, 10, 9},
-                             {true, 10, 8},
-                             {true, 9, 7},
-                             {true, 8, 4},
-                             rounding_mode::half_down,
-                             overflow_mode::saturate_zero,
-                             rounding_mode::ceil,
-                             overflow_mode::saturate,
-                             true,
-                             8104};
-const rtl_case other_modes_b{"other_modes_b",
-                             2,
-                             3,
-                             16,
-                             {true, 10, 9},
-                             {true, 10, 8},
-                             {true, 13, 9},
-                             {true, 9, 5},
-                             rounding_mode::half_toward_zero,
-                             overflow_mode::saturate_symmetric,
-                             rounding_mode::toward_zero,
-                             overflow_mode::saturate_zero,
-                             false,
-                             8105};
-
-/// Stimulus and the model's expected words.
-struct flow_data {
-  node_words weights, symbols, tx_acc, dac;
-  fp::counters acc_counters, dac_counters;
-};
-
-node_words empty_record(const char* node, const char* direction, const char* port, fp::target spec,
-                        std::vector<std::string> names, std::vector<std::size_t> sizes) {
-  node_words r;
-  r.node = node;
-  r.direction = direction;
-  r.port = port;
-  r.spec = spec;
-  r.dim_names = std::move(names);
-  r.dim_sizes = std::move(sizes);
-  r.is_complex = true;
-  return r;
-}
-
-/// Random full-range stimulus: values uniform over 1.05 times the format's range, brought in by
-/// the core (half_even, saturate), so the extreme words, the most negative one included, occur.
-std::vector<std::int64_t> draw_words(std::size_t n, const fp::format& fmt, std::mt19937_64& rng) {
-  const fp::requantizer<std::int64_t> q({fmt, rounding_mode::half_even, overflow_mode::saturate});
-  std::uniform_real_distribution<double> dist(1.05 * fmt.min_value(), 1.05 * fmt.max_value());
-  fp::counters c;
-  std::vector<std::int64_t> words(n);
-  for (std::int64_t& w : words) w = fp::from_double(dist(rng), q, c);
-  return words;
-}
-
-flow_data make_stimulus(const rtl_case& c) {
-  std::mt19937_64 rng(c.seed);
-  flow_data d;
-  const fp::target in_spec_w{c.weights, rounding_mode::half_even, overflow_mode::saturate};
-  const fp::target in_spec_s{c.symbols, rounding_mode::half_even, overflow_mode::saturate};
-  d.weights = empty_record("tx_acc", "in", "weights", in_spec_w, {"antenna", "user"}, {c.num_ant, c.num_user});
-  d.symbols = empty_record("tx_acc", "in", "symbols", in_spec_s, {"user", "symbol"}, {c.num_user, c.num_sym});
-  d.weights.re = draw_words(c.num_ant * c.num_user, c.weights, rng);
-  d.weights.im = draw_words(c.num_ant * c.num_user, c.weights, rng);
-  d.symbols.re = draw_words(c.num_user * c.num_sym, c.symbols, rng);
-  d.symbols.im = draw_words(c.num_user * c.num_sym, c.symbols, rng);
-  return d;
-}
-
-/// The model under test: the fixedpoint core's complex accumulator (in the order `how`) and
-/// requantize.
-void run_model(const rtl_case& c, flow_data& d, rounding_mode acc_rnd, rounding_mode dac_rnd,
-               fp::accumulation how = {}) {
-  const fp::target acc_spec{c.acc, acc_rnd, c.acc_ovf};
-  const fp::target dac_spec{c.dac, dac_rnd, c.dac_ovf};
-  d.tx_acc = empty_record("tx_acc", "out", "", acc_spec, {"antenna", "symbol"}, {c.num_ant, c.num_sym});
-  d.dac = empty_record("dac", "out", "", dac_spec, {"antenna", "symbol"}, {c.num_ant, c.num_sym});
-  d.acc_counters = {};
-  d.dac_counters = {};
-  const fp::requantizer<std::int64_t> q_acc(acc_spec);
-  const fp::requantizer<std::int64_t> q_dac(dac_spec);
-  const int product_frac = c.weights.frac_bits + c.symbols.frac_bits;
-  for (std::size_t i_ant = 0; i_ant < c.num_ant; ++i_ant) {
-    for (std::size_t i_sym = 0; i_sym < c.num_sym; ++i_sym) {
-      fp::complex_accumulator<std::int64_t> acc(q_acc, how);
-      for (std::size_t i_user = 0; i_user < c.num_user; ++i_user) {
-        const std::size_t iw = i_ant * c.num_user + i_user;
-        const std::size_t is = i_user * c.num_sym + i_sym;
-        const fp::cword<std::int64_t> w{d.weights.re[iw], d.weights.im[iw]};
-        const fp::cword<std::int64_t> s{d.symbols.re[is], d.symbols.im[is]};
-        acc.add(fp::cmul<std::int64_t>(w, s), product_frac, d.acc_counters);
-      }
-      const fp::cword<std::int64_t> x = acc.result(d.acc_counters);
-      d.tx_acc.re.push_back(x.re);
-      d.tx_acc.im.push_back(x.im);
-      const fp::cword<std::int64_t> y = fp::requantize(x, c.acc.frac_bits, q_dac, d.dac_counters);
-      d.dac.re.push_back(y.re);
-      d.dac.im.push_back(y.im);
-    }
-  }
-}
-
-/// First (flat index, part) where two complex records differ, or nullopt.
-std::optional<std::pair<std::size_t, std::string>> first_difference(const node_words& a, const node_words& b) {
-  for (std::size_t i = 0; i < a.re.size(); ++i) {
-    if (a.re[i] != b.re[i]) return std::pair{i, std::string("re")};
-    if (a.im[i] != b.im[i]) return std::pair{i, std::string("im")};
-  }
-  return std::nullopt;
-}
-
-/// The line `fxmimo check` prints for the first failing word of `r`.
-std::string first_mismatch_text(const node_words& r, const std::pair<std::size_t, std::string>& first) {
-  const auto coords = r.coordinates(first.first);
-  return fmt::format("first mismatch: flat index {} (antenna={}, symbol={}), part {}", first.first, coords[0],
-                     coords[1], first.second);
-}
-
-std::vector<std::pair<std::string, long long>> parameters(const rtl_case& c) {
-  auto ll = [](auto v) { return static_cast<long long>(v); };
-  return {{"M", ll(c.num_ant)},
-          {"K", ll(c.num_user)},
-          {"N", ll(c.num_sym)},
-          {"WW", c.weights.word_bits},
-          {"WF", c.weights.frac_bits},
-          {"SW", c.symbols.word_bits},
-          {"SF", c.symbols.frac_bits},
-          {"AW", c.acc.word_bits},
-          {"AF", c.acc.frac_bits},
-          {"DW", c.dac.word_bits},
-          {"DF", c.dac.frac_bits},
-          {"ACC_RND", rtl_code(c.acc_rnd)},
-          {"ACC_OVF", rtl_code(c.acc_ovf)},
-          {"DAC_RND", rtl_code(c.dac_rnd)},
-          {"DAC_OVF", rtl_code(c.dac_ovf)}};
-}
+// The configuration, stimulus and model of the example block, shared with the VHDL flow.
+using rtl_case = testing::mac_case;
+using flow_data = testing::mac_flow_data;
+using testing::acc_saturates;
+using testing::nominal;
+using testing::odd_widths_wrap;
+using testing::other_modes_a;
+using testing::other_modes_b;
 
 /// An example block under examples/rtl: its testbench (top module tb, same plusargs, parameters
 /// and dump files for both) and the accumulation order the model must use for it.
@@ -252,7 +60,8 @@ const rtl_block tree_block{"tb_precode_tree.v", "precode_tree.v", {fp::accumulat
 /// Compiles and runs the testbench of `block` with this case's parameters; dumps land in `dump_dir`.
 void simulate(simulator sim, const rtl_block& block, const rtl_case& c, bool force_truncate, const fs::path& work,
               const fs::path& vec_dir, const fs::path& dump_dir) {
-  testing::run_testbench(sim, parameters(c), force_truncate, work, vec_dir, dump_dir, block.testbench, block.design);
+  testing::run_testbench(sim, testing::mac_parameters(c), force_truncate, work, vec_dir, dump_dir, block.testbench,
+                         block.design);
 }
 
 testing::command_result fxmimo_check(const fs::path& vec_dir, const char* node, const fs::path& dump_dir,
@@ -269,8 +78,8 @@ void run_flow(simulator sim, const rtl_case& c, bool with_negative_test, const r
   const fs::path work = scratch_dir();
   std::cout << "[ rtl      ] " << block.design << " case " << c.name << ", seed " << c.seed << ", work dir " << work
             << "\n";
-  flow_data d = make_stimulus(c);
-  run_model(c, d, c.acc_rnd, c.dac_rnd, block.how);
+  flow_data d = testing::mac_stimulus(c);
+  testing::mac_model(c, d, c.acc_rnd, c.dac_rnd, block.how);
   if (c.acc_must_overflow) {
     ASSERT_GT(d.acc_counters.overflowed, 0U) << c << ": the stimulus never drove tx_acc past its range";
   }
@@ -295,8 +104,8 @@ void run_flow(simulator sim, const rtl_case& c, bool with_negative_test, const r
   // where an intermediate sum saturates differently, it fails at the first differing word.
   if (block.how.order != fp::accumulation_order::sequential) {
     flow_data seq = d;
-    run_model(c, seq, c.acc_rnd, c.dac_rnd, {fp::accumulation_order::sequential, 1});
-    const auto first_seq = first_difference(d.tx_acc, seq.tx_acc);
+    testing::mac_model(c, seq, c.acc_rnd, c.dac_rnd, {fp::accumulation_order::sequential, 1});
+    const auto first_seq = testing::first_word_difference(d.tx_acc, seq.tx_acc);
     if (c.num_user <= 3 || c.acc_ovf == overflow_mode::wrap) {
       EXPECT_FALSE(first_seq.has_value()) << c << ": the orders differ where they cannot";
     }
@@ -308,7 +117,7 @@ void run_flow(simulator sim, const rtl_case& c, bool with_negative_test, const r
     const auto r = fxmimo_check(vec_seq, "tx_acc", work / "dump", work / "check_seq.log");
     if (first_seq) {
       EXPECT_EQ(r.exit_code, 1) << r.output;
-      const std::string where = first_mismatch_text(d.tx_acc, *first_seq);
+      const std::string where = testing::first_mismatch_line(d.tx_acc, *first_seq);
       EXPECT_NE(r.output.find(where), std::string::npos) << "expected \"" << where << "\" in:\n" << r.output;
     } else {
       EXPECT_EQ(r.exit_code, 0) << r.output;
@@ -318,14 +127,14 @@ void run_flow(simulator sim, const rtl_case& c, bool with_negative_test, const r
 
   // 2. FORCE_TRUNCATE: the floor model predicts the first failing word.
   flow_data floor_model = d;
-  run_model(c, floor_model, rounding_mode::floor, rounding_mode::floor, block.how);
-  const auto first = first_difference(d.tx_acc, floor_model.tx_acc);
+  testing::mac_model(c, floor_model, rounding_mode::floor, rounding_mode::floor, block.how);
+  const auto first = testing::first_word_difference(d.tx_acc, floor_model.tx_acc);
   ASSERT_TRUE(first.has_value()) << c << ": floor and " << fp::to_string(c.acc_rnd)
                                  << " agree on every word; no negative test";
   simulate(sim, block, c, true, work, vec, work / "dump_trunc");
   const auto bad = fxmimo_check(vec, "tx_acc", work / "dump_trunc", work / "check_trunc.log");
   EXPECT_EQ(bad.exit_code, 1) << bad.output;
-  const std::string where = first_mismatch_text(d.tx_acc, *first);
+  const std::string where = testing::first_mismatch_line(d.tx_acc, *first);
   EXPECT_NE(bad.output.find("tx_acc/out: MISMATCH"), std::string::npos) << bad.output;
   EXPECT_NE(bad.output.find(where), std::string::npos) << "expected \"" << where << "\" in:\n" << bad.output;
 

@@ -36,94 +36,19 @@ namespace {
 namespace fs = std::filesystem;
 using fp::overflow_mode;
 using fp::rounding_mode;
+using testing::acc_saturates;
 using testing::mac_case;
 using testing::mac_flow_data;
+using testing::nominal;
+using testing::odd_widths_wrap;
+using testing::other_modes_a;
+using testing::other_modes_b;
 using testing::quote;
 using testing::rtl_code;
 using testing::run_command;
 using testing::scratch_dir;
 
 constexpr const char* no_ghdl = "GHDL (Debian package ghdl) not installed: VHDL flow not run";
-
-// The configurations of the Verilog flow (rtl_end_to_end_test.cpp), same seeds: the VHDL block
-// sees the same stimulus as the Verilog one, so the two dumps can be compared byte for byte.
-// Between them they use every rounding code but floor (which FORCE_TRUNCATE brings) and every
-// overflow code, in the accumulator and the DAC stage.
-const mac_case nominal{"nominal",
-                       4,
-                       4,
-                       8,
-                       {true, 16, 14},
-                       {true, 12, 10},
-                       {true, 20, 14},
-                       {true, 12, 9},
-                       rounding_mode::half_even,
-                       overflow_mode::saturate,
-                       rounding_mode::half_up,
-                       overflow_mode::saturate,
-                       false,
-                       8101};
-// tx_acc spans +-8 while one product reaches +-8: the running sum saturates often.
-const mac_case acc_saturates{"acc_saturates",
-                             4,
-                             6,
-                             8,
-                             {true, 16, 14},
-                             {true, 12, 10},
-                             {true, 12, 8},
-                             {true, 10, 7},
-                             rounding_mode::half_up,
-                             overflow_mode::saturate,
-                             rounding_mode::half_even,
-                             overflow_mode::wrap,
-                             true,
-                             8102};
-// Widths not a multiple of 4 (13-bit weights and 7-bit symbols: HREAD reads a padded top
-// digit), K prime, the accumulator wraps; the DAC has one more fraction bit than tx_acc (bits
-// appended, no rounding) and saturates symmetrically (-2^13 becomes -max).
-const mac_case odd_widths_wrap{"odd_widths_wrap",
-                               3,
-                               5,
-                               7,
-                               {true, 13, 12},
-                               {true, 7, 5},
-                               {true, 13, 11},
-                               {true, 14, 12},
-                               rounding_mode::half_away,
-                               overflow_mode::wrap,
-                               rounding_mode::toward_zero,
-                               overflow_mode::saturate_symmetric,
-                               true,
-                               8103};
-// The remaining rounding and overflow modes.
-const mac_case other_modes_a{"other_modes_a",
-                             2,
-                             3,
-                             16,
-                             {true, 10, 9},
-                             {true, 10, 8},
-                             {true, 9, 7},
-                             {true, 8, 4},
-                             rounding_mode::half_down,
-                             overflow_mode::saturate_zero,
-                             rounding_mode::ceil,
-                             overflow_mode::saturate,
-                             true,
-                             8104};
-const mac_case other_modes_b{"other_modes_b",
-                             2,
-                             3,
-                             16,
-                             {true, 10, 9},
-                             {true, 10, 8},
-                             {true, 13, 9},
-                             {true, 9, 5},
-                             rounding_mode::half_toward_zero,
-                             overflow_mode::saturate_symmetric,
-                             rounding_mode::toward_zero,
-                             overflow_mode::saturate_zero,
-                             false,
-                             8105};
 
 void run_vhdl_flow(const mac_case& c) {
   const fs::path work = scratch_dir();

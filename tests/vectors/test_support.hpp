@@ -221,10 +221,10 @@ inline mac_flow_data mac_stimulus(const mac_case& c) {
   return d;
 }
 
-/// The model under test: the fixedpoint core's complex accumulator (sequential order) and
+/// The model under test: the fixedpoint core's complex accumulator (in the order `how`) and
 /// requantize, with the given rounding modes (the case's, or floor for the truncated RTL).
 inline void mac_model(const mac_case& c, mac_flow_data& d, fixedpoint::rounding_mode acc_rnd,
-                      fixedpoint::rounding_mode dac_rnd) {
+                      fixedpoint::rounding_mode dac_rnd, fixedpoint::accumulation how = {}) {
   const fixedpoint::target acc_spec{c.acc, acc_rnd, c.acc_ovf};
   const fixedpoint::target dac_spec{c.dac, dac_rnd, c.dac_ovf};
   d.tx_acc = mac_record("tx_acc", "out", "", acc_spec, {"antenna", "symbol"}, {c.num_ant, c.num_sym});
@@ -236,7 +236,7 @@ inline void mac_model(const mac_case& c, mac_flow_data& d, fixedpoint::rounding_
   const int product_frac = c.weights.frac_bits + c.symbols.frac_bits;
   for (std::size_t i_ant = 0; i_ant < c.num_ant; ++i_ant) {
     for (std::size_t i_sym = 0; i_sym < c.num_sym; ++i_sym) {
-      fixedpoint::complex_accumulator<std::int64_t> acc(q_acc);
+      fixedpoint::complex_accumulator<std::int64_t> acc(q_acc, how);
       for (std::size_t i_user = 0; i_user < c.num_user; ++i_user) {
         const std::size_t iw = i_ant * c.num_user + i_user;
         const std::size_t is = i_user * c.num_sym + i_sym;
@@ -270,6 +270,87 @@ inline std::string first_mismatch_line(const node_words& r, const std::pair<std:
   return fmt::format("first mismatch: flat index {} (antenna={}, symbol={}), part {}", first.first, coords[0],
                      coords[1], first.second);
 }
+
+// The configurations of the example block, shared by the Verilog flow (rtl_end_to_end_test.cpp)
+// and the VHDL one (rtl_vhdl_test.cpp): same seeds, same stimulus, so their dumps can be compared
+// byte for byte.
+// Between them they use every rounding code but floor (which FORCE_TRUNCATE brings) and every
+// overflow code, in the accumulator and the DAC stage.
+inline const mac_case nominal{"nominal",
+                              4,
+                              4,
+                              8,
+                              {true, 16, 14},
+                              {true, 12, 10},
+                              {true, 20, 14},
+                              {true, 12, 9},
+                              fixedpoint::rounding_mode::half_even,
+                              fixedpoint::overflow_mode::saturate,
+                              fixedpoint::rounding_mode::half_up,
+                              fixedpoint::overflow_mode::saturate,
+                              false,
+                              8101};
+// tx_acc spans +-8 while one product reaches +-8: the running sum saturates often.
+inline const mac_case acc_saturates{"acc_saturates",
+                                    4,
+                                    6,
+                                    8,
+                                    {true, 16, 14},
+                                    {true, 12, 10},
+                                    {true, 12, 8},
+                                    {true, 10, 7},
+                                    fixedpoint::rounding_mode::half_up,
+                                    fixedpoint::overflow_mode::saturate,
+                                    fixedpoint::rounding_mode::half_even,
+                                    fixedpoint::overflow_mode::wrap,
+                                    true,
+                                    8102};
+// Widths not a multiple of 4 (13-bit weights and 7-bit symbols: HREAD reads a padded top
+// digit), K prime, the accumulator wraps; the DAC has one more fraction bit than tx_acc (bits
+// appended, no rounding) and saturates symmetrically (-2^13 becomes -max).
+inline const mac_case odd_widths_wrap{"odd_widths_wrap",
+                                      3,
+                                      5,
+                                      7,
+                                      {true, 13, 12},
+                                      {true, 7, 5},
+                                      {true, 13, 11},
+                                      {true, 14, 12},
+                                      fixedpoint::rounding_mode::half_away,
+                                      fixedpoint::overflow_mode::wrap,
+                                      fixedpoint::rounding_mode::toward_zero,
+                                      fixedpoint::overflow_mode::saturate_symmetric,
+                                      true,
+                                      8103};
+// The remaining rounding and overflow modes.
+inline const mac_case other_modes_a{"other_modes_a",
+                                    2,
+                                    3,
+                                    16,
+                                    {true, 10, 9},
+                                    {true, 10, 8},
+                                    {true, 9, 7},
+                                    {true, 8, 4},
+                                    fixedpoint::rounding_mode::half_down,
+                                    fixedpoint::overflow_mode::saturate_zero,
+                                    fixedpoint::rounding_mode::ceil,
+                                    fixedpoint::overflow_mode::saturate,
+                                    true,
+                                    8104};
+inline const mac_case other_modes_b{"other_modes_b",
+                                    2,
+                                    3,
+                                    16,
+                                    {true, 10, 9},
+                                    {true, 10, 8},
+                                    {true, 13, 9},
+                                    {true, 9, 5},
+                                    fixedpoint::rounding_mode::half_toward_zero,
+                                    fixedpoint::overflow_mode::saturate_symmetric,
+                                    fixedpoint::rounding_mode::toward_zero,
+                                    fixedpoint::overflow_mode::saturate_zero,
+                                    false,
+                                    8105};
 
 /// The block's parameters (Verilog) or generics (VHDL), same names in both.
 inline std::vector<std::pair<std::string, long long>> mac_parameters(const mac_case& c) {
