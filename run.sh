@@ -5,6 +5,7 @@
 #   ./run.sh test             build, then run the whole test suite (ctest)
 #   ./run.sh bench            build, then run the Google Benchmark programs
 #   ./run.sh asan             build and test under address + undefined-behaviour sanitizers
+#   ./run.sh fuzz [SECONDS]   build the libFuzzer targets (clang), fuzz every parser SECONDS (600)
 # Environment: FXMIMO_WERROR=ON turns warnings into errors (CI sets it).
 set -euo pipefail
 cd "$(dirname "${BASH_SOURCE[0]}")"
@@ -79,8 +80,13 @@ case $command in
   help | -h | --help)
     sed -n '2,9p' "$0" | sed 's/^# \{0,1\}//'
     ;;
+  fuzz)
+    install_packages "${required_packages[@]}" clang
+    configure_and_build fuzz
+    exec tests/fuzz/run_fuzzers.sh "${1:-600}" "${@:2}"
+    ;;
   *)
-    echo "run.sh: unknown command '$command' (expected demo, test, bench or asan)" >&2
+    echo "run.sh: unknown command '$command' (expected demo, test, bench, asan or fuzz)" >&2
     exit 2
     ;;
 esac

@@ -8,6 +8,7 @@
 #include <mutex>
 #include <thread>
 
+#include "fxmimo/analysis/resources.hpp"
 #include "fxmimo/golden/link_metrics.hpp"
 #include "fxmimo/golden/trial.hpp"
 
@@ -97,6 +98,7 @@ void for_each_index_parallel(std::size_t count, unsigned num_threads, const std:
   auto worker = [&] {
     for (std::size_t i = next++; i < count; i = next++) {
       try {
+        throw_if_stop_requested();
         body(i);
       } catch (...) {
         const std::lock_guard lock(mutex);

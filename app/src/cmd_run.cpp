@@ -14,6 +14,7 @@
 #include "fxmimo/report/report_html.hpp"
 #include "output_files.hpp"
 #include "progress.hpp"
+#include "resource_guard.hpp"
 #include "scenario_input.hpp"
 
 namespace fxmimo::cli {
@@ -25,6 +26,7 @@ struct run_options {
   int num_trials = 0;  ///< 0: the scenario's own count
   unsigned num_threads = 0;
   std::string json_path;
+  resource_options resources;
 };
 
 analysis::run_results run_scenario(const scenario_input& in, int num_trials, unsigned num_threads) {
@@ -36,6 +38,8 @@ analysis::run_results run_scenario(const scenario_input& in, int num_trials, uns
 
 int run_run(const run_options& opt) {
   const scenario_input in = load_scenario_input(opt.scenario_path);
+  check_resources(in, {static_cast<std::size_t>(in.trials_or_default(opt.num_trials)), 1, opt.num_threads, 0},
+                  opt.resources);
   const analysis::run_results results = run_scenario(in, opt.num_trials, opt.num_threads);
   fmt::print("{}", report::format_run_table(results));
   if (!opt.json_path.empty())
@@ -53,7 +57,7 @@ int run_demo(const demo_options& opt) {
   const scenario_input in = parse_scenario_input(demo_scenario_text(), "rooftop-64.toml (embedded demo)");
   fs::create_directories(opt.out_dir);
   const fs::path dir(opt.out_dir);
-  write_file_atomically(dir / "scenario.toml", in.text);
+  write_file_atomically(dir / "scenario.toml", in.text());
   fmt::print("fxmimo demo: {} antennas, {} users per cell, {} cells, {}, ZF/LDL precoding\n\n",
              in.scen.array.num_antennas, in.scen.cells.num_users, in.scen.cells.num_cells,
              golden::modulation_name(in.scen.data.mod));
@@ -102,7 +106,7 @@ int run_demo(const demo_options& opt) {
   write_file_atomically(dir / "tune.json", tune_json.dump(2) + "\n");
   write_file_atomically(dir / "tuned.toml",
                         datapath::scenario_with_nodes(
-                            in.text, tuned.config, tuned.nodes,
+                            in.text(), tuned.config, tuned.nodes,
                             fmt::format("Widths chosen by fxmimo tune in the demo: cost {:.0f} bits", tuned.cost)));
 
   // 5. One page with all of it.
@@ -127,6 +131,7 @@ void add_run_command(CLI::App& app) {
       ->check(CLI::Range(1, 100000000));
   cmd->add_option("--threads", opt->num_threads, "Worker threads (default: all cores)");
   cmd->add_option("--json", opt->json_path, "Also write the results as JSON to this file");
+  add_resource_options(cmd, opt->resources);
   cmd->footer(
       "Prints one row per datapath node (format, rounding, overflow, SQNR against the golden model,\n"
       "largest error in LSBs, overflow count), then per-user SINR and EVM golden/fixed, and the\n"

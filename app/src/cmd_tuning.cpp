@@ -12,6 +12,7 @@
 #include "fxmimo/report/report.hpp"
 #include "output_files.hpp"
 #include "progress.hpp"
+#include "resource_guard.hpp"
 #include "scenario_input.hpp"
 
 namespace fxmimo::cli {
@@ -27,10 +28,13 @@ struct range_options {
   double overflow_prob = 1e-6;
   std::string json_path;
   std::string scenario_out;
+  resource_options resources;
 };
 
 int run_range(const range_options& opt) {
   const scenario_input in = load_scenario_input(opt.scenario_path);
+  check_resources(in, {static_cast<std::size_t>(in.trials_or_default(opt.num_trials)), 1, opt.num_threads, 0},
+                  opt.resources);
   progress_line progress("golden trials");
   const analysis::range_results r =
       analysis::profile_ranges(in.scen, in.config, in.trials_or_default(opt.num_trials), opt.num_threads,
@@ -41,7 +45,7 @@ int run_range(const range_options& opt) {
   if (!opt.scenario_out.empty()) {
     const datapath::datapath_config proposed = analysis::apply_proposal(in.config, r);
     write_file_atomically(opt.scenario_out, datapath::scenario_with_nodes(
-                                                in.text, proposed, datapath::active_nodes(in.scen),
+                                                in.text(), proposed, datapath::active_nodes(in.scen),
                                                 fmt::format("Integer bits proposed by fxmimo range for overflow "
                                                             "probability {:g}; fraction bits kept",
                                                             opt.overflow_prob)));
@@ -61,6 +65,7 @@ struct sweep_options {
   unsigned num_threads = 0;
   std::string json_path;
   std::string csv_path;
+  resource_options resources;
 };
 
 std::pair<int, int> parse_bit_range(const std::string& text) {
@@ -109,6 +114,10 @@ int run_sweep_command(const sweep_options& opt) {
     axis = analysis::sweep_axis::int_bits;
   else if (opt.vary != "frac")
     throw usage_error(fmt::format("bad --vary '{}': expected frac, word or int", opt.vary));
+  check_resources(in,
+                  {static_cast<std::size_t>(in.trials_or_default(opt.num_trials)),
+                   nodes.size() * static_cast<std::size_t>(hi - lo + 1), opt.num_threads, 0},
+                  opt.resources);
   progress_line progress("sweep trials");
   analysis::sweep_results r;
   try {
@@ -143,10 +152,16 @@ struct tune_options {
   std::string out_path;
   std::string json_path;
   std::string junit_path;
+  resource_options resources;
 };
 
 int run_tune(const tune_options& opt) {
   const scenario_input in = load_scenario_input(opt.scenario_path);
+  // At least the search's final evaluation, the verification and one evaluation per node.
+  check_resources(in,
+                  {static_cast<std::size_t>(in.trials_or_default(opt.num_trials)),
+                   datapath::active_nodes(in.scen).size() + 2, opt.num_threads, 0},
+                  opt.resources);
   analysis::tune_limits limits;
   limits.max_sinr_loss_db = opt.max_sinr_loss_db;
   limits.max_overflow_rate = opt.max_overflow_rate;
@@ -183,7 +198,7 @@ int run_tune(const tune_options& opt) {
   show_status("");
   fmt::print("{}", report::format_tune_table(r));
   write_file_atomically(opt.out_path, datapath::scenario_with_nodes(
-                                          in.text, r.config, r.nodes,
+                                          in.text(), r.config, r.nodes,
                                           fmt::format("Widths chosen by fxmimo tune: cost {:.0f} ({}), {}", r.cost,
                                                       analysis::to_string(model),
                                                       r.met ? "verified on fresh trials" : "NOT verified: " + r.note)));
@@ -210,6 +225,7 @@ void add_range_command(CLI::App& app) {
       ->check(CLI::Range(1e-15, 0.5));
   cmd->add_option("--json", opt->json_path, "Write the profile (with log2 histograms) as JSON");
   cmd->add_option("--write-scenario", opt->scenario_out, "Write the scenario with the proposed integer bits");
+  add_resource_options(cmd, opt->resources);
   cmd->footer(
       "Prints per node: values seen, max |value|, percentiles 99 / 99.99 / 99.9999 % of |real| and |imag| parts,\n"
       "the proposed integer bits m (signed Qm.n) for the overflow probability, and the worst-case analytic\n"
@@ -234,6 +250,7 @@ void add_sweep_command(CLI::App& app) {
   cmd->add_option("--threads", opt->num_threads, "Worker threads (default: all cores)");
   cmd->add_option("--json", opt->json_path, "Write the points as JSON (input of fxmimo report)");
   cmd->add_option("--csv", opt->csv_path, "Write the points as CSV");
+  add_resource_options(cmd, opt->resources);
   cmd->footer(
       "Each point is exactly `fxmimo run` of the scenario with that one width changed.\n"
       "Examples:\n"
@@ -276,6 +293,7 @@ void add_tune_command(CLI::App& app) {
   cmd->add_option("--json", opt->json_path, "Write the result as JSON (input of fxmimo report)");
   cmd->add_option("--junit", opt->junit_path,
                   "Write the re-verification as JUnit XML (one test case per limit, failing when exceeded)");
+  add_resource_options(cmd, opt->resources);
   cmd->footer(
       "Integer bits come from range profiling; fraction bits from a per-node minimum and greedy add/remove passes.\n"
       "Exit code 1 when the choice does not meet the limits on the fresh verification trials.\n"

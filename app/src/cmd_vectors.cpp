@@ -17,10 +17,12 @@
 #include <vector>
 
 #include "commands.hpp"
+#include "fxmimo/analysis/resources.hpp"
 #include "fxmimo/datapath/datapath.hpp"
 #include "fxmimo/golden/trial.hpp"
 #include "fxmimo/vectors/vector_set.hpp"
 #include "progress.hpp"
+#include "resource_guard.hpp"
 #include "scenario_input.hpp"
 
 namespace fxmimo::cli {
@@ -36,6 +38,7 @@ struct vectors_options {
   std::string nodes;  ///< empty: every active node
   std::string form = "hex";
   std::string layout = "split";
+  resource_options resources;
 };
 
 /// Splits "a,b,,c" at commas, keeping empty items (so that a stray comma is reported).
@@ -159,6 +162,7 @@ int run_vectors(const vectors_options& opt) {
 
   const scenario_input in = load_scenario_input(opt.scenario_path);
   const std::vector<std::uint64_t> trials = parse_trial_list(opt.trials, in.scen.num_trials);
+  check_resources(in, {trials.size(), 1, 1, trials.size()}, opt.resources);
   const datapath::datapath_plan plan = datapath::stages_for(in.scen);
   const std::vector<node_id> active = plan.nodes();
   const std::vector<node_id> chosen = parse_node_list(opt.nodes, active);
@@ -173,6 +177,7 @@ int run_vectors(const vectors_options& opt) {
   {
     progress_line progress("trials");
     for (std::size_t i = 0; i < trials.size(); ++i) {
+      analysis::throw_if_stop_requested();
       const golden::trial_data trial = golden::run_trial(in.scen, trials[i]);
       const datapath::fixed_trial fixed = datapath::run_fixed_datapath(plan, in.scen, in.config, trial);
       for (node_id id : datapath::all_nodes()) {
@@ -198,7 +203,7 @@ int run_vectors(const vectors_options& opt) {
   vectors::manifest_info info;
   info.tool_version = FXMIMO_VERSION;
   info.scenario_name = std::filesystem::path(opt.scenario_path).filename().string();
-  info.scenario_text = in.text;
+  info.scenario_text = in.text();
   info.seed = in.scen.seed;
   info.trials = trials;
   const vectors::manifest man = vectors::write_vector_set(opt.out_dir, info, records, *form, *layout);
@@ -241,6 +246,7 @@ void add_vectors_command(CLI::App& app) {
       ->capture_default_str();
   cmd->add_option("--layout", opt->layout, "Complex words: split (.re/.im files) or interleaved")
       ->capture_default_str();
+  add_resource_options(cmd, opt->resources);
   cmd->footer(
       "Runs the golden model and the bit-true datapath for each chosen trial and writes, per chosen\n"
       "node, the words it must produce (direction \"out\") and the words it consumes from other nodes\n"

@@ -2,8 +2,11 @@
 
 #include <fmt/core.h>
 
+#include <csignal>
 #include <cstdio>
 #include <stdexcept>
+
+#include "fxmimo/analysis/resources.hpp"
 
 namespace fxmimo::cli {
 
@@ -16,6 +19,14 @@ int last_exit_code() { return exit_code; }
 void run_guarded(const std::string& command, const std::function<int()>& body) {
   try {
     exit_code = body();
+    analysis::throw_if_stop_requested();  // a stop during the last writes: say so, exit as stopped
+  } catch (const analysis::stop_requested& e) {
+    std::fflush(stdout);
+    fmt::print(stderr, "fxmimo {}: stopped by {} before the end; no partial result was written\n", command,
+               e.signal == SIGINT    ? "SIGINT"
+               : e.signal == SIGTERM ? "SIGTERM"
+                                     : fmt::format("signal {}", e.signal));
+    exit_code = 128 + e.signal;
   } catch (const std::invalid_argument& e) {  // a logic_error by type, but bad input by use here
     std::fflush(stdout);
     fmt::print(stderr, "fxmimo {}: {}\n", command, e.what());

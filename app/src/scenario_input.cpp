@@ -1,5 +1,7 @@
 #include "scenario_input.hpp"
 
+#include <fmt/core.h>
+
 #include <filesystem>
 
 #include "commands.hpp"
@@ -10,12 +12,22 @@ namespace fxmimo::cli {
 
 scenario_input parse_scenario_input(std::string text, const std::string& source_name) {
   // Parsed once; the golden sections and the [nodes] tables are read from the same document.
-  const golden::scenario_document doc = golden::parse_scenario_document(std::move(text), source_name);
   scenario_input in;
-  in.scen = golden::parse_scenario(doc);
-  in.config = datapath::parse_datapath_config(doc);
-  in.text = doc.text;
+  in.doc = golden::parse_scenario_document(std::move(text), source_name);
+  in.scen = golden::parse_scenario(in.doc);
+  in.config = datapath::parse_datapath_config(in.doc);
   return in;
+}
+
+std::string scenario_input::key_location(std::string_view dotted_key) const {
+  toml::node_view<const toml::node> node = doc.root.at_path(dotted_key);
+  if (!node) {
+    const auto dot = dotted_key.rfind('.');
+    if (dot != std::string_view::npos) node = doc.root.at_path(dotted_key.substr(0, dot));
+  }
+  const int line = node ? golden::line_of(node.node()->source()) : 0;
+  return line > 0 ? fmt::format("{}:{}: {}", doc.source_name, line, dotted_key)
+                  : fmt::format("{}: {}", doc.source_name, dotted_key);
 }
 
 scenario_input load_scenario_input(const std::string& path) {

@@ -122,9 +122,9 @@ std::string scenario_with_nodes(const std::string& scenario_text, const datapath
   // multi-line array is not a header) and which lines are [nodes.NAME] headers.
   toml::table root;
   try {
-    root = toml::parse(std::string_view(scenario_text), std::string_view("scenario"));
-  } catch (const toml::parse_error& e) {
-    throw std::invalid_argument(fmt::format("scenario_with_nodes: the scenario is not TOML: {}", e.description()));
+    root = golden::parse_toml(scenario_text, "scenario");
+  } catch (const golden::scenario_error& e) {
+    throw std::invalid_argument(fmt::format("scenario_with_nodes: the scenario is not TOML: {}", e.what()));
   }
   std::vector<int> header_lines;
   std::vector<std::pair<int, node_id>> node_headers;

@@ -57,6 +57,8 @@ void prepare(const fs::path& dir) {
   write(dir / "nonutf8.toml", "# caf\xFF\n" + good);
   write(dir / "syntax.toml", replaced(good, "seed = 2718", "seed = = 2718"));
   write(dir / "zero_antennas.toml", replaced(good, "antennas = 8", "antennas = 0"));
+  write(dir / "huge.toml",
+        replaced(replaced(good, "antennas = 8", "antennas = 4096"), "symbols = 12", "symbols = 1000000"));
   write(dir / "huge_seed.toml", replaced(good, "seed = 2718", "seed = 99999999999999999999"));
   write(dir / "unknown_key.toml", replaced(good, "seed = 2718", "seed = 2718\ncolour = 1"));
   write(dir / "bad_format.toml", replaced(good, "format = \"Q0.11\"", "format = \"Q0.x\""));
@@ -151,6 +153,17 @@ const bad_input catalogue[] = {
     bad_input{"scenario_format_too_wide", "run -c wide_format.toml", "nodes.dac.format"},
     bad_input{"scenario_wrong_type", "run -c string_trials.toml", "string_trials.toml:6: trials: expected an integer"},
     bad_input{"scenario_table_is_a_value", "run -c negative_snr_table.toml", "negative_snr_table.toml"},
+    // Resource guards: memory and work estimated before the first trial.
+    bad_input{"scenario_needs_more_memory_than_available", "run -c huge.toml",
+              "huge.toml:28: data.symbols: the run needs about"},
+    bad_input{"run_over_max_memory", "run -c good.toml --max-memory 1K",
+              "good.toml:28: data.symbols: the run needs about"},
+    bad_input{"vectors_over_max_memory", "vectors -c good.toml -o out --trials 0-3 --max-memory 16K",
+              "for the words of 4 trials), more than the 16 KiB that --max-memory allows"},
+    bad_input{"max_memory_not_a_size", "range -c good.toml --max-memory lots", "--max-memory 'lots'"},
+    bad_input{"sweep_over_max_work", "sweep -c good.toml --node all --bits 4:20 --max-work 1e5",
+              "good.toml:28: data.symbols: the command asks for about"},
+    bad_input{"tune_over_max_work", "tune -c good.toml --max-evm 1 -o t.toml --max-work 100", "than --max-work 100"},
     // Options.
     bad_input{"run_zero_trials", "run -c good.toml --trials 0", "--trials: Value 0 not in range 1"},
     bad_input{"run_json_unwritable", "run -c good.toml --trials 1 --json nodir/x.json", "nodir/x.json: cannot write"},
@@ -227,6 +240,11 @@ TEST(BadInput, TheCatalogueHasAtLeastFortyDistinctCases) {
   EXPECT_GE(std::size(catalogue), 40u);
   EXPECT_EQ(names.size(), std::size(catalogue)) << "names are distinct";
   EXPECT_EQ(args.size(), std::size(catalogue)) << "command lines are distinct";
+  // README "Robustness" lists every case by name.
+  const std::string readme = read_text(source / "README.md");
+  for (const bad_input& c : catalogue) {
+    EXPECT_NE(readme.find(std::string("`") + c.name + "`"), std::string::npos) << c.name << " missing from README";
+  }
 }
 
 }  // namespace

@@ -7,6 +7,8 @@
 
 #include <string>
 
+#include "fxmimo/golden/checked_table.hpp"
+
 namespace fxmimo::golden {
 namespace {
 
@@ -166,7 +168,13 @@ INSTANTIATE_TEST_SUITE_P(
                         "seed =\xC2\xA0"
                         "3"),
                    2, "(syntax)", "byte 0xC2"},
-        error_case{"control_byte", edit("seed = 3", "seed = 3\x01"), 2, "(syntax)", "byte 0x01"}),
+        error_case{"control_byte", edit("seed = 3", "seed = 3\x01"), 2, "(syntax)", "byte 0x01"},
+        // A quote inside a malformed bare value opens no string for toml++, which scanned on into
+        // the U+00E9 behind it (the same unreachable branch; found by fuzzing).
+        error_case{"non_ascii_after_quote_in_bare_value", edit("seed = 3", "seed = 3\nx = 0\"\xC3\xA9\""), 3,
+                   "(syntax)", ""},
+        error_case{"not_utf8_in_string", edit("seed = 3", "seed = 3\nname = \"\xC3\x28\""), 3, "(syntax)",
+                   "not UTF-8"}),
     [](const ::testing::TestParamInfo<error_case>& param_info) { return param_info.param.name; });
 
 TEST(scenario, non_ascii_text_in_strings_and_comments_is_fine) {
@@ -176,6 +184,17 @@ TEST(scenario, non_ascii_text_in_strings_and_comments_is_fine) {
                            base_text.substr(base_text.find("seed")) + "# ''' \"\"\" \xCE\xB6\n" +
                            "[frontend]\n# \xE2\x82\xAC\n";
   EXPECT_EQ(parse_scenario_text(text, "u.toml").name, "Z\xC3\xBCrich \" \xCE\xA9");
+}
+
+TEST(scenario, non_ascii_text_keeps_its_value_in_every_kind_of_string) {
+  // TOML 1.0: a line-ending backslash in a multi-line basic string trims the newline and the
+  // whitespace after it; literal strings keep backslashes and quotes; the first newline of a
+  // multi-line string is trimmed. toml++ 3.3 crashed on the first form (found by fuzzing).
+  const toml::table t =
+      parse_toml("a = \"\"\"\\\n  \xCE\xB6\"\"\"\nb = 'C:\\x \"\xC3\xA9\"'\nc = '''\n\xCE\xB6\\\n'''''\n", "s.toml");
+  EXPECT_EQ(t["a"].value<std::string>(), "\xCE\xB6");
+  EXPECT_EQ(t["b"].value<std::string>(), "C:\\x \"\xC3\xA9\"");
+  EXPECT_EQ(t["c"].value<std::string>(), "\xCE\xB6\\\n''");
 }
 
 TEST(scenario, missing_file_names_the_path) {

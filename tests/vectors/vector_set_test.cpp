@@ -249,9 +249,40 @@ TEST(VectorSet, FailureMidwayLeavesNothingCompleteLooking) {
   for (const auto& e : fs::directory_iterator(dir)) {
     const std::string name = e.path().filename().string();
     EXPECT_EQ(name.find(".partial"), std::string::npos) << name;
-    EXPECT_TRUE(name == "dac.out.im.hex") << "left behind: " << name;  // only the blocker remains
+    // Only the blocker remains, and the hidden marker that names the files a rewrite may leave.
+    EXPECT_TRUE(name == "dac.out.im.hex" || name == rewrite_marker_name) << "left behind: " << name;
   }
   EXPECT_THROW(read_vector_set(dir), vector_error);
+  // With the blocker gone, the next writer takes the directory for the earlier set it was.
+  fs::remove_all(dir / "dac.out.im.hex");
+  write_vector_set(dir, sample_info(), records);
+  EXPECT_EQ(read_vector_set(dir).records.size(), records.size());
+  EXPECT_FALSE(fs::exists(dir / rewrite_marker_name));
+}
+
+TEST(VectorSet, AWriterKilledHalfWayLeavesADirectoryTheNextOneCleans) {
+  // What SIGKILL leaves in the middle of a first write (tests/cli/kill_test.cpp does it for real):
+  // the marker, some files renamed into place, a temporary, no manifest.
+  const auto dir = scratch_dir("set");
+  const auto records = sample_records();
+  const std::string first = file_name_for(records.front(), "real", file_form::hex);
+  spit(dir / std::string(rewrite_marker_name), nlohmann::json(std::vector<std::string>{first}).dump());
+  spit(dir / first, "half\n");
+  spit(dir / ("." + first + ".partial-12345"), "hal");
+  EXPECT_THROW(read_vector_set(dir), vector_error) << "not a set";
+  write_vector_set(dir, sample_info(), records);
+  EXPECT_EQ(read_vector_set(dir).records.size(), records.size());
+  for (const auto& e : fs::directory_iterator(dir)) {
+    const std::string name = e.path().filename().string();
+    EXPECT_NE(name[0], '.') << "left behind: " << name;
+  }
+}
+
+TEST(VectorSet, RefusesAMarkerThatIsNotAListOfNames) {
+  const auto dir = scratch_dir("set");
+  spit(dir / std::string(rewrite_marker_name), "[\"../outside\"]");
+  EXPECT_THROW(write_vector_set(dir, sample_info(), sample_records()), vector_error);
+  EXPECT_FALSE(fs::exists(dir / "manifest.json"));
 }
 
 TEST(VectorSet, RewriteReplacesAnEarlierSet) {

@@ -3,6 +3,7 @@
 #include <fmt/core.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <fstream>
 #include <map>
 #include <nlohmann/json.hpp>
@@ -56,6 +57,11 @@ std::string file_bytes(const node_words& record, std::string_view part, file_for
     }
   }
   return {};
+}
+
+/// A name the marker may hold: a file directly in the set's directory.
+bool is_plain_file_name(const std::string& name) {
+  return !name.empty() && name != "." && name != ".." && name.find('/') == std::string::npos;
 }
 
 /// Files this process put in place or is writing; removed again unless commit() is called.
@@ -158,28 +164,48 @@ manifest write_vector_set(const fs::path& dir, const manifest_info& info, const 
   }
   const std::string manifest_text = to_json(man).dump(2) + "\n";
 
-  // The directory: absent, empty, or an earlier set.
+  // The directory: absent, empty, an earlier set, or a set whose rewrite was cut short (a kill):
+  // the hidden marker names every file such a rewrite may have put there.
   std::error_code ec;
   fs::create_directories(dir, ec);
   if (ec) throw vector_error(fmt::format("cannot create directory {}: {}", dir.string(), ec.message()));
   const fs::path manifest_path = dir / manifest_file_name;
-  std::vector<std::string> old_files;
+  const fs::path marker_path = dir / rewrite_marker_name;
+  std::set<std::string> old_files;
+  if (fs::exists(marker_path)) {
+    const nlohmann::json marker = nlohmann::json::parse(read_file_bytes(marker_path), nullptr, false);
+    if (!marker.is_array() || !std::all_of(marker.begin(), marker.end(), [](const auto& n) {
+          return n.is_string() && is_plain_file_name(n.template get<std::string>());
+        })) {
+      throw vector_error(
+          fmt::format("{} is not a list of file names; refusing to write in {}", marker_path.string(), dir.string()));
+    }
+    for (const auto& n : marker) old_files.insert(n.get<std::string>());
+  }
   if (fs::exists(manifest_path)) {
     try {
       const manifest old =
           manifest_from_json(nlohmann::json::parse(read_file_bytes(manifest_path)), manifest_path.string());
-      for (const file_entry& f : old.files) old_files.push_back(f.file);
+      for (const file_entry& f : old.files) old_files.insert(f.file);
     } catch (const std::exception& e) {
       throw vector_error(fmt::format("{} holds a manifest this writer cannot read, refusing to overwrite: {}",
                                      dir.string(), e.what()));
     }
-    // From here on the old set is incomplete: a reader never sees old and new files mixed.
-    fs::remove(manifest_path, ec);
-    if (ec) throw vector_error(fmt::format("cannot remove {}: {}", manifest_path.string(), ec.message()));
-  } else if (!fs::is_empty(dir, ec)) {
+  } else if (!fs::exists(marker_path) && !fs::is_empty(dir, ec)) {
     throw vector_error(
         fmt::format("{} is neither empty nor a vector set (no manifest.json); refusing to write there", dir.string()));
   }
+  // The marker first (every old and new name), then the old manifest goes: from here on the set
+  // is incomplete and a reader never sees old and new files mixed.
+  std::set<std::string> touched = old_files;
+  touched.insert(names.begin(), names.end());
+  {
+    write_transaction marker(dir);
+    marker.put(std::string(rewrite_marker_name), nlohmann::json(touched).dump() + "\n");
+    marker.commit();
+  }
+  fs::remove(manifest_path, ec);
+  if (ec) throw vector_error(fmt::format("cannot remove {}: {}", manifest_path.string(), ec.message()));
 
   write_transaction tx(dir);
   for (const pending& p : files) tx.put(p.name, p.bytes);
@@ -188,6 +214,19 @@ manifest write_vector_set(const fs::path& dir, const manifest_info& info, const 
   for (const std::string& old : old_files) {
     if (names.count(old) == 0) fs::remove(dir / old, ec);
   }
+  // Temporaries of writers that were killed: hidden ".NAME.partial-PID" of a name of this set,
+  // of the manifest or of the marker.
+  const auto is_ours = [&](const std::string& name) {
+    return touched.count(name) > 0 || name == manifest_file_name || name == rewrite_marker_name;
+  };
+  for (const auto& entry : fs::directory_iterator(dir, ec)) {
+    const std::string name = entry.path().filename().string();
+    const auto tail = name.rfind(".partial-");
+    if (name.size() > 1 && name[0] == '.' && tail != std::string::npos && is_ours(name.substr(1, tail - 1))) {
+      fs::remove(entry.path(), ec);
+    }
+  }
+  fs::remove(marker_path, ec);
   return man;
 }
 

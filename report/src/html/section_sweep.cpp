@@ -64,7 +64,8 @@ void render_section(page& pg, const sweep_record& r) {
   if (nodes.empty()) pg.out += "<p>The sweep has no points.</p>\n";
   const std::string sym = vary_symbol(r.vary);
   for (const auto& [node, pts] : nodes) {
-    const auto where_text = [&](const sweep_point_record& p) {
+    // node by an init-capture: clang before 16 cannot capture a structured binding itself.
+    const auto where_text = [&, &node = node](const sweep_point_record& p) {
       return fmt::format("{} {}, {} = {}", node, fixedpoint::to_q_string(p.fmt), sym, p.bits);
     };
     xy_chart sinr{pg.next_id("sinr"),      "sweep-sinr",     node,  node + ": SINR loss",

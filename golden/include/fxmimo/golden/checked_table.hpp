@@ -153,6 +153,12 @@ inline const toml::table& sub_table(const checked_table& root, std::string_view 
   return *node->as_table();
 }
 
+/// TOML text parsed by toml++, which is given an ASCII copy with the same lines and values (a
+/// non-ASCII code point where toml++ 3.3 tests for whitespace is undefined behaviour there): the
+/// one door to toml++. Throws scenario_error "FILE:LINE: (syntax): ..." for a syntax error,
+/// non-ASCII bytes outside strings and comments, or text that is not UTF-8.
+toml::table parse_toml(std::string_view text, const std::string& source_name);
+
 /// A scenario file parsed once: its text (kept for writing it back), its source name and its
 /// TOML tables. Throws scenario_error naming the file and line of a TOML syntax error.
 struct scenario_document {

@@ -23,6 +23,10 @@ namespace fxmimo::vectors {
 namespace fp = fxmimo::fixedpoint;
 
 inline constexpr std::string_view manifest_file_name = "manifest.json";
+/// Hidden beside the files while a set is being written: a JSON list of every file name the
+/// rewrite may leave (old and new), so that a writer killed half-way leaves a directory the next
+/// writer recognises and cleans; removed when the set is complete.
+inline constexpr std::string_view rewrite_marker_name = ".rewrite.json";
 /// Version of manifest.json. 2: an interleaved file's dims end with the part axis
 /// {"name": "part", "size": 2}, so word_count is the product of its dims. Version 1 files (no
 /// part axis) are read too.

@@ -6,9 +6,11 @@
 ///
 /// Writing is all-or-nothing as far as a reader can tell: every record is validated before the
 /// first byte is written; each file goes to a hidden temporary name in the same directory and is
-/// renamed into place; a manifest.json already present is removed before the first file and the
-/// new one is renamed into place after the last; on any failure the files of this run and the
-/// temporaries are removed. A directory without manifest.json is never a (complete) set.
+/// renamed into place; a hidden marker (rewrite_marker_name) listing every old and new file name
+/// is written first, then a manifest.json already present is removed, and the new one is renamed
+/// into place after the last file; on any failure the files of this run and the temporaries are
+/// removed. A directory without manifest.json is never a (complete) set; one that holds the
+/// marker (a writer was killed) is taken as an earlier set and cleaned by the next writer.
 
 #include <filesystem>
 #include <string_view>

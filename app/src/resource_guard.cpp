@@ -1,0 +1,68 @@
+#include "resource_guard.hpp"
+
+#include <fmt/core.h>
+
+#include <algorithm>
+#include <thread>
+
+#include "commands.hpp"
+#include "fxmimo/analysis/resources.hpp"
+
+namespace fxmimo::cli {
+
+void add_resource_options(CLI::App* cmd, resource_options& opt) {
+  cmd->add_option("--max-memory", opt.max_memory,
+                  "Memory the run may use, e.g. 48G (default: what the machine has available)");
+  cmd->add_option("--max-work", opt.max_work, "Most complex multiply-accumulates one command may ask for")
+      ->capture_default_str()
+      ->check(CLI::PositiveNumber);
+}
+
+void check_resources(const scenario_input& in, const planned_work& plan, const resource_options& opt) {
+  const unsigned cores = std::max(1U, std::thread::hardware_concurrency());
+  const std::size_t at_once =
+      std::max<std::size_t>(1, std::min<std::size_t>(plan.threads == 0 ? cores : plan.threads, plan.trials));
+
+  const analysis::resource_estimate per_trial = analysis::trial_memory_bytes(in.scen);
+  const double kept = analysis::trial_word_bytes(in.scen) * static_cast<double>(plan.kept_trials);
+  const double needed = per_trial.amount * static_cast<double>(at_once) + kept;
+  std::optional<double> allowed;
+  std::string allowed_text;
+  if (!opt.max_memory.empty()) {
+    allowed = analysis::parse_bytes(opt.max_memory);
+    if (!allowed) {
+      throw usage_error(
+          fmt::format("--max-memory '{}': expected a size such as 2048, 512M, 48G or 1.5T", opt.max_memory));
+    }
+    allowed_text = fmt::format("the {} that --max-memory allows", analysis::bytes_text(*allowed));
+  } else {
+    allowed = analysis::available_memory_bytes();
+    if (allowed) {
+      allowed_text =
+          fmt::format("the {} of memory available (raise it with --max-memory)", analysis::bytes_text(*allowed));
+    }
+  }
+  if (allowed && needed > *allowed) {
+    const std::string how =
+        plan.kept_trials > 0
+            ? fmt::format("{} for one trial plus {} for the words of {} trials", analysis::bytes_text(per_trial.amount),
+                          analysis::bytes_text(kept), plan.kept_trials)
+            : fmt::format("{} trial{} at once, {} each", at_once, at_once == 1 ? "" : "s",
+                          analysis::bytes_text(per_trial.amount));
+    throw usage_error(fmt::format("{}: the run needs about {} ({}), more than {}", in.key_location(per_trial.key),
+                                  analysis::bytes_text(needed), how, allowed_text));
+  }
+
+  const analysis::resource_estimate work = analysis::trial_work_macs(in.scen);
+  const double total = work.amount * static_cast<double>(plan.trials) * static_cast<double>(plan.evaluations);
+  if (total > opt.max_work) {
+    const std::string evaluations =
+        plan.evaluations > 1 ? fmt::format(" x {} evaluations", plan.evaluations) : std::string();
+    throw usage_error(fmt::format(
+        "{}: the command asks for about {:.2g} complex multiply-accumulates ({:.2g} per trial x {} trials{}), more "
+        "than --max-work {:g}",
+        in.key_location(work.key), total, work.amount, plan.trials, evaluations, opt.max_work));
+  }
+}
+
+}  // namespace fxmimo::cli
