@@ -4,6 +4,7 @@
 #include <toml++/toml.h>
 
 #include <algorithm>
+#include <cctype>
 #include <cmath>
 #include <fstream>
 #include <initializer_list>
@@ -410,8 +411,59 @@ std::string ascii_toml_text(std::string_view text, const std::string& source_nam
     out.push_back(text[i++]);
   };
   const auto is_ascii = [](char ch) { return static_cast<unsigned char>(ch) < 0x80; };
+  // Where a '[' opens a table header rather than an array: at the start of a line, outside any
+  // value. toml++ 3.3 asserts (an optimiser assumption under NDEBUG) that a header's first
+  // character after '[' or '[[' and blanks starts a key: "[#", "[=", "[" at a line's end reached
+  // its parse_key with anything else; and that an array element does not start with '}'
+  // ("a=[}"), which reached its parse_value (both found by fuzzing with the library's assertions
+  // on). So brackets of values must pair up here, innermost first.
+  std::string open_values;    // the '[' and '{' of the values being read, innermost last
+  bool expect_value = false;  // after '=': the next '[' or '{' opens a value
+  bool at_line_start = true;  // only blanks since the last line end
+  const auto check_header = [&] {
+    std::size_t k = i + 1;
+    if (k < text.size() && text[k] == '[') ++k;
+    while (k < text.size() && (text[k] == ' ' || text[k] == '\t')) ++k;
+    const char first = k < text.size() ? text[k] : '\n';
+    const bool starts_key = std::isalnum(static_cast<unsigned char>(first)) != 0 || first == '_' || first == '-' ||
+                            first == '"' || first == '\'' || first == ']';
+    if (!starts_key) fail("a table header needs a key after '[' (letters, digits, _ or -, or a quoted key)");
+  };
+  // toml++ 3.3 reads a bare value such as "DDDD-DD-DD D..." as a date with a blank for 'T' and
+  // rescans past the blank with an assertion that does not hold there ("8444------ 5 8444--",
+  // "8444--m--- 5", found by fuzzing). No scenario key takes a date, and outside a date a bare
+  // value that starts with a digit, holds a '-' and is followed by a blank and a digit is no TOML.
+  const auto looks_like_spaced_date = [&](std::size_t at) {
+    if (at > 0 && std::string_view(" \t=[,{").find(text[at - 1]) == std::string_view::npos) return false;
+    std::size_t end = at;
+    while (end < text.size() && std::string_view(" \t\r\n],}#").find(text[end]) == std::string_view::npos) ++end;
+    const std::string_view token = text.substr(at, end - at);
+    return token.find('-') != std::string_view::npos && end + 1 < text.size() && text[end] == ' ' &&
+           text[end + 1] >= '0' && text[end + 1] <= '9';
+  };
   while (i < text.size()) {
     const auto byte = static_cast<unsigned char>(text[i]);
+    if (byte == '\n') {
+      at_line_start = true;
+    } else if (byte != ' ' && byte != '\t' && byte != '\r') {
+      if (byte == '[' || byte == '{') {
+        if (!open_values.empty() || expect_value) {
+          open_values.push_back(static_cast<char>(byte));
+        } else if (byte == '[' && at_line_start) {
+          check_header();
+        }
+      } else if ((byte == ']' || byte == '}') && !open_values.empty()) {
+        if (open_values.back() != (byte == ']' ? '[' : '{')) {
+          fail(fmt::format("'{}' closes the '{}' of a value", static_cast<char>(byte), open_values.back()));
+        }
+        open_values.pop_back();
+      }
+      if (std::isdigit(byte) != 0 && looks_like_spaced_date(i)) {
+        fail("a date and time is not a scenario value (write numbers as numbers, text in quotes)");
+      }
+      expect_value = byte == '=';
+      if (byte != '#') at_line_start = false;
+    }
     if (byte == '#') {
       while (i < text.size() && text[i] != '\n') {
         if (is_ascii(text[i])) {

@@ -173,6 +173,18 @@ INSTANTIATE_TEST_SUITE_P(
         // the U+00E9 behind it (the same unreachable branch; found by fuzzing).
         error_case{"non_ascii_after_quote_in_bare_value", edit("seed = 3", "seed = 3\nx = 0\"\xC3\xA9\""), 3,
                    "(syntax)", ""},
+        // A table header whose first character after '[' (or '[[' and blanks) cannot start a key
+        // reached toml++ 3.3.0's parse_key past its assertion (an optimiser assumption in release
+        // builds; found by fuzzing with the library's assertions on).
+        error_case{"header_starts_with_hash", "[#", 1, "(syntax)", "a table header needs a key after '['"},
+        error_case{"header_starts_with_equals", edit("seed = 3", "seed = 3\n[[ =]]"), 3, "(syntax)",
+                   "a table header needs a key"},
+        error_case{"header_ends_the_line", edit("seed = 3", "seed = 3\n  [\n"), 3, "(syntax)",
+                   "a table header needs a key"},
+        error_case{"brace_closes_an_array", edit("seed = 3", "seed = [1, }"), 2, "(syntax)",
+                   "'}' closes the '[' of a value"},
+        error_case{"date_with_a_blank", edit("seed = 3", "seed = 8444------ 5 8444--"), 2, "(syntax)",
+                   "a date and time is not a scenario value"},
         error_case{"not_utf8_in_string", edit("seed = 3", "seed = 3\nname = \"\xC3\x28\""), 3, "(syntax)",
                    "not UTF-8"}),
     [](const ::testing::TestParamInfo<error_case>& param_info) { return param_info.param.name; });
@@ -184,6 +196,17 @@ TEST(scenario, non_ascii_text_in_strings_and_comments_is_fine) {
                            base_text.substr(base_text.find("seed")) + "# ''' \"\"\" \xCE\xB6\n" +
                            "[frontend]\n# \xE2\x82\xAC\n";
   EXPECT_EQ(parse_scenario_text(text, "u.toml").name, "Z\xC3\xBCrich \" \xCE\xA9");
+}
+
+TEST(scenario, brackets_inside_values_are_not_headers) {
+  // Nested and multi-line arrays and inline tables: a '[' at a line start inside a value opens an
+  // array (TOML 1.0), so the header check leaves it alone.
+  const toml::table t = parse_toml("a = [\n[1, 2],\n[ ],\n]\nb = { c = [\n[\n3]] }\n[d]\n[[e]]\n[ \"f\" ]\n", "v.toml");
+  EXPECT_EQ(t["a"][0][1].value<int>(), 2);
+  EXPECT_EQ(t["b"]["c"][0][0].value<int>(), 3);
+  EXPECT_TRUE(t["d"].is_table());
+  EXPECT_TRUE(t["e"].is_array_of_tables());
+  EXPECT_TRUE(t["f"].is_table());
 }
 
 TEST(scenario, non_ascii_text_keeps_its_value_in_every_kind_of_string) {
