@@ -11,12 +11,33 @@
 namespace fxmimo::cli {
 
 namespace {
+
 int exit_code = exit_ok;
+
+/// SIGINT and SIGTERM during a command that runs trials: the first asks the trial loops to stop
+/// (the command then removes its temporaries and exits 128 + signal); a second ends the process
+/// at once. Other commands keep the default action: they end at once and write nothing partial.
+extern "C" void on_stop_signal(int signal_number) {
+  analysis::request_stop(signal_number);
+  std::signal(signal_number, SIG_DFL);
 }
+
+bool runs_trials(const std::string& command) {
+  for (const char* name : {"run", "demo", "range", "sweep", "tune", "vectors"}) {
+    if (command == name) return true;
+  }
+  return false;
+}
+
+}  // namespace
 
 int last_exit_code() { return exit_code; }
 
 void run_guarded(const std::string& command, const std::function<int()>& body) {
+  if (runs_trials(command)) {
+    std::signal(SIGINT, on_stop_signal);
+    std::signal(SIGTERM, on_stop_signal);
+  }
   try {
     exit_code = body();
     analysis::throw_if_stop_requested();  // a stop during the last writes: say so, exit as stopped

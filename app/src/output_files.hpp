@@ -7,6 +7,7 @@
 #include <string>
 
 #include "commands.hpp"
+#include "fxmimo/io/output_bytes.hpp"
 
 namespace fxmimo::cli {
 
@@ -17,8 +18,7 @@ inline void write_file_atomically(const std::filesystem::path& path, const std::
   {
     std::ofstream out(temp, std::ios::binary | std::ios::trunc);
     if (!out) throw usage_error(path.string() + ": cannot write");
-    out << text;
-    out.flush();
+    io::write_output_bytes(out, text);
     if (!out) {
       out.close();
       std::filesystem::remove(temp);

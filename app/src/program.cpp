@@ -5,12 +5,10 @@
 
 #include <CLI/CLI.hpp>
 #include <cctype>
-#include <csignal>
 #include <string>
 #include <vector>
 
 #include "commands.hpp"
-#include "fxmimo/analysis/resources.hpp"
 
 namespace fxmimo::app {
 
@@ -34,13 +32,6 @@ bool is_point_first_negative(const std::string& arg) {
   return i == arg.size();
 }
 
-/// SIGINT and SIGTERM: the first asks the trial loops to stop (the command then removes its
-/// temporaries and exits 128 + signal); a second one ends the process at once.
-extern "C" void on_stop_signal(int signal_number) {
-  analysis::request_stop(signal_number);
-  std::signal(signal_number, SIG_DFL);
-}
-
 }  // namespace
 
 int run_program(int argc, char** argv) {
@@ -53,10 +44,9 @@ int run_program(int argc, char** argv) {
   app.set_version_flag("--version", FXMIMO_VERSION);
   app.footer(
       "Run 'fxmimo COMMAND --help' for a command's options and examples.\n"
-      "Exit codes: 0 ok, 1 a check failed, 2 bad usage or input, 3 internal error.");
+      "Exit codes: 0 ok, 1 a check failed, 2 bad usage or input, 3 internal error, 130/143 stopped by\n"
+      "SIGINT/SIGTERM.");
   cli::register_commands(app);
-  std::signal(SIGINT, on_stop_signal);
-  std::signal(SIGTERM, on_stop_signal);
   std::vector<std::string> args(argv, argv + argc);
   for (std::size_t i = 1; i < args.size() && args[i] != "--"; ++i) {
     if (is_point_first_negative(args[i])) args[i].insert(1, "0");

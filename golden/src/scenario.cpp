@@ -429,17 +429,20 @@ std::string ascii_toml_text(std::string_view text, const std::string& source_nam
                             first == '"' || first == '\'' || first == ']';
     if (!starts_key) fail("a table header needs a key after '[' (letters, digits, _ or -, or a quoted key)");
   };
-  // toml++ 3.3 reads a bare value such as "DDDD-DD-DD D..." as a date with a blank for 'T' and
-  // rescans past the blank with an assertion that does not hold there ("8444------ 5 8444--",
-  // "8444--m--- 5", found by fuzzing). No scenario key takes a date, and outside a date a bare
-  // value that starts with a digit, holds a '-' and is followed by a blank and a digit is no TOML.
-  const auto looks_like_spaced_date = [&](std::size_t at) {
+  // Dates and times: no scenario key takes one, and toml++ 3.3 parses malformed ones past its
+  // own assertions ("8444------ 5" rescanned past a blank, "1001-06-06ts0z" read a time without
+  // a digit; found by fuzzing). So a bare value that starts with a digit and holds a ':' or, its
+  // underscores left out (as toml++ does), starts with four digits and a '-', is refused.
+  const auto looks_like_date_or_time = [&](std::size_t at) {
     if (at > 0 && std::string_view(" \t=[,{").find(text[at - 1]) == std::string_view::npos) return false;
-    std::size_t end = at;
-    while (end < text.size() && std::string_view(" \t\r\n],}#").find(text[end]) == std::string_view::npos) ++end;
-    const std::string_view token = text.substr(at, end - at);
-    return token.find('-') != std::string_view::npos && end + 1 < text.size() && text[end] == ' ' &&
-           text[end + 1] >= '0' && text[end + 1] <= '9';
+    std::string token;
+    for (std::size_t k = at; k < text.size() && std::string_view(" \t\r\n],}#").find(text[k]) == std::string_view::npos;
+         ++k) {
+      if (text[k] != '_') token.push_back(text[k]);
+    }
+    const bool four_digits =
+        token.size() >= 5 && std::all_of(token.begin(), token.begin() + 4, [](char c) { return c >= '0' && c <= '9'; });
+    return token.find(':') != std::string::npos || (four_digits && token[4] == '-');
   };
   while (i < text.size()) {
     const auto byte = static_cast<unsigned char>(text[i]);
@@ -458,7 +461,7 @@ std::string ascii_toml_text(std::string_view text, const std::string& source_nam
         }
         open_values.pop_back();
       }
-      if (std::isdigit(byte) != 0 && looks_like_spaced_date(i)) {
+      if (std::isdigit(byte) != 0 && looks_like_date_or_time(i)) {
         fail("a date and time is not a scenario value (write numbers as numbers, text in quotes)");
       }
       expect_value = byte == '=';

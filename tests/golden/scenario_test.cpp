@@ -185,6 +185,10 @@ INSTANTIATE_TEST_SUITE_P(
                    "'}' closes the '[' of a value"},
         error_case{"date_with_a_blank", edit("seed = 3", "seed = 8444------ 5 8444--"), 2, "(syntax)",
                    "a date and time is not a scenario value"},
+        error_case{"date_time_letters", edit("seed = 3", "seed = 1001-06-06ts0z!0: -0"), 2, "(syntax)",
+                   "a date and time is not a scenario value"},
+        error_case{"time_of_day", edit("seed = 3", "seed = 3\nx = [07:32:00]"), 3, "(syntax)",
+                   "a date and time is not a scenario value"},
         error_case{"not_utf8_in_string", edit("seed = 3", "seed = 3\nname = \"\xC3\x28\""), 3, "(syntax)",
                    "not UTF-8"}),
     [](const ::testing::TestParamInfo<error_case>& param_info) { return param_info.param.name; });

@@ -12,6 +12,7 @@
 #include <tuple>
 
 #include "fxmimo/io/checked_json.hpp"
+#include "fxmimo/io/output_bytes.hpp"
 #include "fxmimo/vectors/errors.hpp"
 #include "fxmimo/vectors/hex_file.hpp"
 #include "fxmimo/vectors/npy_file.hpp"
@@ -84,8 +85,7 @@ class write_transaction {
     {
       std::ofstream out(temp_path, std::ios::binary | std::ios::trunc);
       if (!out) throw vector_error("cannot create " + temp_path.string());
-      out.write(bytes.data(), static_cast<std::streamsize>(bytes.size()));
-      out.flush();
+      io::write_output_bytes(out, bytes);
       if (!out) throw vector_error("error writing " + temp_path.string() + " (disk full?)");
     }
     std::error_code ec;
