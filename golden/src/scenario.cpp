@@ -430,19 +430,19 @@ std::string ascii_toml_text(std::string_view text, const std::string& source_nam
     if (!starts_key) fail("a table header needs a key after '[' (letters, digits, _ or -, or a quoted key)");
   };
   // Dates and times: no scenario key takes one, and toml++ 3.3 parses malformed ones past its
-  // own assertions ("8444------ 5" rescanned past a blank, "1001-06-06ts0z" read a time without
-  // a digit; found by fuzzing). So a bare value that starts with a digit and holds a ':' or, its
-  // underscores left out (as toml++ does), starts with four digits and a '-', is refused.
+  // own assertions ("8444------ 5" and "1a=2-a=-a= 2" rescanned past a blank, "1001-06-06ts0z"
+  // read a time without a digit; found by fuzzing). toml++ takes a bare value that starts with a
+  // digit for a date or time when it holds a ':' or a '-' (letters other than b, e, o, p, t, x, z
+  // and '=' count for nothing there); in a number a '-' follows an exponent's 'e' or 'E'. So a
+  // bare value that starts with a digit and holds a ':', or a '-' after anything but 'e' or 'E',
+  // is refused.
   const auto looks_like_date_or_time = [&](std::size_t at) {
-    if (at > 0 && std::string_view(" \t=[,{").find(text[at - 1]) == std::string_view::npos) return false;
-    std::string token;
+    if (at > 0 && std::string_view(" \t\r\n=[,{").find(text[at - 1]) == std::string_view::npos) return false;
     for (std::size_t k = at; k < text.size() && std::string_view(" \t\r\n],}#").find(text[k]) == std::string_view::npos;
          ++k) {
-      if (text[k] != '_') token.push_back(text[k]);
+      if (text[k] == ':' || (text[k] == '-' && text[k - 1] != 'e' && text[k - 1] != 'E')) return true;
     }
-    const bool four_digits =
-        token.size() >= 5 && std::all_of(token.begin(), token.begin() + 4, [](char c) { return c >= '0' && c <= '9'; });
-    return token.find(':') != std::string::npos || (four_digits && token[4] == '-');
+    return false;
   };
   while (i < text.size()) {
     const auto byte = static_cast<unsigned char>(text[i]);
@@ -461,8 +461,11 @@ std::string ascii_toml_text(std::string_view text, const std::string& source_nam
         }
         open_values.pop_back();
       }
-      if (std::isdigit(byte) != 0 && looks_like_date_or_time(i)) {
-        fail("a date and time is not a scenario value (write numbers as numbers, text in quotes)");
+      const bool in_value = expect_value || (!open_values.empty() && open_values.back() == '[');
+      if (std::isdigit(byte) != 0 && in_value && looks_like_date_or_time(i)) {
+        fail(
+            "a date or time (or a number with a stray '-' or ':') is not a scenario value (write numbers as "
+            "numbers, text in quotes)");
       }
       expect_value = byte == '=';
       if (byte != '#') at_line_start = false;
