@@ -87,10 +87,14 @@ trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datap
   return out;
 }
 
+unsigned worker_count(std::size_t count, unsigned num_threads) {
+  if (num_threads == 0) num_threads = std::max(1U, std::thread::hardware_concurrency());
+  return static_cast<unsigned>(std::min<std::size_t>(num_threads, std::max<std::size_t>(count, 1)));
+}
+
 void for_each_index_parallel(std::size_t count, unsigned num_threads, const std::function<void(std::size_t)>& body,
                              const progress_callback& progress) {
-  if (num_threads == 0) num_threads = std::max(1U, std::thread::hardware_concurrency());
-  num_threads = static_cast<unsigned>(std::min<std::size_t>(num_threads, std::max<std::size_t>(count, 1)));
+  num_threads = worker_count(count, num_threads);
   std::atomic<std::size_t> next{0};
   std::atomic<std::size_t> done{0};
   std::mutex mutex;

@@ -3,10 +3,10 @@
 #include <fmt/core.h>
 
 #include <algorithm>
-#include <thread>
 
 #include "commands.hpp"
 #include "fxmimo/analysis/resources.hpp"
+#include "fxmimo/analysis/runner.hpp"
 
 namespace fxmimo::cli {
 
@@ -19,9 +19,7 @@ void add_resource_options(CLI::App* cmd, resource_options& opt) {
 }
 
 void check_resources(const scenario_input& in, const planned_work& plan, const resource_options& opt) {
-  const unsigned cores = std::max(1U, std::thread::hardware_concurrency());
-  const std::size_t at_once =
-      std::max<std::size_t>(1, std::min<std::size_t>(plan.threads == 0 ? cores : plan.threads, plan.trials));
+  const std::size_t at_once = analysis::worker_count(plan.trials, plan.threads);
 
   const analysis::resource_estimate per_trial = analysis::trial_memory_bytes(in.scen);
   const double kept = analysis::trial_word_bytes(in.scen) * static_cast<double>(plan.kept_trials);

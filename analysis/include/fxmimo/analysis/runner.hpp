@@ -84,6 +84,10 @@ trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datap
 /// Called after each finished trial with (done, total).
 using progress_callback = std::function<void(std::size_t, std::size_t)>;
 
+/// The threads for_each_index_parallel starts for `count` indices: `num_threads` (0: all cores),
+/// at most one per index, at least one.
+unsigned worker_count(std::size_t count, unsigned num_threads);
+
 /// Calls body(i) for i = 0 .. count-1 on `num_threads` threads (0: all cores), each index once;
 /// results must go into per-index slots so the caller can reduce them in index order. The first
 /// exception stops the remaining work and is rethrown; progress(done, count) after each index.
