@@ -4,9 +4,14 @@
 
 #include <algorithm>
 #include <cmath>
+#include <functional>
+#include <mutex>
 
 #include "fxmimo/analysis/runner.hpp"
+#include "fxmimo/analysis/statistics.hpp"
+#include "fxmimo/analysis/tail.hpp"
 #include "fxmimo/datapath/datapath.hpp"
+#include "fxmimo/golden/precoder.hpp"
 #include "fxmimo/golden/trial.hpp"
 
 namespace fxmimo::analysis {
@@ -17,13 +22,24 @@ namespace {
 
 constexpr int hist_min = -40, hist_max = 40;
 
-/// The q-quantile (0..1) of sorted-on-demand values (nth_element), 0 for no values.
-double quantile(std::vector<double>& v, double q) {
-  if (v.empty()) return 0.0;
-  const auto k = static_cast<std::size_t>(
-      std::min<double>(static_cast<double>(v.size()) - 1, std::floor(q * static_cast<double>(v.size() - 1))));
-  std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(k), v.end());
-  return v[k];
+/// Largest values kept per node: enough for the 99 % percentile, the (1 - p) quantile and the
+/// tail fit, at most 2^19 (beyond, the 99 % percentile reads as the smallest kept value, a lower
+/// bound).
+std::size_t values_to_keep(std::size_t num_values, double overflow_prob) {
+  const auto n = static_cast<double>(num_values);
+  const double wanted = std::max({std::ceil(0.01 * n) + 2, std::ceil(overflow_prob * n) + 2,
+                                  static_cast<double>(tail_exceedance_count(num_values)) + 1});
+  return static_cast<std::size_t>(std::min(wanted, static_cast<double>(std::size_t{1} << 19)));
+}
+
+/// The q-quantile (0..1) of n values (the value of ascending rank floor(q (n - 1))), read from
+/// the largest of them sorted in descending order; 0 for no values.
+double quantile_from_largest(const std::vector<double>& largest, std::uint64_t n, double q) {
+  if (n == 0 || largest.empty()) return 0.0;
+  const auto rank = static_cast<std::uint64_t>(
+      std::min<double>(static_cast<double>(n) - 1, std::floor(q * static_cast<double>(n - 1))));
+  const std::uint64_t from_top = n - 1 - rank;
+  return from_top < largest.size() ? largest[from_top] : largest.back();
 }
 
 }  // namespace
@@ -43,53 +59,96 @@ range_results profile_ranges(const golden::scenario& scen, const datapath::datap
   if (!(overflow_prob > 0 && overflow_prob < 1)) throw std::invalid_argument("overflow probability must lie in (0, 1)");
   const datapath::datapath_plan plan = datapath::stages_for(scen);
   const std::vector<datapath::node_id> active = plan.nodes();
-  // Per trial, per node: the |parts|, kept in trial order so the result is thread-independent.
-  std::vector<std::vector<std::vector<double>>> parts(static_cast<std::size_t>(num_trials));
+  const auto trials = static_cast<std::size_t>(num_trials);
+  // Per node: the count, the largest value, the log2 histogram and the largest values the
+  // percentiles and the tail fit read. Counts, maxima and histograms are sums and maxima; the
+  // kept values are the `keep` largest of all, a multiset that does not depend on the order the
+  // trials finish in, so the profile is the same for any thread count.
+  struct node_profile {
+    std::uint64_t count = 0;
+    double max_abs = 0.0;
+    std::vector<std::uint64_t> histogram = std::vector<std::uint64_t>(hist_max - hist_min + 1, 0);
+    std::size_t keep = 0;
+    std::vector<double> largest;
+  };
+  std::vector<node_profile> profile(active.size());
+  std::vector<double> conditions(trials, 0.0);  // per trial; 0 without a Gram
+  std::mutex mutex;
+  auto trim = [](std::vector<double>& v, std::size_t keep) {
+    if (v.size() <= keep) return;
+    std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(keep), v.end(), std::greater<>());
+    v.resize(keep);
+  };
   for_each_index_parallel(
-      static_cast<std::size_t>(num_trials), num_threads,
+      trials, num_threads,
       [&](std::size_t t) {
         const golden::trial_data trial = golden::run_trial(scen, t);
         const auto values = datapath::golden_node_values(plan, scen, trial);
-        auto& mine = parts[t];
-        mine.resize(active.size());
+        if (trial.gram.size() > 0) conditions[t] = golden::condition_number(trial.gram);
         for (std::size_t i = 0; i < active.size(); ++i) {
           const Eigen::MatrixXcd& g = values[datapath::index_of(active[i])];
-          auto& out = mine[i];
           const bool complex_node = datapath::node_is_complex(active[i]);
-          out.reserve(static_cast<std::size_t>(2 * g.size()));
+          std::vector<double> parts;
+          parts.reserve(static_cast<std::size_t>(2 * g.size()));
           for (Eigen::Index e = 0; e < g.size(); ++e) {
-            out.push_back(std::abs(g(e).real()));
-            if (complex_node) out.push_back(std::abs(g(e).imag()));
+            parts.push_back(std::abs(g(e).real()));
+            if (complex_node) parts.push_back(std::abs(g(e).imag()));
           }
+          std::vector<std::uint64_t> histogram(hist_max - hist_min + 1, 0);
+          double max_abs = 0.0;
+          for (double v : parts) {
+            if (v == 0.0) continue;
+            max_abs = std::max(max_abs, v);
+            ++histogram[static_cast<std::size_t>(
+                std::clamp(static_cast<int>(std::floor(std::log2(v))), hist_min, hist_max) - hist_min)];
+          }
+          const std::size_t per_trial = parts.size();
+          const std::size_t keep = values_to_keep(per_trial * trials, overflow_prob);
+          trim(parts, keep);
+          const std::lock_guard lock(mutex);
+          node_profile& p = profile[i];
+          p.keep = keep;
+          p.count += per_trial;
+          p.max_abs = std::max(p.max_abs, max_abs);
+          for (std::size_t b = 0; b < histogram.size(); ++b) p.histogram[b] += histogram[b];
+          p.largest.insert(p.largest.end(), parts.begin(), parts.end());
+          if (p.largest.size() > 2 * keep) trim(p.largest, keep);
         }
       },
       progress);
 
   range_results out;
   out.scenario_name = scen.name;
-  out.num_trials = static_cast<std::size_t>(num_trials);
+  out.num_trials = trials;
   out.overflow_prob = overflow_prob;
+  std::erase(conditions, 0.0);
+  if (!conditions.empty()) {
+    out.gram_condition_p50 = percentile(conditions, 0.50);
+    out.gram_condition_p95 = percentile(conditions, 0.95);
+    out.gram_condition_max = *std::max_element(conditions.begin(), conditions.end());
+  }
   for (std::size_t i = 0; i < active.size(); ++i) {
+    node_profile& p = profile[i];
+    trim(p.largest, p.keep);
+    std::sort(p.largest.begin(), p.largest.end(), std::greater<>());
     node_range r;
     r.id = active[i];
-    std::vector<double> all;
-    for (const auto& t : parts) all.insert(all.end(), t[i].begin(), t[i].end());
-    r.num_values = all.size();
-    r.log2_histogram.assign(static_cast<std::size_t>(hist_max - hist_min + 1), 0);
-    for (double v : all) {
-      if (v == 0.0) continue;
-      r.max_abs = std::max(r.max_abs, v);
-      const int e = std::clamp(static_cast<int>(std::floor(std::log2(v))), hist_min, hist_max);
-      ++r.log2_histogram[static_cast<std::size_t>(e - hist_min)];
-    }
-    r.p99 = quantile(all, 0.99);
-    r.p9999 = quantile(all, 0.9999);
-    r.p999999 = quantile(all, 0.999999);
-    // A quantile at probability p is trustworthy with at least 10 / p values; otherwise the
-    // maximum observed plus one guard bit.
-    if (static_cast<double>(all.size()) * overflow_prob >= 10.0) {
-      r.proposed_int_bits = int_bits_for(quantile(all, 1.0 - overflow_prob));
+    r.num_values = p.count;
+    r.max_abs = p.max_abs;
+    r.log2_histogram = p.histogram;
+    r.p99 = quantile_from_largest(p.largest, r.num_values, 0.99);
+    r.p9999 = quantile_from_largest(p.largest, r.num_values, 0.9999);
+    r.p999999 = quantile_from_largest(p.largest, r.num_values, 0.999999);
+    // A quantile at probability p is estimated from at least 10 / p values; below that, the
+    // upper confidence bound of a tail fit; where no fit is possible, the largest value seen
+    // plus one guard bit.
+    if (static_cast<double>(r.num_values) * overflow_prob >= 10.0) {
+      r.proposed_int_bits = int_bits_for(quantile_from_largest(p.largest, r.num_values, 1.0 - overflow_prob));
       r.proposal_basis = "quantile";
+    } else if ((r.tail = fit_tail_quantile(p.largest, r.num_values, overflow_prob))) {
+      // The bound lies beyond the data; it is never taken below the largest value seen.
+      r.proposed_int_bits = int_bits_for(std::max(r.tail->upper_bound, r.max_abs));
+      r.proposal_basis = "tail";
     } else {
       r.proposed_int_bits = int_bits_for(r.max_abs) + 1;
       r.proposal_basis = "max+1";

@@ -2,6 +2,7 @@
 
 #include <fmt/core.h>
 
+#include <algorithm>
 #include <atomic>
 #include <cmath>
 #include <limits>
@@ -9,7 +10,9 @@
 #include <thread>
 
 #include "fxmimo/analysis/resources.hpp"
+#include "fxmimo/analysis/statistics.hpp"
 #include "fxmimo/golden/link_metrics.hpp"
+#include "fxmimo/golden/precoder.hpp"
 #include "fxmimo/golden/trial.hpp"
 
 namespace fxmimo::analysis {
@@ -23,6 +26,23 @@ double node_result::overflow_rate() const {
   return counters.requantized == 0
              ? 0.0
              : static_cast<double>(counters.overflowed) / static_cast<double>(counters.requantized);
+}
+
+double node_result::overflow_rate_bound() const { return rate_upper_bound(counters.overflowed, counters.requantized); }
+
+double sinr_loss_statistic(const run_results& r, std::optional<double> pct) {
+  if (!pct) return r.summary.sinr_loss_db;
+  if (*pct == 5) return r.distribution.sinr_loss_p5_db;
+  if (*pct == 50) return r.distribution.sinr_loss_p50_db;
+  if (*pct == 95) return r.distribution.sinr_loss_p95_db;
+  // Between the kept whole percentiles, linearly (the kept values are the definition-7
+  // percentiles at whole percent, so whole percents are exact).
+  const std::vector<double>& q = r.distribution.sinr_loss_percentiles_db;
+  if (q.size() != 101) throw std::logic_error("no SINR-loss percentiles kept");
+  const double h = std::clamp(*pct, 0.0, 100.0);
+  const auto lo = static_cast<std::size_t>(std::floor(h));
+  const std::size_t hi = std::min<std::size_t>(lo + 1, 100);
+  return q[lo] + (h - static_cast<double>(lo)) * (q[hi] - q[lo]);
 }
 
 std::optional<double> bs_evm_limit_pct(golden::modulation mod) {
@@ -84,6 +104,7 @@ trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datap
   out.evm_fixed_pct = fixed_metrics.evm_pct;
   out.evm_impl = golden::implementation_evm(fixed.dac_value, trial.tx);
   out.neumann_radius = trial.neumann_radius;
+  if (trial.gram.size() > 0) out.gram_condition = golden::condition_number(trial.gram);
   return out;
 }
 
@@ -197,6 +218,39 @@ run_results run_trials(const golden::scenario& scen, const datapath::datapath_co
   out.summary.tx_power_error_db = power_error_sum / n;
   out.summary.max_abs_tx_power_error_db = power_error_max;
   out.summary.rms_tx_power_error_db = std::sqrt(power_error2 / n);
+  // Distributions over trials and users.
+  std::vector<double> losses, impl, conditions;
+  for (const trial_summary& t : per_trial) {
+    for (std::size_t k = 0; k < num_users; ++k)
+      losses.push_back(10 * std::log10(t.sinr_golden[k] / std::max(t.sinr_fixed[k], 1e-300)));
+    impl.push_back(100.0 * t.evm_impl);
+    if (t.gram_condition > 0) conditions.push_back(t.gram_condition);
+  }
+  run_distribution& dist = out.distribution;
+  dist.sinr_loss_p5_db = percentile(losses, 0.05);
+  dist.sinr_loss_p50_db = percentile(losses, 0.50);
+  dist.sinr_loss_p95_db = percentile(losses, 0.95);
+  for (int q = 0; q <= 100; ++q) dist.sinr_loss_percentiles_db.push_back(percentile(losses, q / 100.0));
+  dist.evm_impl_p95_pct = percentile(impl, 0.95);
+  dist.evm_impl_max_pct = *std::max_element(impl.begin(), impl.end());
+  if (!conditions.empty()) {
+    dist.gram_condition_p50 = percentile(conditions, 0.50);
+    dist.gram_condition_p95 = percentile(conditions, 0.95);
+    dist.gram_condition_max = *std::max_element(conditions.begin(), conditions.end());
+    // The inverse's eigenvalues span the condition number kappa: its words resolve the weakest
+    // and the strongest direction of G together only with more than log2(kappa) bits beside the
+    // sign (README "Metrics").
+    if (const datapath::node_id inv = datapath::node_id::inv_out;
+        std::find(active.begin(), active.end(), inv) != active.end()) {
+      const int w = config[inv].spec.fmt.word_bits - (config[inv].spec.fmt.is_signed ? 1 : 0);
+      if (std::log2(*dist.gram_condition_p95) > w) {
+        out.warnings.push_back(fmt::format(
+            "the Gram's condition number reaches {:.3g} in 5 % of trials (2^{:.1f}): more than node inv_out's {} "
+            "magnitude bits can resolve",
+            *dist.gram_condition_p95, std::log2(*dist.gram_condition_p95), w));
+      }
+    }
+  }
   if (outside_convergence > 0) {
     out.warnings.push_back(fmt::format(
         "Neumann series outside its convergence region (spectral radius of I - D^-1 G >= 1) in {} of {} trials: "

@@ -4,6 +4,8 @@
 
 #include <cmath>
 
+#include "fxmimo/analysis/range.hpp"
+
 namespace fxmimo::analysis {
 
 namespace fp = fxmimo::fixedpoint;
@@ -75,6 +77,43 @@ sweep_results run_sweep(const golden::scenario& scen, const datapath::datapath_c
       }
       out.points.push_back(p);
     }
+  }
+  return out;
+}
+
+key_sweep_results run_key_sweep(const std::vector<golden::scenario>& scenarios, const std::vector<std::string>& values,
+                                const std::string& key, const datapath::datapath_config& config,
+                                const std::vector<std::uint64_t>& trials, unsigned num_threads,
+                                const progress_callback& progress) {
+  if (scenarios.empty() || scenarios.size() != values.size())
+    throw std::invalid_argument("a key sweep needs one scenario per value");
+  const std::vector<datapath::node_id> nodes = datapath::active_nodes(scenarios.front());
+  for (std::size_t i = 0; i < scenarios.size(); ++i) {
+    if (datapath::active_nodes(scenarios[i]) != nodes)
+      throw std::invalid_argument(fmt::format(
+          "{} = {} changes the datapath's nodes (the algorithm); sweep keys that keep them", key, values[i]));
+  }
+  key_sweep_results out;
+  out.scenario_name = scenarios.front().name;
+  out.key = key;
+  out.num_trials = trials.size();
+  const std::size_t total = scenarios.size() * trials.size();
+  std::size_t before = 0;
+  for (std::size_t i = 0; i < scenarios.size(); ++i) {
+    const run_results r = run_trials(scenarios[i], config, trials, num_threads, [&](std::size_t done, std::size_t) {
+      if (progress) progress(before + done, total);
+    });
+    before += trials.size();
+    key_sweep_point p;
+    p.value = values[i];
+    p.summary = r.summary;
+    p.interference_db = 20.0 * std::log10(r.summary.evm_golden_pct / 100.0);
+    for (const node_result& n : r.nodes) {
+      p.max_overflow_rate = std::max(p.max_overflow_rate, n.overflow_rate());
+      if (datapath::role_of(n.id) == datapath::node_role::accumulator)
+        p.growth_int_bits.emplace_back(n.id, int_bits_for(n.max_abs_golden));
+    }
+    out.points.push_back(std::move(p));
   }
   return out;
 }

@@ -4,7 +4,9 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <sstream>
+#include <stdexcept>
 
 namespace fxmimo::analysis {
 
@@ -17,9 +19,9 @@ double tune_figures::worst_ratio(const tune_limits& l) const {
                    ratio(rms_tx_power_error_db, l.max_rms_tx_power_error_db)});
 }
 
-tune_figures figures_of(const run_results& r) {
+tune_figures figures_of(const run_results& r, const tune_limits& limits) {
   tune_figures f;
-  f.sinr_loss_db = r.summary.sinr_loss_db;
+  f.sinr_loss_db = sinr_loss_statistic(r, limits.sinr_loss_percentile);
   f.evm_pct = r.summary.evm_impl_pct;
   f.rms_tx_power_error_db = r.summary.rms_tx_power_error_db;
   for (const node_result& n : r.nodes) f.max_overflow_rate = std::max(f.max_overflow_rate, n.overflow_rate());
@@ -134,29 +136,119 @@ std::vector<int> greedy_search(const std::vector<int>& lo, const std::vector<int
   return x;
 }
 
+namespace {
+
+/// The largest of each figure over the corners.
+tune_figures worst_of(const std::vector<tune_figures>& all) {
+  tune_figures w;
+  w.sinr_loss_db = -std::numeric_limits<double>::infinity();
+  for (const tune_figures& f : all) {
+    w.sinr_loss_db = std::max(w.sinr_loss_db, f.sinr_loss_db);
+    w.evm_pct = std::max(w.evm_pct, f.evm_pct);
+    w.max_overflow_rate = std::max(w.max_overflow_rate, f.max_overflow_rate);
+    w.rms_tx_power_error_db = std::max(w.rms_tx_power_error_db, f.rms_tx_power_error_db);
+  }
+  return w;
+}
+
+/// Why the fresh trials fail: each limit exceeded, the nodes whose fresh golden values went
+/// beyond their integer bits (the range profile did not see them), and the Gram's condition
+/// number, which the inverse's dynamic range follows.
+std::string fresh_failure_diagnosis(const tune_results& r, const std::vector<int>& int_bits) {
+  std::vector<std::string> parts;
+  const tune_figures& f = r.verification;
+  const tune_limits& l = r.limits;
+  if (f.sinr_loss_db > l.max_sinr_loss_db)
+    parts.push_back(fmt::format("SINR loss {:.4g} dB > {:g} dB", f.sinr_loss_db, l.max_sinr_loss_db));
+  if (f.evm_pct > l.max_evm_pct)
+    parts.push_back(fmt::format("implementation EVM {:.4g} % > {:g} % (worst trial {:.4g} %)", f.evm_pct, l.max_evm_pct,
+                                r.verify_distribution.evm_impl_max_pct));
+  if (f.rms_tx_power_error_db > l.max_rms_tx_power_error_db)
+    parts.push_back(
+        fmt::format("RMS power error {:.4g} dB > {:g} dB", f.rms_tx_power_error_db, l.max_rms_tx_power_error_db));
+  if (f.max_overflow_rate > l.max_overflow_rate)
+    parts.push_back(fmt::format("overflow rate {:.3g} > {:g}", f.max_overflow_rate, l.max_overflow_rate));
+  std::string beyond;
+  for (std::size_t i = 0; i < r.nodes.size(); ++i) {
+    for (const node_result& n : r.verify_nodes) {
+      if (n.id == r.nodes[i] && n.max_abs_golden >= std::ldexp(1.0, int_bits[i]))
+        beyond += fmt::format("{}{} {:.4g} >= 2^{}", beyond.empty() ? "" : ", ", datapath::node_name(n.id),
+                              n.max_abs_golden, int_bits[i]);
+    }
+  }
+  std::string out = parts.empty() ? std::string("limits exceeded") : parts.front();
+  for (std::size_t i = 1; i < parts.size(); ++i) out += "; " + parts[i];
+  if (!beyond.empty())
+    out += fmt::format(
+        ". Fresh golden values beyond the integer bits from {} range trials: {} (the tail is heavier than the "
+        "profile saw: more --range-trials, or a design that bounds these values)",
+        r.range_trials, beyond);
+  // Only where values outgrew the profile and the Gram is badly conditioned (a common cause).
+  if (const auto& c = r.verify_distribution.gram_condition_max; c && !beyond.empty() && *c > 1e4) {
+    out += fmt::format(
+        ". The Gram's condition number on the fresh trials: {:.3g} at 95 %, {:.3g} worst (2^{:.1f}); a ZF "
+        "inverse's entries follow 1 / lambda_min, so fixed binary points cannot hold such trials (regularise, "
+        "schedule fewer users, or normalise per block)",
+        r.verify_distribution.gram_condition_p95.value_or(0.0), *c, std::log2(*c));
+  }
+  return out;
+}
+
+}  // namespace
+
 tune_results tune_widths(const golden::scenario& scen, const datapath::datapath_config& start,
-                         const tune_limits& limits, cost_model model, int num_trials, unsigned num_threads,
-                         double overflow_prob, double search_margin,
+                         const tune_limits& limits, cost_model model, const tune_trial_counts& trials,
+                         unsigned num_threads, double overflow_prob, double search_margin,
                          const std::function<void(const std::string&)>& status) {
+  return tune_widths_at_corners({tune_corner{"", scen, trials}}, start, limits, model, num_threads, overflow_prob,
+                                search_margin, status);
+}
+
+tune_results tune_widths_at_corners(const std::vector<tune_corner>& corners, const datapath::datapath_config& start,
+                                    const tune_limits& limits, cost_model model, unsigned num_threads,
+                                    double overflow_prob, double search_margin,
+                                    const std::function<void(const std::string&)>& status) {
+  if (corners.empty()) throw std::invalid_argument("tune needs at least one corner");
   auto say = [&](const std::string& s) {
     if (status) status(s);
   };
+  const golden::scenario& base = corners.front().scen;
+  const bool several = corners.size() > 1;
+  auto label = [&](const tune_corner& c) { return several ? "corner " + c.name + ": " : std::string(); };
   tune_results out;
-  out.scenario_name = scen.name;
+  out.scenario_name = base.name;
   out.limits = limits;
   out.model = model;
-  out.nodes = datapath::active_nodes(scen);
-  out.search_trials = first_trials(num_trials);
-  for (int t = 0; t < num_trials; ++t) out.verify_trials.push_back(static_cast<std::uint64_t>(num_trials + t));
+  out.nodes = datapath::active_nodes(base);
+  for (const tune_corner& c : corners) {
+    if (datapath::active_nodes(c.scen) != out.nodes)
+      throw std::invalid_argument(
+          fmt::format("corner {} has other datapath nodes than the first (its algorithm differs)", c.name));
+  }
+  // The search trials are the same indices at every corner; the fresh trials of a corner follow
+  // its search and range trials, so none of them was seen by either.
+  const int search_count = corners.front().trials.search;
+  out.search_trials = first_trials(search_count);
+  out.range_trials = corners.front().trials.range;
+  const std::size_t n = out.nodes.size();
 
-  say("range profiling for integer bits");
-  const range_results ranges = profile_ranges(scen, start, num_trials, num_threads, overflow_prob);
-  std::vector<int> int_bits;
-  for (const node_range& r : ranges.nodes) int_bits.push_back(r.proposed_int_bits);
+  // Integer bits: at each node the largest proposal over the corners.
+  std::vector<int> int_bits(n, std::numeric_limits<int>::min());
+  out.int_bits_corner.assign(n, "");
+  for (const tune_corner& c : corners) {
+    say(fmt::format("{}range profiling for integer bits: {} golden trials", label(c), c.trials.range));
+    const range_results ranges =
+        profile_ranges(c.scen, start, static_cast<int>(c.trials.range), num_threads, overflow_prob);
+    for (std::size_t i = 0; i < n; ++i) {
+      if (ranges.nodes[i].proposed_int_bits > int_bits[i]) {
+        int_bits[i] = ranges.nodes[i].proposed_int_bits;
+        out.int_bits_corner[i] = c.name;
+      }
+    }
+  }
 
   // Fraction bits between 0 (or what keeps the word at 2 bits) and what fills 40 bits of word
   // (at most 64).
-  const std::size_t n = out.nodes.size();
   std::vector<int> lo(n), hi(n);
   for (std::size_t i = 0; i < n; ++i) {
     lo[i] = std::max(0, 1 - int_bits[i]);
@@ -171,12 +263,18 @@ tune_results tune_widths(const golden::scenario& scen, const datapath::datapath_
     }
     return c;
   };
+  auto figures_at = [&](const std::vector<int>& frac) {
+    std::vector<tune_figures> all;
+    for (const tune_corner& c : corners)
+      all.push_back(figures_of(run_trials(c.scen, config_of(frac), out.search_trials, num_threads), limits));
+    return all;
+  };
   int step = 0;
   auto evaluate = [&](const std::vector<int>& frac) {
     if (++step % 10 == 0) say(fmt::format("search: {} evaluations", step));
-    return figures_of(run_trials(scen, config_of(frac), out.search_trials, num_threads));
+    return worst_of(figures_at(frac));
   };
-  auto cost = [&](const std::vector<int>& frac) { return datapath_cost(scen, config_of(frac), model); };
+  auto cost = [&](const std::vector<int>& frac) { return datapath_cost(base, config_of(frac), model); };
   say("searching fraction bits");
   // The search aims below the limits by the margin, so that the fresh trials of the
   // verification (a different sample) still meet them.
@@ -186,17 +284,72 @@ tune_results tune_widths(const golden::scenario& scen, const datapath::datapath_
   search_limits.max_rms_tx_power_error_db *= 1.0 - search_margin;
   const std::vector<int> best = greedy_search(lo, hi, evaluate, cost, search_limits, out.evaluations);
   out.config = config_of(best);
-  out.cost = datapath_cost(scen, out.config, model);
-  out.search = figures_of(run_trials(scen, out.config, out.search_trials, num_threads));
-  say("verifying on fresh trials");
-  out.verification = figures_of(run_trials(scen, out.config, out.verify_trials, num_threads));
-  out.met = out.verification.meets(limits);
+  out.cost = datapath_cost(base, out.config, model);
+
+  // Which corner a node's last fraction bit is for: one bit less, the corner furthest past its
+  // limits (none when one bit less still meets them everywhere, or the node is at its minimum).
+  out.frac_bits_corner.assign(n, "");
+  if (several) {
+    for (std::size_t i = 0; i < n; ++i) {
+      if (best[i] <= lo[i]) continue;
+      std::vector<int> y = best;
+      --y[i];
+      const std::vector<tune_figures> all = figures_at(y);
+      out.evaluations += 1;
+      double worst = 1.0;
+      for (std::size_t c = 0; c < corners.size(); ++c) {
+        if (const double r = all[c].worst_ratio(search_limits); r > worst) {
+          worst = r;
+          out.frac_bits_corner[i] = corners[c].name;
+        }
+      }
+    }
+  }
+
+  std::vector<tune_figures> searched = figures_at(best), verified;
+  double worst_verified = -1.0;
+  for (std::size_t c = 0; c < corners.size(); ++c) {
+    const tune_corner& corner = corners[c];
+    corner_outcome o;
+    o.name = corner.name;
+    o.range_trials = corner.trials.range;
+    const std::size_t first_fresh =
+        std::max<std::size_t>(static_cast<std::size_t>(corner.trials.search), corner.trials.range);
+    for (std::size_t t = 0; t < corner.trials.verify; ++t) o.verify_trials.push_back(first_fresh + t);
+    say(fmt::format("{}verifying on {} fresh trials", label(corner), o.verify_trials.size()));
+    const run_results fresh = run_trials(corner.scen, out.config, o.verify_trials, num_threads);
+    o.search = searched[c];
+    o.verification = figures_of(fresh, limits);
+    verified.push_back(o.verification);
+    for (const node_result& node : fresh.nodes) {
+      if (node.overflow_rate_bound() >= o.proven_overflow_bound) {
+        o.proven_overflow_bound = node.overflow_rate_bound();
+        o.weakest_node = node.id;
+      }
+    }
+    o.met = o.verification.meets(limits);
+    // The per-node results and distributions shown are the corner furthest from its limits.
+    if (const double r = o.verification.worst_ratio(limits); r > worst_verified) {
+      worst_verified = r;
+      out.verify_trials = o.verify_trials;
+      out.verify_nodes = fresh.nodes;
+      out.verify_distribution = fresh.distribution;
+      out.users = fresh.users.size();
+    }
+    if (o.proven_overflow_bound >= out.proven_overflow_bound) {
+      out.proven_overflow_bound = o.proven_overflow_bound;
+      out.weakest_node = o.weakest_node;
+    }
+    out.corners.push_back(std::move(o));
+  }
+  out.search = worst_of(searched);
+  out.verification = worst_of(verified);
+  out.met = std::all_of(out.corners.begin(), out.corners.end(), [](const corner_outcome& o) { return o.met; });
   if (!out.search.meets(limits)) {
     out.note = "no setting of at most 64 bits per node meets the limits on the search trials";
   } else if (!out.met) {
-    out.note =
-        "the choice meets the limits on the search trials but not on the fresh trials: "
-        "use more trials or tighter margins";
+    out.note = "the choice meets the limits on the search trials but not on the fresh trials: " +
+               fresh_failure_diagnosis(out, int_bits);
   }
   return out;
 }

@@ -69,9 +69,12 @@ int run_demo(const demo_options& opt) {
   write_file_atomically(dir / "run.json", run_json.dump(2) + "\n");
 
   // 2. Where the values live: integer bits per node.
-  fmt::print("\n== range: golden values per node ==\n");
+  const std::size_t range_trials = 2000;
+  fmt::print("\n== range: golden values per node, {} trials ==\n", range_trials);
+  progress_line range_progress("golden trials");
   const analysis::range_results ranges =
-      analysis::profile_ranges(in.scen, in.config, in.scen.num_trials, opt.num_threads, 1e-6);
+      analysis::profile_ranges(in.scen, in.config, static_cast<int>(range_trials), opt.num_threads, 1e-6,
+                               [&](std::size_t d, std::size_t t) { range_progress.update(d, t); });
   fmt::print("{}", report::format_range_table(ranges));
   const nlohmann::json range_json = report::to_json(report::make_record(ranges));
   write_file_atomically(dir / "range.json", range_json.dump(2) + "\n");
@@ -93,13 +96,13 @@ int run_demo(const demo_options& opt) {
   limits.max_sinr_loss_db = 0.05;
   limits.max_evm_pct = 0.1 * *analysis::bs_evm_limit_pct(in.scen.data.mod);
   limits.max_overflow_rate = 1e-6;
-  const int tune_trials = 12;
+  const analysis::tune_trial_counts counts{12, range_trials, 200};
   fmt::print(
       "\n== tune: SINR loss <= {} dB, implementation EVM <= {} % (a tenth of the TS 38.104 limit), "
-      "{} trials, verified on {} fresh ones ==\n",
-      limits.max_sinr_loss_db, limits.max_evm_pct, tune_trials, tune_trials);
+      "{} trials, integer bits from {} golden trials, verified on {} fresh ones ==\n",
+      limits.max_sinr_loss_db, limits.max_evm_pct, counts.search, counts.range, counts.verify);
   const analysis::tune_results tuned = analysis::tune_widths(in.scen, in.config, limits, analysis::cost_model::bits,
-                                                             tune_trials, opt.num_threads, 1e-6, 0.1, show_status);
+                                                             counts, opt.num_threads, 1e-6, 0.1, show_status);
   show_status("");
   fmt::print("{}", report::format_tune_table(tuned));
   const nlohmann::json tune_json = report::to_json(report::make_record(in.scen, tuned));

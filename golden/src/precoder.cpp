@@ -1,6 +1,8 @@
 #include "fxmimo/golden/precoder.hpp"
 
+#include <Eigen/Eigenvalues>
 #include <cmath>
+#include <limits>
 
 #include "fxmimo/golden/neumann.hpp"
 
@@ -76,6 +78,13 @@ precoder_output compute_precoder(const scenario& scen, const Eigen::MatrixXcd& c
     out.weights = out.norm.asDiagonal() * out.precoder;
   }
   return out;
+}
+
+double condition_number(const Eigen::MatrixXcd& hermitian) {
+  const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXcd> eig(hermitian, Eigen::EigenvaluesOnly);
+  const Eigen::VectorXd& l = eig.eigenvalues();  // ascending
+  if (!(l(0) > 0)) return std::numeric_limits<double>::infinity();
+  return l(l.size() - 1) / l(0);
 }
 
 }  // namespace fxmimo::golden

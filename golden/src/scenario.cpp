@@ -562,6 +562,50 @@ scenario_document parse_scenario_document(std::string text, std::string source_n
   return {std::move(source_name), std::move(text), std::move(root)};
 }
 
+scenario_override parse_override(std::string_view text) {
+  const auto eq = text.find('=');
+  if (eq == std::string_view::npos || eq == 0 || eq + 1 == text.size())
+    throw std::invalid_argument(fmt::format("bad override '{}': expected KEY=VALUE, e.g. data.snr_db=10", text));
+  return {std::string(text.substr(0, eq)), std::string(text.substr(eq + 1))};
+}
+
+scenario_document with_overrides(scenario_document doc, const std::vector<scenario_override>& overrides) {
+  std::string names;
+  for (const scenario_override& o : overrides) {
+    const std::string where = fmt::format("{} (override {}={})", doc.source_name, o.key, o.value);
+    const toml::table parsed = parse_toml("value = " + o.value + "\n", where);
+    const toml::node* value = parsed.get("value");
+    const auto dot = o.key.rfind('.');
+    const std::string table_name = dot == std::string::npos ? "" : o.key.substr(0, dot);
+    const std::string leaf = dot == std::string::npos ? o.key : o.key.substr(dot + 1);
+    if (leaf.empty() || (dot != std::string::npos && table_name.empty()))
+      throw scenario_error(doc.source_name, 0, o.key, fmt::format("override {}={}: not a dotted key", o.key, o.value));
+    toml::table* table = &doc.root;
+    std::size_t start = 0;
+    while (start < table_name.size()) {
+      const auto next = table_name.find('.', start);
+      const std::string part = table_name.substr(start, next == std::string::npos ? std::string::npos : next - start);
+      if (part.empty())
+        throw scenario_error(doc.source_name, 0, o.key,
+                             fmt::format("override {}={}: not a dotted key", o.key, o.value));
+      if (!table->contains(part)) table->insert(part, toml::table{});
+      table = (*table)[part].as_table();
+      if (table == nullptr)
+        throw scenario_error(doc.source_name, 0, o.key,
+                             fmt::format("override {}={}: '{}' is not a table", o.key, o.value, part));
+      if (next == std::string::npos) break;
+      start = next + 1;
+    }
+    if (table->get(leaf) != nullptr && table->get(leaf)->is_table())
+      throw scenario_error(doc.source_name, 0, o.key,
+                           fmt::format("override {}={}: the key names a table, not a value", o.key, o.value));
+    value->visit([&](const auto& v) { table->insert_or_assign(leaf, v); });
+    names += (names.empty() ? "" : ", ") + o.key + "=" + o.value;
+  }
+  if (!names.empty()) doc.source_name += " [" + names + "]";
+  return doc;
+}
+
 scenario parse_scenario_text(std::string_view toml_text, std::string source_name) {
   return parse_scenario(parse_scenario_document(std::string(toml_text), std::move(source_name)));
 }

@@ -5,6 +5,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 
 #include "fxmimo/datapath/node_table.hpp"
 #include "fxmimo/datapath/plan.hpp"
@@ -70,6 +71,53 @@ std::optional<metric> optional_metric(const checked_json& obj, std::string_view 
   return std::nullopt;
 }
 
+distribution_record distribution_of(const analysis::run_distribution& d) {
+  return {finite_or_none(d.sinr_loss_p5_db),
+          finite_or_none(d.sinr_loss_p50_db),
+          finite_or_none(d.sinr_loss_p95_db),
+          d.sinr_loss_percentiles_db,
+          finite_or_none(d.evm_impl_p95_pct),
+          finite_or_none(d.evm_impl_max_pct),
+          d.gram_condition_p50,
+          d.gram_condition_p95,
+          d.gram_condition_max};
+}
+
+json distribution_json(const distribution_record& d) {
+  json out = {
+      {"sinr_loss_p5_db", metric_json(d.sinr_loss_p5_db)},   {"sinr_loss_p50_db", metric_json(d.sinr_loss_p50_db)},
+      {"sinr_loss_p95_db", metric_json(d.sinr_loss_p95_db)}, {"sinr_loss_percentiles_db", json::array()},
+      {"evm_impl_p95_pct", metric_json(d.evm_impl_p95_pct)}, {"evm_impl_max_pct", metric_json(d.evm_impl_max_pct)}};
+  for (double v : d.sinr_loss_percentiles_db) out["sinr_loss_percentiles_db"].push_back(metric_json(finite_or_none(v)));
+  if (d.gram_condition_p50) {
+    out["gram_condition_p50"] = metric_json(finite_or_none(*d.gram_condition_p50));
+    out["gram_condition_p95"] = metric_json(finite_or_none(d.gram_condition_p95.value_or(0)));
+    out["gram_condition_max"] = metric_json(finite_or_none(d.gram_condition_max.value_or(0)));
+  }
+  return out;
+}
+
+distribution_record distribution_from(const checked_json& d) {
+  distribution_record out;
+  out.sinr_loss_p5_db = d["sinr_loss_p5_db"].number_or_null();
+  out.sinr_loss_p50_db = d["sinr_loss_p50_db"].number_or_null();
+  out.sinr_loss_p95_db = d["sinr_loss_p95_db"].number_or_null();
+  const checked_json q = d["sinr_loss_percentiles_db"];
+  if (q.size() != 0 && q.size() != 101) q.fail(fmt::format("{} values; expected 101 (0, 1, ..., 100 %)", q.size()));
+  for (std::size_t i = 0; i < q.size(); ++i) {
+    const metric v = q[i].number_or_null();
+    out.sinr_loss_percentiles_db.push_back(v ? *v : std::numeric_limits<double>::infinity());
+  }
+  out.evm_impl_p95_pct = d["evm_impl_p95_pct"].number_or_null();
+  out.evm_impl_max_pct = d["evm_impl_max_pct"].number_or_null();
+  if (const auto v = d.find("gram_condition_p50")) {
+    out.gram_condition_p50 = v->number_or_null();
+    out.gram_condition_p95 = d["gram_condition_p95"].number_or_null();
+    out.gram_condition_max = d["gram_condition_max"].number_or_null();
+  }
+  return out;
+}
+
 /// The first of `keys` that is present (newest name first).
 std::optional<metric> optional_metric(const checked_json& obj, std::initializer_list<std::string_view> keys) {
   for (const std::string_view key : keys) {
@@ -93,6 +141,7 @@ std::string_view to_string(report_kind kind) {
     case report_kind::range: return "range";
     case report_kind::sweep: return "sweep";
     case report_kind::tune: return "tune";
+    case report_kind::key_sweep: return "key-sweep";
   }
   return "?";
 }
@@ -103,7 +152,7 @@ std::size_t node_rank(std::string_view name) {
 }
 
 report_kind kind_of(const results_record& r) { return static_cast<report_kind>(r.index()); }
-static_assert(std::variant_size_v<results_record> == 4 &&
+static_assert(std::variant_size_v<results_record> == 5 &&
                   std::is_same_v<std::variant_alternative_t<0, results_record>, run_record> &&
                   std::is_same_v<std::variant_alternative_t<3, results_record>, tune_record>,
               "results_record's alternatives follow report_kind's order");
@@ -131,6 +180,7 @@ run_record make_record(const analysis::run_results& r) {
     rec.requantized = n.counters.requantized;
     rec.inexact = n.counters.inexact;
     rec.max_overflow_excess_lsb = n.counters.max_excess_lsb;
+    rec.overflow_rate_bound = finite_or_none(n.overflow_rate_bound());
     out.nodes.push_back(std::move(rec));
   }
   for (const analysis::user_result& u : r.users) {
@@ -149,6 +199,7 @@ run_record make_record(const analysis::run_results& r) {
                  finite_or_none(s.tx_power_error_db),
                  finite_or_none(s.max_abs_tx_power_error_db),
                  finite_or_none(s.rms_tx_power_error_db)};
+  out.distribution = distribution_of(r.distribution);
   out.warnings = r.warnings;
   return out;
 }
@@ -176,6 +227,7 @@ json to_json(const run_record& r) {
     if (n.requantized) j["requantized"] = *n.requantized;
     if (n.inexact) j["inexact"] = *n.inexact;
     if (n.max_overflow_excess_lsb) j["max_overflow_excess_lsb"] = *n.max_overflow_excess_lsb;
+    if (n.overflow_rate_bound) j["overflow_rate_bound_95"] = metric_json(*n.overflow_rate_bound);
     out["nodes"][n.node] = std::move(j);
   }
   out["users"] = json::array();
@@ -196,6 +248,7 @@ json to_json(const run_record& r) {
   if (s.max_abs_tx_power_error_db)
     out["summary"]["max_abs_tx_power_error_db"] = metric_json(*s.max_abs_tx_power_error_db);
   if (s.rms_tx_power_error_db) out["summary"]["rms_tx_power_error_db"] = metric_json(*s.rms_tx_power_error_db);
+  if (r.distribution) out["distribution"] = distribution_json(*r.distribution);
   out["warnings"] = r.warnings;
   return out;
 }
@@ -223,6 +276,7 @@ run_record run_from_json(const checked_json& doc) {
     if (const auto v = n.find("requantized")) rec.requantized = v->count();
     if (const auto v = n.find("inexact")) rec.inexact = v->count();
     if (const auto v = n.find("max_overflow_excess_lsb")) rec.max_overflow_excess_lsb = v->number();
+    if (const auto v = n.find("overflow_rate_bound_95")) rec.overflow_rate_bound = v->number_or_null();
     r.nodes.push_back(std::move(rec));
   }
   sort_by_datapath_order(r.nodes);
@@ -244,6 +298,7 @@ run_record run_from_json(const checked_json& doc) {
   r.summary.tx_power_error_db = optional_metric(s, "tx_power_error_db");
   r.summary.max_abs_tx_power_error_db = optional_metric(s, "max_abs_tx_power_error_db");
   r.summary.rms_tx_power_error_db = optional_metric(s, "rms_tx_power_error_db");
+  if (const auto d = doc.find("distribution")) r.distribution = distribution_from(*d);
   const checked_json warnings = doc["warnings"];
   for (std::size_t i = 0; i < warnings.size(); ++i) r.warnings.push_back(warnings[i].text());
   return r;
@@ -256,10 +311,18 @@ range_record make_record(const analysis::range_results& r) {
   out.scenario = {r.scenario_name, ""};
   out.trials = r.num_trials;
   out.overflow_prob = r.overflow_prob;
+  out.gram_condition_p50 = r.gram_condition_p50;
+  out.gram_condition_p95 = r.gram_condition_p95;
+  out.gram_condition_max = r.gram_condition_max;
   for (const analysis::node_range& n : r.nodes) {
     out.nodes.push_back({std::string(datapath::node_name(n.id)), n.num_values, n.max_abs, n.p99, n.p9999, n.p999999,
                          n.proposed_int_bits, n.proposal_basis, n.analytic_int_bits, n.analytic_rule, n.hist_min_exp,
-                         n.log2_histogram});
+                         n.log2_histogram, std::nullopt});
+    if (n.tail) {
+      const analysis::tail_fit& t = *n.tail;
+      out.nodes.back().tail =
+          tail_record{t.num_exceedances, t.threshold, t.shape, t.scale, t.quantile, t.upper_bound, t.confidence};
+    }
   }
   return out;
 }
@@ -268,6 +331,11 @@ json to_json(const range_record& r) {
   json out = file_head(report_kind::range, r.scenario, false);
   out["trials"] = r.trials;
   out["overflow_prob"] = r.overflow_prob;
+  if (r.gram_condition_p50) {
+    out["gram_condition"] = {{"p50", metric_json(finite_or_none(*r.gram_condition_p50))},
+                             {"p95", metric_json(finite_or_none(r.gram_condition_p95.value_or(0)))},
+                             {"max", metric_json(finite_or_none(r.gram_condition_max.value_or(0)))}};
+  }
   out["nodes"] = json::object();
   for (const range_node_record& n : r.nodes) {
     out["nodes"][n.node] = {
@@ -283,6 +351,15 @@ json to_json(const range_record& r) {
         {"hist_min_exp", n.hist_min_exp},
         {"log2_histogram", n.log2_histogram},
     };
+    if (n.tail) {
+      out["nodes"][n.node]["tail"] = {{"exceedances", n.tail->exceedances},
+                                      {"threshold", n.tail->threshold},
+                                      {"shape", n.tail->shape},
+                                      {"scale", n.tail->scale},
+                                      {"quantile", n.tail->quantile},
+                                      {"upper_bound", n.tail->upper_bound},
+                                      {"confidence", n.tail->confidence}};
+    }
   }
   return out;
 }
@@ -292,6 +369,11 @@ range_record range_from_json(const checked_json& doc) {
   r.scenario = scenario_from(doc);
   r.trials = doc["trials"].count();
   r.overflow_prob = doc["overflow_prob"].number();
+  if (const auto c = doc.find("gram_condition")) {
+    r.gram_condition_p50 = (*c)["p50"].number_or_null();
+    r.gram_condition_p95 = (*c)["p95"].number_or_null();
+    r.gram_condition_max = (*c)["max"].number_or_null();
+  }
   const checked_json nodes = doc["nodes"];
   for (const std::string& name : nodes.keys()) {
     const checked_json n = nodes[name];
@@ -308,6 +390,11 @@ range_record range_from_json(const checked_json& doc) {
     rec.analytic_rule = n["analytic_rule"].text();
     rec.hist_min_exp = n["hist_min_exp"].int_value();
     rec.log2_histogram = counts_from(n["log2_histogram"]);
+    if (const auto t = n.find("tail")) {
+      rec.tail = tail_record{(*t)["exceedances"].count(), (*t)["threshold"].number(), (*t)["shape"].number(),
+                             (*t)["scale"].number(),      (*t)["quantile"].number(),  (*t)["upper_bound"].number(),
+                             (*t)["confidence"].number()};
+    }
     r.nodes.push_back(std::move(rec));
   }
   sort_by_datapath_order(r.nodes);
@@ -388,6 +475,73 @@ sweep_record sweep_from_json(const checked_json& doc) {
   return r;
 }
 
+// --- key sweep --------------------------------------------------------------------------------
+
+key_sweep_record make_record(const analysis::key_sweep_results& r) {
+  key_sweep_record out;
+  out.scenario = {r.scenario_name, ""};
+  out.trials = r.num_trials;
+  out.key = r.key;
+  for (const analysis::key_sweep_point& p : r.points) {
+    key_sweep_point_record rec{p.value,
+                               finite_or_none(p.summary.sinr_golden_db),
+                               finite_or_none(p.summary.sinr_fixed_db),
+                               finite_or_none(p.summary.sinr_loss_db),
+                               finite_or_none(p.summary.evm_impl_pct),
+                               finite_or_none(p.interference_db),
+                               finite_or_none(p.max_overflow_rate),
+                               {}};
+    for (const auto& [id, bits] : p.growth_int_bits) rec.growth_int_bits.emplace_back(datapath::node_name(id), bits);
+    out.points.push_back(std::move(rec));
+  }
+  return out;
+}
+
+json to_json(const key_sweep_record& r) {
+  json out = file_head(report_kind::key_sweep, r.scenario, false);
+  out["trials"] = r.trials;
+  out["key"] = r.key;
+  out["points"] = json::array();
+  for (const key_sweep_point_record& p : r.points) {
+    json growth = json::object();
+    for (const auto& [node, bits] : p.growth_int_bits) growth[node] = bits;
+    out["points"].push_back({{"value", p.value},
+                             {"sinr_golden_db", metric_json(p.sinr_golden_db)},
+                             {"sinr_fixed_db", metric_json(p.sinr_fixed_db)},
+                             {"sinr_loss_db", metric_json(p.sinr_loss_db)},
+                             {"evm_impl_pct", metric_json(p.evm_impl_pct)},
+                             {"interference_db", metric_json(p.interference_db)},
+                             {"max_overflow_rate", metric_json(p.max_overflow_rate)},
+                             {"growth_int_bits", growth}});
+  }
+  return out;
+}
+
+key_sweep_record key_sweep_from_json(const checked_json& doc) {
+  key_sweep_record r;
+  r.scenario = scenario_from(doc);
+  r.trials = doc["trials"].count();
+  r.key = doc["key"].text();
+  const checked_json points = doc["points"];
+  for (std::size_t i = 0; i < points.size(); ++i) {
+    const checked_json p = points[i];
+    key_sweep_point_record rec{p["value"].text(),
+                               p["sinr_golden_db"].number_or_null(),
+                               p["sinr_fixed_db"].number_or_null(),
+                               p["sinr_loss_db"].number_or_null(),
+                               p["evm_impl_pct"].number_or_null(),
+                               p["interference_db"].number_or_null(),
+                               p["max_overflow_rate"].number_or_null(),
+                               {}};
+    const checked_json growth = p["growth_int_bits"];
+    for (const std::string& node : growth.keys()) rec.growth_int_bits.emplace_back(node, growth[node].int_value());
+    std::stable_sort(rec.growth_int_bits.begin(), rec.growth_int_bits.end(),
+                     [](const auto& a, const auto& b) { return node_rank(a.first) < node_rank(b.first); });
+    r.points.push_back(std::move(rec));
+  }
+  return r;
+}
+
 // --- tune -------------------------------------------------------------------------------------
 
 namespace {
@@ -427,7 +581,10 @@ tune_record make_record(const golden::scenario& scen, const analysis::tune_resul
   const datapath::datapath_plan plan = datapath::stages_for(scen);
   for (datapath::node_id id : r.nodes) {
     out.nodes.push_back({std::string(datapath::node_name(id)), r.config[id].spec.fmt, r.config[id].spec.rounding,
-                         r.config[id].spec.overflow, analysis::node_cost(plan, r.config, id, r.model)});
+                         r.config[id].spec.overflow, analysis::node_cost(plan, r.config, id, r.model), std::nullopt});
+    for (const analysis::node_result& n : r.verify_nodes) {
+      if (n.id == id) out.nodes.back().overflow_rate_bound = finite_or_none(n.overflow_rate_bound());
+    }
   }
   out.search = figures_of(r.search);
   out.search_trials = r.search_trials.size();
@@ -435,6 +592,21 @@ tune_record make_record(const golden::scenario& scen, const analysis::tune_resul
   out.verification = figures_of(r.verification);
   out.verification_trials = r.verify_trials.size();
   out.verification_trial_indices = r.verify_trials;
+  out.range_trials = r.range_trials;
+  out.sinr_loss_percentile = r.limits.sinr_loss_percentile;
+  if (!r.verify_nodes.empty()) {
+    out.proven_overflow_bound = finite_or_none(r.proven_overflow_bound);
+    out.weakest_node = std::string(datapath::node_name(r.weakest_node));
+    out.verification_distribution = distribution_of(r.verify_distribution);
+  }
+  if (r.corners.size() > 1) {
+    for (const analysis::corner_outcome& c : r.corners) {
+      out.corners.push_back(
+          {c.name, figures_of(c.verification), finite_or_none(c.proven_overflow_bound), c.verify_trials.size(), c.met});
+    }
+    out.int_bits_corner = r.int_bits_corner;
+    out.frac_bits_corner = r.frac_bits_corner;
+  }
   out.meets_limits = r.met;
   out.note = r.note;
   return out;
@@ -457,6 +629,7 @@ json to_json(const tune_record& r) {
               {"cost", n.cost}};
     if (n.rounding) j["rounding"] = std::string(fp::to_string(*n.rounding));
     if (n.overflow) j["overflow"] = std::string(fp::to_string(*n.overflow));
+    if (n.overflow_rate_bound) j["overflow_rate_bound_95"] = metric_json(*n.overflow_rate_bound);
     out["nodes"][n.node] = std::move(j);
   }
   if (r.search) {
@@ -467,6 +640,29 @@ json to_json(const tune_record& r) {
   out["verification"] = figures_json(r.verification);
   if (r.verification_trials) out["verification"]["trials"] = *r.verification_trials;
   if (r.verification_trial_indices) out["verification"]["trial_indices"] = *r.verification_trial_indices;
+  if (r.proven_overflow_bound) {
+    out["verification"]["proven_overflow_bound_95"] = metric_json(*r.proven_overflow_bound);
+    out["verification"]["weakest_node"] = r.weakest_node;
+  }
+  if (r.verification_distribution)
+    out["verification"]["distribution"] = distribution_json(*r.verification_distribution);
+  if (r.range_trials) out["range_trials"] = *r.range_trials;
+  if (!r.corners.empty()) {
+    out["corners"] = json::array();
+    for (const corner_record& c : r.corners) {
+      json j = figures_json(c.verification);
+      j["name"] = c.name;
+      j["proven_overflow_bound_95"] = metric_json(c.proven_overflow_bound);
+      j["trials"] = c.verification_trials;
+      j["meets_limits"] = c.meets_limits;
+      out["corners"].push_back(std::move(j));
+    }
+    for (std::size_t i = 0; i < r.nodes.size() && i < r.int_bits_corner.size(); ++i) {
+      out["nodes"][r.nodes[i].node]["int_bits_corner"] = r.int_bits_corner[i];
+      out["nodes"][r.nodes[i].node]["frac_bits_corner"] = r.frac_bits_corner[i];
+    }
+  }
+  if (r.sinr_loss_percentile) out["limits"]["sinr_loss_percentile"] = *r.sinr_loss_percentile;
   out["verification"]["meets_limits"] = r.meets_limits;
   out["margins"] = {{"sinr_loss_db", metric_json(margin(r.max_sinr_loss_db, r.verification.sinr_loss_db))},
                     {"evm_pct", metric_json(margin(r.max_evm_pct, r.verification.evm_impl_pct))},
@@ -516,9 +712,12 @@ tune_record tune_from_json(const checked_json& doc) {
     if (const auto v = n.find("rounding")) rec.rounding = rounding_from(*v);
     if (const auto v = n.find("overflow")) rec.overflow = overflow_from(*v);
     rec.cost = n["cost"].number();
+    if (const auto v = n.find("overflow_rate_bound_95")) rec.overflow_rate_bound = v->number_or_null();
     r.nodes.push_back(std::move(rec));
   }
   sort_by_datapath_order(r.nodes);
+  if (const auto v = limits.find("sinr_loss_percentile")) r.sinr_loss_percentile = v->number();
+  if (const auto v = doc.find("range_trials")) r.range_trials = v->count();
   if (const auto search = doc.find("search")) {
     r.search = figures_from(*search);
     if (const auto v = search->find("trials")) r.search_trials = v->count();
@@ -528,6 +727,23 @@ tune_record tune_from_json(const checked_json& doc) {
   r.verification = figures_from(ver);
   if (const auto v = ver.find("trials")) r.verification_trials = v->count();
   if (const auto v = ver.find("trial_indices")) r.verification_trial_indices = counts_from(*v);
+  if (const auto v = ver.find("proven_overflow_bound_95")) {
+    r.proven_overflow_bound = v->number_or_null();
+    r.weakest_node = ver["weakest_node"].text();
+  }
+  if (const auto v = ver.find("distribution")) r.verification_distribution = distribution_from(*v);
+  if (const auto cs = doc.find("corners")) {
+    for (std::size_t i = 0; i < cs->size(); ++i) {
+      const checked_json c = (*cs)[i];
+      r.corners.push_back({c["name"].text(), figures_from(c), c["proven_overflow_bound_95"].number_or_null(),
+                           c["trials"].count(), c["meets_limits"].boolean()});
+    }
+    for (const tune_node_record& n : r.nodes) {
+      const checked_json node = nodes[n.node];
+      r.int_bits_corner.push_back(node["int_bits_corner"].text());
+      r.frac_bits_corner.push_back(node["frac_bits_corner"].text());
+    }
+  }
   r.meets_limits = ver["meets_limits"].boolean();
   if (const auto v = doc.find("note")) r.note = v->text();
   return r;
@@ -560,7 +776,8 @@ report_kind kind_of(const checked_json& doc) {
     }
   }
   const std::string k = kind->text();
-  for (const report_kind candidate : {report_kind::run, report_kind::range, report_kind::sweep, report_kind::tune}) {
+  for (const report_kind candidate :
+       {report_kind::run, report_kind::range, report_kind::sweep, report_kind::tune, report_kind::key_sweep}) {
     if (k == to_string(candidate)) return candidate;
   }
   std::string shown = k.substr(0, 60);
@@ -576,6 +793,7 @@ results_record record_from_json(const checked_json& doc) {
     case report_kind::range: return range_from_json(doc);
     case report_kind::sweep: return sweep_from_json(doc);
     case report_kind::tune: return tune_from_json(doc);
+    case report_kind::key_sweep: return key_sweep_from_json(doc);
   }
   throw std::logic_error("record_from_json: unknown report_kind");
 }

@@ -38,4 +38,51 @@ std::string to_csv(const analysis::sweep_results& r) {
   return out;
 }
 
+std::string format_key_sweep_table(const analysis::key_sweep_results& r) {
+  std::string out =
+      fmt::format("scenario {}, {} trials per point, sweeping {}\n\n", r.scenario_name, r.num_trials, r.key);
+  std::string growth_head;
+  if (!r.points.empty()) {
+    for (const auto& [id, bits] : r.points.front().growth_int_bits)
+      growth_head += fmt::format(" {:>9}", datapath::node_name(id));
+  }
+  out += fmt::format("{:<12} {:>11} {:>12} {:>12} {:>11} {:>12} {:>12} |{}\n", "value", "SINR gold dB", "interf. dB",
+                     "SINR loss dB", "EVM impl %", "max ovf rate", "", growth_head);
+  for (const analysis::key_sweep_point& p : r.points) {
+    std::string growth;
+    for (const auto& [id, bits] : p.growth_int_bits) growth += fmt::format(" {:>9}", bits);
+    out += fmt::format("{:<12} {:>11.2f} {:>12.2f} {:>12.4f} {:>11.4f} {:>12.3g} {:>12} |{}\n", p.value,
+                       p.summary.sinr_golden_db, p.interference_db, p.summary.sinr_loss_db, p.summary.evm_impl_pct,
+                       p.max_overflow_rate, "", growth);
+  }
+  out +=
+      "(interf.: golden interference and leakage over signal at the users, 20 log10 of the golden EVM; right of |:\n"
+      " integer bits each accumulating node needs for the largest golden value seen)\n";
+  return out;
+}
+
+std::string to_csv(const analysis::key_sweep_results& r) {
+  std::string out = "value,sinr_golden_db,sinr_fixed_db,sinr_loss_db,evm_impl_pct,interference_db,max_overflow_rate";
+  if (!r.points.empty()) {
+    for (const auto& [id, bits] : r.points.front().growth_int_bits)
+      out += fmt::format(",int_bits_{}", datapath::node_name(id));
+  }
+  out += "\n";
+  for (const analysis::key_sweep_point& p : r.points) {
+    // A value with a comma or a quote (an array) is quoted, RFC 4180.
+    std::string value = p.value;
+    if (value.find_first_of(",\"") != std::string::npos) {
+      std::string quoted = "\"";
+      for (char c : value) quoted += c == '"' ? std::string("\"\"") : std::string(1, c);
+      value = quoted + "\"";
+    }
+    out += fmt::format("{},{:.6g},{:.6g},{:.6g},{:.6g},{:.6g},{:.6g}", value, p.summary.sinr_golden_db,
+                       p.summary.sinr_fixed_db, p.summary.sinr_loss_db, p.summary.evm_impl_pct, p.interference_db,
+                       p.max_overflow_rate);
+    for (const auto& [id, bits] : p.growth_int_bits) out += fmt::format(",{}", bits);
+    out += "\n";
+  }
+  return out;
+}
+
 }  // namespace fxmimo::report

@@ -194,7 +194,7 @@ TEST(tune, impossible_limits_say_so) {
   const d::datapath_config start = d::parse_datapath_config(tiny_scenario_text, "tune-8x2.toml");
   // A negative SINR loss of 1 dB would need the fixed datapath to beat the double one by 1 dB.
   const h::tune_limits limits{-1.0, 1.0, 1e-3};
-  const h::tune_results r = h::tune_widths(scen, start, limits, h::cost_model::bits, 2, 1, 1e-2, 0.2);
+  const h::tune_results r = h::tune_widths(scen, start, limits, h::cost_model::bits, {2, 2, 2}, 1, 1e-2, 0.2);
   EXPECT_FALSE(r.met);
   EXPECT_FALSE(r.note.empty());
   EXPECT_FALSE(r.verification.meets(limits));
@@ -210,7 +210,9 @@ TEST(tune, tiny_scenario_meets_limits_on_fresh_trials) {
   const d::datapath_config start = d::parse_datapath_config(tiny_scenario_text, "tune-8x2.toml");
   const h::tune_limits limits{0.2, 2.0, 1e-3};
   const int num_trials = 8;
-  const h::tune_results r = h::tune_widths(scen, start, limits, h::cost_model::bits, num_trials, 2, 1e-6, 0.5);
+  const std::size_t range_trials = 300, verify_trials = 40;
+  const h::tune_results r =
+      h::tune_widths(scen, start, limits, h::cost_model::bits, {num_trials, range_trials, verify_trials}, 2, 1e-6, 0.5);
   EXPECT_TRUE(r.met) << r.note;
   std::printf("tune-8x2: %d evaluations, cost %g, verification SINR loss %g dB, EVM %g %%\n", r.evaluations, r.cost,
               r.verification.sinr_loss_db, r.verification.evm_pct);
@@ -219,13 +221,27 @@ TEST(tune, tiny_scenario_meets_limits_on_fresh_trials) {
       << "SINR loss " << r.verification.sinr_loss_db << " dB, EVM " << r.verification.evm_pct << " %, overflow "
       << r.verification.max_overflow_rate;
   EXPECT_TRUE(r.met == r.note.empty()) << r.note;
-  // Verification trials: as many, none of them searched.
+  // Verification trials: as many as asked, none of them searched or profiled (range trials are
+  // 0 .. range_trials - 1).
   EXPECT_EQ(r.search_trials.size(), static_cast<std::size_t>(num_trials));
-  EXPECT_EQ(r.verify_trials.size(), static_cast<std::size_t>(num_trials));
-  for (std::uint64_t t : r.verify_trials)
+  EXPECT_EQ(r.verify_trials.size(), verify_trials);
+  EXPECT_EQ(r.range_trials, range_trials);
+  for (std::uint64_t t : r.verify_trials) {
     EXPECT_EQ(std::count(r.search_trials.begin(), r.search_trials.end(), t), 0) << "trial " << t << " in both sets";
-  // The verification figures are run_trials of the result on those trials.
-  const h::tune_figures again = h::figures_of(h::run_trials(scen, r.config, r.verify_trials, 1));
+    EXPECT_GE(t, range_trials) << "trial " << t << " was range-profiled";
+  }
+  // The verification figures are run_trials of the result on those trials; the proven bound is
+  // the largest node bound there, 2.996 / n for a node with no overflow in n values.
+  const h::run_results fresh = h::run_trials(scen, r.config, r.verify_trials, 1);
+  const h::tune_figures again = h::figures_of(fresh, limits);
+  double largest_bound = 0;
+  for (const h::node_result& n : fresh.nodes) largest_bound = std::max(largest_bound, n.overflow_rate_bound());
+  EXPECT_EQ(r.proven_overflow_bound, largest_bound);
+  for (const h::node_result& n : fresh.nodes) {
+    if (n.id == r.weakest_node && n.counters.overflowed == 0) {
+      EXPECT_NEAR(r.proven_overflow_bound * static_cast<double>(n.counters.requantized), -std::log(0.05), 1e-9);
+    }
+  }
   EXPECT_EQ(again.sinr_loss_db, r.verification.sinr_loss_db);
   EXPECT_EQ(again.evm_pct, r.verification.evm_pct);
   EXPECT_EQ(again.max_overflow_rate, r.verification.max_overflow_rate);

@@ -131,12 +131,13 @@ TEST(Junit, DiffHasACasePerRecordAndFailsTheNarrowerNode) {
 TEST(Junit, TuneHasACasePerLimitAndFailsExactlyTheLimitsItsJsonMisses) {
   if (!have_xmllint()) GTEST_SKIP() << "xmllint (Debian package libxml2-utils) is absent";
   const fs::path dir = scratch_dir("junit_tune");
-  // Two search trials: few enough that the fresh trials can miss a limit (the power error on
-  // this scenario, measured when the test was written); the test checks the XML against the
-  // program's own JSON either way.
-  const auto r = run_fxmimo("tune -c " + quoted(source / "examples" / "village-16-mf.toml") +
-                            " --trials 2 --max-sinr-loss 0.1 --max-evm 1.0 -o " + quoted(dir / "t.toml") + " --json " +
-                            quoted(dir / "t.json") + " --junit " + quoted(dir / "t.xml"));
+  // Two search trials and two fresh ones: few enough that the fresh trials can miss a limit (the
+  // power error on this scenario, measured when the test was written); the test checks the XML
+  // against the program's own JSON either way.
+  const auto r =
+      run_fxmimo("tune -c " + quoted(source / "examples" / "village-16-mf.toml") +
+                 " --trials 2 --range-trials 40 --verify-trials 2 --max-sinr-loss 0.1 --max-evm 1.0 -o " +
+                 quoted(dir / "t.toml") + " --json " + quoted(dir / "t.json") + " --junit " + quoted(dir / "t.xml"));
   ASSERT_TRUE(r.exit_code == 0 || r.exit_code == 1) << r.out << r.err;
   expect_valid(dir / "t.xml");
   const nlohmann::json j = nlohmann::json::parse(read_text(dir / "t.json"));

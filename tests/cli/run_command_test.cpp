@@ -102,7 +102,7 @@ TEST(demo_command, writes_its_results_and_says_where) {
        {"scenario.toml", "run.json", "range.json", "sweep.json", "tune.json", "tuned.toml", "report.html"})
     EXPECT_TRUE(std::filesystem::exists(dir / file)) << file;
   EXPECT_NE(r.out.find("report: " + (dir / "report.html").string()), std::string::npos) << r.out;
-  EXPECT_NE(r.out.find("verification on fresh trials: PASS"), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find("verification on 200 fresh trials: PASS"), std::string::npos) << r.out;
   EXPECT_NE(r.out.find("simulations"), std::string::npos);
   // The tuned scenario is a valid scenario: fxmimo run accepts it.
   const auto rerun = run_fxmimo("run -c " + (dir / "tuned.toml").string() + " --trials 2");

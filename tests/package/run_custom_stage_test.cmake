@@ -46,8 +46,8 @@ file(WRITE ${out}/bad_re.hex "${text}\n")
 expect_run(1 ARGS check vec --node tx_cal --dump bad_re.hex --dump vec/tx_cal.out.im.hex PRINTS "antenna=0" "symbol=0")
 expect_run(0 ARGS sweep -c ${scenario} --node tx_cal,cal_rom --bits 9:10 --trials 2 --threads 1 --json sweep.json
            PRINTS "tx_cal " "cal_rom ")
-expect_run(0 ARGS range -c ${scenario} --trials 3 --threads 1 --json range.json PRINTS "tx_cal " "cal_rom ")
-expect_run(0 ARGS tune -c ${scenario} --trials 2 --threads 1 --max-evm 1.0 --json tune.json -o tuned.toml
+expect_run(0 ARGS range -c ${scenario} --range-trials 3 --threads 1 --json range.json PRINTS "tx_cal " "cal_rom ")
+expect_run(0 ARGS tune -c ${scenario} --trials 2 --range-trials 40 --verify-trials 2 --threads 1 --max-evm 1.0 --json tune.json -o tuned.toml
            PRINTS "tx_cal " "cal_rom ")
 file(READ ${out}/tuned.toml tuned)
 string(FIND "${tuned}" "[nodes.tx_cal]" at)

@@ -280,4 +280,44 @@ std::string render_histogram(const histogram_chart& h) {
   return out;
 }
 
+std::string render_cdf_chart(const cdf_chart& c) {
+  const plot_area pa{66.0, 30.0, chart_width - 14.0, chart_height - 46.0};
+  std::vector<std::pair<double, double>> pts;  // (value, probability)
+  for (std::size_t i = 0; i < c.percentiles.size(); ++i) {
+    if (std::isfinite(c.percentiles[i]))
+      pts.emplace_back(c.percentiles[i], static_cast<double>(i) / static_cast<double>(c.percentiles.size() - 1));
+  }
+  double lo = pts.empty() ? 0.0 : pts.front().first, hi = pts.empty() ? 1.0 : pts.back().first;
+  if (c.limit && std::isfinite(*c.limit)) {
+    lo = std::min(lo, *c.limit);
+    hi = std::max(hi, *c.limit);
+  }
+  if (hi <= lo) hi = lo + 1e-3;
+  const axis xa = round_axis(lo, hi, 5);
+  const axis ya = round_axis(0.0, 1.0, 5);
+  const linear_map mx{xa.lo, xa.hi, pa.left + 4, pa.right - 4};
+  const linear_map my{ya.lo, ya.hi, pa.bottom, pa.top};
+  std::string out;
+  svg_open(out, c.id, c.kind, "", c.title);
+  draw_axes(out, pa, xa, mx, ya, my, c.x_label, "fraction at or below");
+  std::string path;
+  for (const auto& [x, y] : pts) path += fmt::format("{}{},{}", path.empty() ? "M" : " L", px(mx(x)), px(my(y)));
+  if (!path.empty())
+    out +=
+        fmt::format("<path class=\"series s1\" d=\"{}\" fill=\"none\" stroke=\"#000\" stroke-width=\"1.6\"/>\n", path);
+  for (const std::size_t q : {5U, 50U, 95U}) {
+    if (q >= c.percentiles.size() || !std::isfinite(c.percentiles[q])) continue;
+    draw_marker(out, 0, mx(c.percentiles[q]), my(static_cast<double>(q) / 100.0), false,
+                fmt::format("{} % at or below {}", q, num(c.percentiles[q])));
+  }
+  if (c.limit && std::isfinite(*c.limit)) {
+    out += fmt::format(
+        "<line class=\"limit\" x1=\"{0}\" y1=\"{1}\" x2=\"{0}\" y2=\"{2}\" stroke=\"#000\" stroke-width=\"1.2\"{3}>"
+        "<title>{4}</title></line>\n",
+        px(mx(*c.limit)), px(pa.top), px(pa.bottom), dash_of(1), esc(c.limit_label));
+  }
+  out += "</svg>\n";
+  return out;
+}
+
 }  // namespace fxmimo::report::html

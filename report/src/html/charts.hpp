@@ -40,6 +40,21 @@ struct xy_chart {
 /// point (a missing value hollow at the top edge), a legend when there are two series.
 std::string render_xy_chart(const xy_chart& c);
 
+/// The empirical CDF of a quantity from its 0, 1, ..., 100 % percentiles.
+struct cdf_chart {
+  std::string id;
+  std::string kind;  ///< data-chart, e.g. "sinr-loss-cdf"
+  std::string title;
+  std::string x_label;
+  std::vector<double> percentiles;  ///< 101 values, non-decreasing (non-finite ones are left out)
+  std::optional<double> limit;      ///< a vertical dashed line (a limit on the quantity)
+  std::string limit_label;
+};
+
+/// A line through (percentile q, q / 100) on a linear x axis and a 0..1 probability axis; the 5,
+/// 50 and 95 % points marked and titled; the limit, where given, as a dashed vertical line.
+std::string render_cdf_chart(const cdf_chart& c);
+
 struct histogram_chart {
   std::string id;
   std::string node;

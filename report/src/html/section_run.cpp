@@ -2,6 +2,7 @@
 // error, the node table (formats, modes, SQNR, errors, overflow counts) and the user table.
 #include <fmt/core.h>
 
+#include "charts.hpp"
 #include "sections.hpp"
 
 namespace fxmimo::report::html {
@@ -21,6 +22,29 @@ std::string headline(const run_record& r) {
 }
 
 std::optional<std::uint64_t> trials_of(const run_record& r) { return r.trials; }
+
+void render_distribution(page& pg, const distribution_record& d, const std::optional<double>& loss_limit,
+                         const std::string& limit_label) {
+  pg.out += fmt::format(
+      "<p class=\"distribution\">Over every trial and user: SINR loss {} / {} / {} dB at 5 / 50 / 95 %; "
+      "implementation EVM {} % at 95 %, {} % in the worst trial.{}</p>\n",
+      num_or_dash(d.sinr_loss_p5_db), num_or_dash(d.sinr_loss_p50_db), num_or_dash(d.sinr_loss_p95_db),
+      num_or_dash(d.evm_impl_p95_pct), num_or_dash(d.evm_impl_max_pct),
+      d.gram_condition_p50 ? fmt::format(" Condition number of the Gram: {} median, {} at 95 %, {} worst.",
+                                         num_or_dash(d.gram_condition_p50), num_or_dash(d.gram_condition_p95),
+                                         num_or_dash(d.gram_condition_max))
+                           : "");
+  if (d.sinr_loss_percentiles_db.size() == 101) {
+    cdf_chart c{pg.next_id("sinr-loss-cdf"),
+                "sinr-loss-cdf",
+                "SINR loss per trial and user",
+                "SINR loss (dB)",
+                d.sinr_loss_percentiles_db,
+                loss_limit,
+                limit_label};
+    pg.out += "<div class=\"charts\">\n" + render_cdf_chart(c) + "</div>\n";
+  }
+}
 
 void render_section(page& pg, const run_record& r) {
   pg.out += fmt::format("<p>Scenario <b>{}</b>{}, {} trials.</p>\n", esc(r.scenario.name),
@@ -60,6 +84,7 @@ void render_section(page& pg, const run_record& r) {
             num_or_dash(u.evm_golden_pct), num_or_dash(u.evm_fixed_pct)});
   }
   pg.out += "</table>\n";
+  if (r.distribution) render_distribution(pg, *r.distribution, std::nullopt, "");
   if (!r.warnings.empty()) {
     pg.out += "<ul class=\"warnings\">\n";
     for (const std::string& w : r.warnings) pg.out += fmt::format("<li>warning: {}</li>\n", esc(w));

@@ -105,6 +105,41 @@ void render_section(page& pg, const tune_record& r) {
               search.rms_tx_power_error_db.value_or(std::nullopt), 4);
   }
   pg.out += "</table>\n";
+  if (!r.corners.empty()) {
+    pg.out += "<table class=\"corners\">\n";
+    pg.row({"corner", "SINR loss (dB)", "implementation EVM (%)", "overflow rate", "95 % bound", "fresh trials",
+            "verdict"},
+           true, "l");
+    for (const corner_record& c : r.corners) {
+      pg.row({esc(c.name), num_or_dash(c.verification.sinr_loss_db), num_or_dash(c.verification.evm_impl_pct),
+              num_or_dash(c.verification.max_overflow_rate, 3), num_or_dash(c.proven_overflow_bound, 3),
+              std::to_string(c.verification_trials), c.meets_limits ? "within" : "<b>EXCEEDED</b>"},
+             false, "l");
+    }
+    pg.out += "</table>\n<table class=\"binding\">\n";
+    pg.row({"node", "integer bits set by", "last fraction bit for"}, true, "lll");
+    for (std::size_t i = 0; i < r.nodes.size() && i < r.int_bits_corner.size(); ++i) {
+      pg.row({esc(r.nodes[i].node), esc(r.int_bits_corner[i]),
+              r.frac_bits_corner[i].empty() ? "—" : esc(r.frac_bits_corner[i])},
+             false, "lll");
+    }
+    pg.out += "</table>\n";
+  }
+  if (r.proven_overflow_bound) {
+    pg.out += fmt::format(
+        "<p class=\"proven\">On the fresh trials every node's overflow rate lies below {} at 95 % confidence "
+        "(weakest: node {}; no overflow in n values bounds the rate by 3/n, the rule of three){}.</p>\n",
+        num_or_dash(*r.proven_overflow_bound, 3), esc(r.weakest_node),
+        *r.proven_overflow_bound && **r.proven_overflow_bound > r.max_overflow_rate
+            ? fmt::format(": the limit {} is <b>not proven</b> by these trials", num(r.max_overflow_rate, 3))
+            : "");
+  }
+  if (r.verification_distribution) {
+    const bool at_percentile = r.sinr_loss_percentile.has_value();
+    render_distribution(pg, *r.verification_distribution, r.max_sinr_loss_db,
+                        at_percentile ? fmt::format("limit on the {} % point", num(*r.sinr_loss_percentile))
+                                      : "limit on the mean loss");
+  }
 }
 
 }  // namespace fxmimo::report::html

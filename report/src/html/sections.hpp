@@ -32,6 +32,16 @@ std::string headline(const tune_record& r);
 std::optional<std::uint64_t> trials_of(const tune_record& r);
 void render_section(page& pg, const tune_record& r);
 
+std::string section_title(const key_sweep_record& r);
+std::string headline(const key_sweep_record& r);
+std::optional<std::uint64_t> trials_of(const key_sweep_record& r);
+void render_section(page& pg, const key_sweep_record& r);
+
+/// The percentiles of a run or a verification as a sentence and the empirical CDF of the
+/// per-(trial, user) SINR loss (with the loss limit, where given, as a dashed line).
+void render_distribution(page& pg, const distribution_record& d, const std::optional<double>& loss_limit,
+                         const std::string& limit_label);
+
 /// "12", or "?" when the file does not say.
 std::string trials_text(const std::optional<std::uint64_t>& trials);
 

@@ -9,6 +9,7 @@
 #include <string>
 #include <vector>
 
+#include "fxmimo/analysis/tail.hpp"
 #include "fxmimo/datapath/config.hpp"
 #include "fxmimo/golden/scenario.hpp"
 
@@ -25,7 +26,10 @@ struct node_range {
   std::vector<std::uint64_t> log2_histogram;
   /// Proposed integer bits m (signed Qm.n, |v| < 2^m) for the overflow probability.
   int proposed_int_bits = 0;
-  std::string proposal_basis;            ///< "quantile" or "max+1" (too few values for the quantile)
+  /// "quantile" (at least 10 / p values), "tail" (the upper 95 % bound of a generalized Pareto
+  /// fit, never below the largest value) or "max+1" (too few values for a fit).
+  std::string proposal_basis;
+  std::optional<tail_fit> tail;          ///< the fit, where one was made
   std::optional<int> analytic_int_bits;  ///< worst-case growth, where it is a simple rule
   std::string analytic_rule;             ///< e.g. "adc + pilot_rom + log2(tau_p)"
 };
@@ -35,6 +39,8 @@ struct range_results {
   std::size_t num_trials = 0;
   double overflow_prob = 1e-6;
   std::vector<node_range> nodes;  ///< active nodes, datapath order
+  /// Condition number of the Gram over the trials (absent without a Gram).
+  std::optional<double> gram_condition_p50, gram_condition_p95, gram_condition_max;
 };
 
 /// Runs `num_trials` golden trials (0 .. n-1) on `num_threads` threads and profiles every active

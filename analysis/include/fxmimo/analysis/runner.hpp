@@ -31,6 +31,9 @@ struct node_result {
   [[nodiscard]] double sqnr_db() const;
   /// overflowed / requantised.
   [[nodiscard]] double overflow_rate() const;
+  /// One-sided 95 % upper bound of the overflow rate (rate_upper_bound: 2.996 / requantised for
+  /// no overflow, the rule of three); +inf when nothing was requantised.
+  [[nodiscard]] double overflow_rate_bound() const;
 };
 
 /// One user of cell 0: SINR as 10 log10 of the mean linear SINR over trials; EVM as the RMS
@@ -56,6 +59,19 @@ struct run_summary {
   std::optional<double> evm_limit_pct;     ///< 3GPP base-station limit for the modulation
 };
 
+/// Distributions over trials and users, beside the means (README "Metrics").
+struct run_distribution {
+  /// Percentiles over every (trial, user) of the per-trial SINR loss 10 log10(SINR_golden /
+  /// SINR_fixed), dB.
+  double sinr_loss_p5_db = 0.0, sinr_loss_p50_db = 0.0, sinr_loss_p95_db = 0.0;
+  /// The 0, 1, ..., 100 % percentiles of the same losses (101 values: the empirical CDF).
+  std::vector<double> sinr_loss_percentiles_db;
+  double evm_impl_p95_pct = 0.0, evm_impl_max_pct = 0.0;  ///< over trials
+  /// Condition number lambda_max / lambda_min of the Gram (with RZF loading) over trials;
+  /// absent without a Gram (MF).
+  std::optional<double> gram_condition_p50, gram_condition_p95, gram_condition_max;
+};
+
 struct run_results {
   std::string scenario_name;
   std::string scenario_source;
@@ -63,6 +79,7 @@ struct run_results {
   std::vector<node_result> nodes;  ///< active nodes, datapath order
   std::vector<user_result> users;
   run_summary summary;
+  run_distribution distribution;
   std::vector<std::string> warnings;
 };
 
@@ -75,6 +92,7 @@ struct trial_summary {
   double evm_impl = 0.0;  ///< fraction, not %
   double tx_power_error_db = 0.0;
   double neumann_radius = 0.0;
+  double gram_condition = 0.0;  ///< 0 without a Gram
 };
 
 /// Golden trial, fixed datapath, evaluation through the true channel, per-node errors.
@@ -101,6 +119,10 @@ run_results run_trials(const golden::scenario& scen, const datapath::datapath_co
 
 /// 0, 1, ..., n-1.
 std::vector<std::uint64_t> first_trials(int n);
+
+/// The SINR-loss statistic a limit applies to: the mean over users of the per-user loss of the
+/// mean SINRs (percentile nullopt), or a percentile (0..100) of the per-(trial, user) losses.
+double sinr_loss_statistic(const run_results& r, std::optional<double> percentile);
 
 /// 3GPP TS 38.104 Table 6.5.2.2-1 base-station EVM limit in % (QPSK 17.5, 16QAM 12.5,
 /// 64QAM 8, 256QAM 3.5); 1024QAM 2.5 (later releases; from memory, unverified).

@@ -42,4 +42,32 @@ sweep_results run_sweep(const golden::scenario& scen, const datapath::datapath_c
                         const std::vector<std::uint64_t>& trials, unsigned num_threads,
                         const progress_callback& progress = {});
 
+/// A sweep over a scenario key (an operating point, not a width): each point is exactly `fxmimo
+/// run` of the scenario with KEY = value, every width as configured.
+struct key_sweep_point {
+  std::string value;  ///< the key's value as given (TOML)
+  run_summary summary;
+  /// Golden interference-to-signal ratio at the users, dB: 20 log10 of the golden EVM (noise
+  /// excluded, so multi-user and inter-cell interference plus precoder leakage over the signal).
+  double interference_db = 0.0;
+  double max_overflow_rate = 0.0;  ///< largest over all nodes
+  /// Integer bits each accumulating node needs for the largest golden value seen
+  /// (int_bits_for(max |golden|)), in datapath order.
+  std::vector<std::pair<datapath::node_id, int>> growth_int_bits;
+};
+
+struct key_sweep_results {
+  std::string scenario_name;
+  std::string key;
+  std::size_t num_trials = 0;
+  std::vector<key_sweep_point> points;  ///< in the order of the values
+};
+
+/// Runs one point per scenario (the same scenario with the key set to values[i]); the scenarios
+/// must share the datapath's nodes. Progress counts trials over all points.
+key_sweep_results run_key_sweep(const std::vector<golden::scenario>& scenarios, const std::vector<std::string>& values,
+                                const std::string& key, const datapath::datapath_config& config,
+                                const std::vector<std::uint64_t>& trials, unsigned num_threads,
+                                const progress_callback& progress = {});
+
 }  // namespace fxmimo::analysis

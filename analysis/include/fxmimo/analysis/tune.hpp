@@ -9,6 +9,7 @@
 
 #include <functional>
 #include <nlohmann/json.hpp>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -22,6 +23,9 @@ struct tune_limits {
   double max_evm_pct = 1.0;                ///< implementation EVM at the DAC, %
   double max_overflow_rate = 1e-6;         ///< for every node
   double max_rms_tx_power_error_db = 0.1;  ///< RMS over trials of the transmit-power error of the fixed block, dB
+  /// The SINR-loss limit applies to this percentile (0..100) of the per-(trial, user) losses;
+  /// nullopt: to the mean over users (sinr_loss_statistic).
+  std::optional<double> sinr_loss_percentile = std::nullopt;
 };
 
 /// The figures the limits apply to.
@@ -37,7 +41,7 @@ struct tune_figures {
   /// Largest of the three figures over their limits (<= 1 when every limit holds).
   [[nodiscard]] double worst_ratio(const tune_limits& l) const;
 };
-tune_figures figures_of(const run_results& r);
+tune_figures figures_of(const run_results& r, const tune_limits& limits);
 
 enum class cost_model { bits, area };
 std::string_view to_string(cost_model m);
@@ -60,6 +64,33 @@ std::vector<int> greedy_search(const std::vector<int>& lo, const std::vector<int
                                const std::function<double(const std::vector<int>&)>& cost, const tune_limits& limits,
                                int& evaluations);
 
+/// The trials of a tune: the search's, range profiling's (golden only, from trial 0) and the
+/// verification's (fresh: after both).
+struct tune_trial_counts {
+  int search = 1;
+  std::size_t range = 1;
+  std::size_t verify = 1;
+};
+
+/// One operating point of a tune: a scenario (a file, or the base scenario with overrides) and
+/// its trial counts.
+struct tune_corner {
+  std::string name;  ///< "" for a plain tune; e.g. "data.snr_db=10, cells.users_per_cell=4"
+  golden::scenario scen;
+  tune_trial_counts trials;
+};
+
+/// What the tuned widths do at one corner.
+struct corner_outcome {
+  std::string name;
+  std::size_t range_trials = 0;
+  std::vector<std::uint64_t> verify_trials;
+  tune_figures search, verification;
+  double proven_overflow_bound = 0.0;  ///< largest node bound on its fresh trials
+  datapath::node_id weakest_node{};
+  bool met = false;
+};
+
 struct tune_results {
   std::string scenario_name;
   tune_limits limits;
@@ -70,8 +101,22 @@ struct tune_results {
   tune_figures search;        ///< on the search trials
   tune_figures verification;  ///< on fresh trials
   std::vector<std::uint64_t> search_trials, verify_trials;
+  std::size_t range_trials = 0;
+  std::vector<node_result> verify_nodes;  ///< per node on the fresh trials, datapath order
+  run_distribution verify_distribution;   ///< on the fresh trials
+  std::size_t users = 0;                  ///< users per trial (cell 0's)
+  /// The largest over nodes of the 95 % upper bound of the overflow rate on the fresh trials
+  /// (node_result::overflow_rate_bound) and the node it belongs to: what a PASS proves.
+  double proven_overflow_bound = 0.0;
+  datapath::node_id weakest_node{};
   int evaluations = 0;
-  bool met = false;  ///< the verification meets every limit
+  /// Per corner (one for a plain tune); the figures above are the worst over the corners, the
+  /// per-node results and distributions those of the corner furthest from its limits.
+  std::vector<corner_outcome> corners;
+  /// Per node (order of `nodes`): the corner whose range profile set the integer bits, and the
+  /// corner that one fraction bit less would fail first ("" : none, or a single corner).
+  std::vector<std::string> int_bits_corner, frac_bits_corner;
+  bool met = false;  ///< the verification meets every limit (at every corner)
   std::string note;  ///< why it could not, when it could not
 };
 
@@ -79,8 +124,17 @@ struct tune_results {
 /// reduced by `search_margin`, a fraction), then the verification on fresh trials against the
 /// limits themselves.
 tune_results tune_widths(const golden::scenario& scen, const datapath::datapath_config& start,
-                         const tune_limits& limits, cost_model model, int num_trials, unsigned num_threads,
-                         double overflow_prob, double search_margin,
+                         const tune_limits& limits, cost_model model, const tune_trial_counts& trials,
+                         unsigned num_threads, double overflow_prob, double search_margin,
                          const std::function<void(const std::string&)>& status = {});
+
+/// The same over several corners: one set of widths meeting the limits at every corner. Integer
+/// bits are the largest range proposal over the corners; an evaluation is the worst figure over
+/// the corners (the same search trials at each); each corner is verified on its own fresh
+/// trials. The corners must share the datapath's nodes; cost is the first corner's.
+tune_results tune_widths_at_corners(const std::vector<tune_corner>& corners, const datapath::datapath_config& start,
+                                    const tune_limits& limits, cost_model model, unsigned num_threads,
+                                    double overflow_prob, double search_margin,
+                                    const std::function<void(const std::string&)>& status = {});
 
 }  // namespace fxmimo::analysis

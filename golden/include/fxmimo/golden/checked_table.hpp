@@ -168,6 +168,22 @@ struct scenario_document {
 };
 scenario_document parse_scenario_document(std::string text, std::string source_name);
 
+/// One change to a scenario: a dotted key ("data.snr_db") and a TOML value ("10", "[0.0, 3.0]",
+/// "\"walsh\"").
+struct scenario_override {
+  std::string key;
+  std::string value;
+};
+
+/// The document with every override applied to its tables (a key's table is created when the
+/// file has none); its source name gains " [KEY=VALUE, ...]" so that later errors name the
+/// overrides. The text stays the file's. Throws scenario_error for a value that is not TOML or a
+/// key that names no table entry.
+scenario_document with_overrides(scenario_document doc, const std::vector<scenario_override>& overrides);
+
+/// "KEY=VALUE" parsed into an override; throws std::invalid_argument without '=' or a key.
+scenario_override parse_override(std::string_view text);
+
 /// The golden model's sections of a parsed document (every table but `nodes`).
 scenario parse_scenario(const scenario_document& doc);
 

@@ -24,6 +24,9 @@ struct precoder_output {
 
 /// G[i,j] = sum_m conj(H[m,i]) H[m,j], summed over antennas in index order.
 Eigen::MatrixXcd gram_matrix(const Eigen::MatrixXcd& chan_est);
+/// Condition number lambda_max / lambda_min of a Hermitian positive semi-definite matrix (its
+/// eigenvalues, Eigen's SelfAdjointEigenSolver); +inf when lambda_min <= 0.
+double condition_number(const Eigen::MatrixXcd& hermitian);
 
 /// Digital transmit power P_dig = M 10^(-dac_backoff_db/10): per-antenna RMS 10^(-backoff/20) of
 /// full scale 1.0 for unit-power symbols. The physical signal is sqrt(rho_d / P_dig) * tx.

@@ -59,6 +59,8 @@ struct run_node_record {
   std::optional<double> max_abs_golden;
   std::optional<std::uint64_t> requantized, inexact;
   std::optional<double> max_overflow_excess_lsb;
+  /// 95 % upper bound of the overflow rate (absent from older files).
+  std::optional<metric> overflow_rate_bound;
 };
 
 struct run_user_record {
@@ -72,6 +74,14 @@ struct run_summary_record {
   std::optional<metric> tx_power_error_db, max_abs_tx_power_error_db, rms_tx_power_error_db;
 };
 
+/// Percentiles over trials and users (analysis::run_distribution); absent from older files.
+struct distribution_record {
+  metric sinr_loss_p5_db, sinr_loss_p50_db, sinr_loss_p95_db;
+  std::vector<double> sinr_loss_percentiles_db;  ///< 0, 1, ..., 100 %: the empirical CDF
+  metric evm_impl_p95_pct, evm_impl_max_pct;
+  std::optional<double> gram_condition_p50, gram_condition_p95, gram_condition_max;
+};
+
 struct run_record {
   scenario_ref scenario;
   std::uint64_t trials = 0;
@@ -79,10 +89,17 @@ struct run_record {
   std::vector<run_node_record> nodes;  ///< datapath order
   std::vector<run_user_record> users;
   run_summary_record summary;
+  std::optional<distribution_record> distribution;
   std::vector<std::string> warnings;
 };
 
 // --- range ------------------------------------------------------------------------------------
+
+/// A generalized Pareto fit of a node's tail (analysis/tail.hpp).
+struct tail_record {
+  std::uint64_t exceedances = 0;
+  double threshold = 0.0, shape = 0.0, scale = 0.0, quantile = 0.0, upper_bound = 0.0, confidence = 0.0;
+};
 
 struct range_node_record {
   std::string node;
@@ -94,13 +111,15 @@ struct range_node_record {
   std::string analytic_rule;
   int hist_min_exp = 0;
   std::vector<std::uint64_t> log2_histogram;  ///< [i]: values with 2^(hist_min_exp+i) <= |v| < 2^(hist_min_exp+i+1)
+  std::optional<tail_record> tail;            ///< absent from older files and where no fit was made
 };
 
 struct range_record {
   scenario_ref scenario;
   std::uint64_t trials = 0;
   double overflow_prob = 0.0;
-  std::vector<range_node_record> nodes;  ///< datapath order
+  std::vector<range_node_record> nodes;                                              ///< datapath order
+  std::optional<double> gram_condition_p50, gram_condition_p95, gram_condition_max;  ///< absent without a Gram
 };
 
 // --- sweep ------------------------------------------------------------------------------------
@@ -122,6 +141,21 @@ struct sweep_record {
   std::vector<sweep_point_record> points;
 };
 
+// --- key sweep --------------------------------------------------------------------------------
+
+struct key_sweep_point_record {
+  std::string value;  ///< the key's value (TOML text)
+  metric sinr_golden_db, sinr_fixed_db, sinr_loss_db, evm_impl_pct, interference_db, max_overflow_rate;
+  std::vector<std::pair<std::string, int>> growth_int_bits;  ///< accumulating node, integer bits needed
+};
+
+struct key_sweep_record {
+  scenario_ref scenario;
+  std::uint64_t trials = 0;
+  std::string key;
+  std::vector<key_sweep_point_record> points;
+};
+
 // --- tune -------------------------------------------------------------------------------------
 
 struct tune_node_record {
@@ -130,6 +164,7 @@ struct tune_node_record {
   std::optional<fixedpoint::rounding_mode> rounding;  ///< absent from hand-written files only
   std::optional<fixedpoint::overflow_mode> overflow;
   double cost = 0.0;
+  std::optional<metric> overflow_rate_bound;  ///< on the fresh trials (absent from older files)
 };
 
 /// The four figures tune limits, as measured on one set of trials.
@@ -138,6 +173,15 @@ struct tune_figures_record {
   /// RMS over trials of the transmit-power error; absent from files without that limit. Files
   /// written before it was named so call it abs_tx_power_error_db (read as this).
   std::optional<metric> rms_tx_power_error_db;
+};
+
+/// A tune's outcome at one operating corner.
+struct corner_record {
+  std::string name;
+  tune_figures_record verification;
+  metric proven_overflow_bound;
+  std::uint64_t verification_trials = 0;
+  bool meets_limits = false;
 };
 
 struct tune_record {
@@ -153,6 +197,18 @@ struct tune_record {
   tune_figures_record verification;  ///< on fresh trials
   std::optional<std::uint64_t> verification_trials;
   std::optional<std::vector<std::uint64_t>> verification_trial_indices;
+  std::optional<std::uint64_t> range_trials;
+  /// The SINR-loss limit's percentile (absent: the mean over users).
+  std::optional<double> sinr_loss_percentile;
+  /// On the fresh trials: the largest 95 % upper bound of a node's overflow rate and its node
+  /// (what a PASS proves), and the distributions. Absent from older files.
+  std::optional<metric> proven_overflow_bound;
+  std::string weakest_node;
+  std::optional<distribution_record> verification_distribution;
+  /// Operating corners (absent for a plain tune); per node the corner that set its integer bits
+  /// and the one its last fraction bit is for (tune_node_record order).
+  std::vector<corner_record> corners;
+  std::vector<std::string> int_bits_corner, frac_bits_corner;
   /// The re-verification met every limit (the file says so twice: verification.meets_limits and
   /// the top-level "met"; the second is written from this and ignored when read).
   bool meets_limits = false;
@@ -167,10 +223,10 @@ struct tune_record {
 // --- any of them ------------------------------------------------------------------------------
 
 /// The kinds of results files.
-enum class report_kind { run, range, sweep, tune };
+enum class report_kind { run, range, sweep, tune, key_sweep };
 std::string_view to_string(report_kind kind);
 
-using results_record = std::variant<run_record, range_record, sweep_record, tune_record>;
+using results_record = std::variant<run_record, range_record, sweep_record, tune_record, key_sweep_record>;
 
 /// A results record as the file it came from (or will go to) names it.
 struct named_record {
@@ -188,12 +244,14 @@ std::size_t node_rank(std::string_view name);
 run_record make_record(const analysis::run_results& r);
 range_record make_record(const analysis::range_results& r);
 sweep_record make_record(const analysis::sweep_results& r);
+key_sweep_record make_record(const analysis::key_sweep_results& r);
 tune_record make_record(const golden::scenario& scen, const analysis::tune_results& r);
 
 /// The file's JSON: "kind", "schema" and every field (the newest key names).
 nlohmann::json to_json(const run_record& r);
 nlohmann::json to_json(const range_record& r);
 nlohmann::json to_json(const sweep_record& r);
+nlohmann::json to_json(const key_sweep_record& r);
 nlohmann::json to_json(const tune_record& r);
 nlohmann::json to_json(const results_record& r);
 
@@ -206,6 +264,7 @@ report_kind kind_of(const io::checked_json& doc);
 run_record run_from_json(const io::checked_json& doc);
 range_record range_from_json(const io::checked_json& doc);
 sweep_record sweep_from_json(const io::checked_json& doc);
+key_sweep_record key_sweep_from_json(const io::checked_json& doc);
 tune_record tune_from_json(const io::checked_json& doc);
 /// Any kind, by kind_of(doc).
 results_record record_from_json(const io::checked_json& doc);
