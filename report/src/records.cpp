@@ -420,6 +420,8 @@ sweep_record make_record(const analysis::sweep_results& r) {
     rec.sqnr_db = finite_or_none(p.node_sqnr_db);
     rec.sinr_fixed_db = finite_or_none(p.summary.sinr_fixed_db);
     rec.max_overflow_rate = finite_or_none(p.max_overflow_rate);
+    rec.sinr_loss_p95_db = finite_or_none(p.distribution.sinr_loss_p95_db);
+    rec.evm_impl_p95_pct = finite_or_none(p.distribution.evm_impl_p95_pct);
     out.points.push_back(std::move(rec));
   }
   return out;
@@ -444,6 +446,8 @@ json to_json(const sweep_record& r) {
               {"overflow_rate", metric_json(p.overflow_rate)}};
     if (p.sinr_fixed_db) j["sinr_fixed_db"] = metric_json(*p.sinr_fixed_db);
     if (p.max_overflow_rate) j["max_overflow_rate"] = metric_json(*p.max_overflow_rate);
+    if (p.sinr_loss_p95_db) j["sinr_loss_p95_db"] = metric_json(*p.sinr_loss_p95_db);
+    if (p.evm_impl_p95_pct) j["evm_impl_p95_pct"] = metric_json(*p.evm_impl_p95_pct);
     out["points"].push_back(std::move(j));
   }
   return out;
@@ -470,6 +474,8 @@ sweep_record sweep_from_json(const checked_json& doc) {
     rec.sqnr_db = p["sqnr_db"].number_or_null();
     rec.sinr_fixed_db = optional_metric(p, "sinr_fixed_db");
     rec.max_overflow_rate = optional_metric(p, "max_overflow_rate");
+    if (const auto v = p.find("sinr_loss_p95_db")) rec.sinr_loss_p95_db = v->number_or_null();
+    if (const auto v = p.find("evm_impl_p95_pct")) rec.evm_impl_p95_pct = v->number_or_null();
     r.points.push_back(std::move(rec));
   }
   return r;

@@ -14,12 +14,12 @@ namespace fp = fxmimo::fixedpoint;
 std::string format_sweep_table(const analysis::sweep_results& r) {
   std::string out = fmt::format("scenario {}, {} trials per point, sweeping {} bits\n\n", r.scenario_name, r.num_trials,
                                 to_string(r.axis));
-  out += fmt::format("{:<15} {:>5} {:<10} {:>12} {:>12} {:>11} {:>9} {:>11} {:>12}\n", "node", "bits", "format",
-                     "SINR loss dB", "EVM fixed %", "EVM impl %", "SQNR dB", "ovf rate", "max ovf rate");
+  out += fmt::format("{:<15} {:>5} {:<10} {:>12} {:>9} {:>12} {:>11} {:>9} {:>11} {:>12}\n", "node", "bits", "format",
+                     "SINR loss dB", "loss p95", "EVM fixed %", "EVM impl %", "SQNR dB", "ovf rate", "max ovf rate");
   for (const analysis::sweep_point& p : r.points) {
-    out += fmt::format("{:<15} {:>5} {:<10} {:>12.4f} {:>12.3f} {:>11.4f} {:>9} {:>11.3g} {:>12.3g}\n",
+    out += fmt::format("{:<15} {:>5} {:<10} {:>12.4f} {:>9.4f} {:>12.3f} {:>11.4f} {:>9} {:>11.3g} {:>12.3g}\n",
                        datapath::node_name(p.id), p.bits, fp::to_q_string(p.fmt), p.summary.sinr_loss_db,
-                       p.summary.evm_fixed_pct, p.summary.evm_impl_pct,
+                       p.distribution.sinr_loss_p95_db, p.summary.evm_fixed_pct, p.summary.evm_impl_pct,
                        std::isinf(p.node_sqnr_db) ? std::string("exact") : fmt::format("{:.1f}", p.node_sqnr_db),
                        p.node_overflow_rate, p.max_overflow_rate);
   }
@@ -28,12 +28,14 @@ std::string format_sweep_table(const analysis::sweep_results& r) {
 
 std::string to_csv(const analysis::sweep_results& r) {
   std::string out =
-      "node,bits,format,sinr_loss_db,evm_fixed_pct,evm_impl_pct,sqnr_db,overflow_rate,max_overflow_rate\n";
+      "node,bits,format,sinr_loss_db,evm_fixed_pct,evm_impl_pct,sqnr_db,overflow_rate,max_overflow_rate,"
+      "sinr_loss_p95_db,evm_impl_p95_pct\n";
   for (const analysis::sweep_point& p : r.points) {
-    out += fmt::format("{},{},{},{:.6g},{:.6g},{:.6g},{},{:.6g},{:.6g}\n", datapath::node_name(p.id), p.bits,
-                       fp::to_q_string(p.fmt), p.summary.sinr_loss_db, p.summary.evm_fixed_pct, p.summary.evm_impl_pct,
-                       std::isinf(p.node_sqnr_db) ? std::string("inf") : fmt::format("{:.6g}", p.node_sqnr_db),
-                       p.node_overflow_rate, p.max_overflow_rate);
+    out += fmt::format(
+        "{},{},{},{:.6g},{:.6g},{:.6g},{},{:.6g},{:.6g},{:.6g},{:.6g}\n", datapath::node_name(p.id), p.bits,
+        fp::to_q_string(p.fmt), p.summary.sinr_loss_db, p.summary.evm_fixed_pct, p.summary.evm_impl_pct,
+        std::isinf(p.node_sqnr_db) ? std::string("inf") : fmt::format("{:.6g}", p.node_sqnr_db), p.node_overflow_rate,
+        p.max_overflow_rate, p.distribution.sinr_loss_p95_db, p.distribution.evm_impl_p95_pct);
   }
   return out;
 }

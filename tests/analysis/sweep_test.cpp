@@ -296,6 +296,8 @@ TEST(sweep_cli, json_and_csv_points_equal_fxmimo_run) {
       EXPECT_EQ(p.at(key), run.at("summary").at(key)) << what << " " << key;
     }
     EXPECT_EQ(p.at("sqnr_db"), run.at("nodes").at("weights").at("sqnr_db")) << what;
+    EXPECT_EQ(p.at("sinr_loss_p95_db"), run.at("distribution").at("sinr_loss_p95_db")) << what;
+    EXPECT_EQ(p.at("evm_impl_p95_pct"), run.at("distribution").at("evm_impl_p95_pct")) << what;
     EXPECT_EQ(p.at("overflow_rate"), run.at("nodes").at("weights").at("overflow_rate")) << what;
     EXPECT_EQ(p.at("format"), run.at("nodes").at("weights").at("format")) << what;
     double max_rate = 0;

@@ -818,3 +818,79 @@ TEST(report_in_chromium, renders_to_a_png_without_console_errors_and_keeps_every
 }
 
 }  // namespace
+
+namespace {
+
+/// The marker of a chart whose <title> starts with `prefix`.
+json marker_titled(const json& chart, const std::string& prefix) {
+  for (const json& m : chart["markers"]) {
+    if (m["title"].get<std::string>().rfind(prefix, 0) == 0) return m;
+  }
+  ADD_FAILURE() << "no marker titled " << prefix;
+  return json::object();
+}
+
+}  // namespace
+
+TEST_F(report_page, the_sinr_loss_distribution_is_an_empirical_cdf_on_its_ticks) {
+  // The earlier program's run file with a distribution added: percentiles q -> -0.2 + 0.004 q dB
+  // (q = 0..100), so the 5 / 50 / 95 % points are at -0.18, 0 and 0.18 dB.
+  json run = json::parse(read_text(fs::path(FXMIMO_SOURCE_DIR) / "tests/fixtures/run.json"));
+  json pct = json::array();
+  for (int q = 0; q <= 100; ++q) pct.push_back(-0.2 + 0.004 * q);
+  run["distribution"] = {{"sinr_loss_p5_db", -0.18},        {"sinr_loss_p50_db", 0.0},    {"sinr_loss_p95_db", 0.18},
+                         {"sinr_loss_percentiles_db", pct}, {"evm_impl_p95_pct", 0.31},   {"evm_impl_max_pct", 0.42},
+                         {"gram_condition_p50", 3.5},       {"gram_condition_p95", 7.25}, {"gram_condition_max", 11.0}};
+  const fs::path dir = scratch_dir("run_cdf");
+  const fs::path html = dir / "report.html";
+  std::ofstream(html, std::ios::binary) << fxmimo::report::render_report_html({{"run.json", run}});
+  const json page = parse_page(html);
+  const std::vector<json> cdfs = charts_of(page, "sinr-loss-cdf", "");
+  ASSERT_EQ(cdfs.size(), 1U);
+  const json& c = cdfs[0];
+  EXPECT_EQ(c["x_label"], "SINR loss (dB)");
+  const tick_map mx = map_from_ticks(c["x_ticks"], false, "cdf x");
+  const tick_map my = map_from_ticks(c["y_ticks"], false, "cdf y");
+  ASSERT_EQ(c["markers"].size(), 3U);
+  for (const auto& [q, v] : std::vector<std::pair<int, double>>{{5, -0.18}, {50, 0.0}, {95, 0.18}}) {
+    const json m = marker_titled(c, std::to_string(q) + " %");
+    EXPECT_NEAR(m["x"].get<double>(), mx(v), pixel_tolerance) << q;
+    EXPECT_NEAR(m["y"].get<double>(), my(q / 100.0), pixel_tolerance) << q;
+  }
+  const std::string text = read_text(html);
+  EXPECT_NE(text.find("3.5 median, 7.25 at 95 %, 11 worst"), std::string::npos);
+}
+
+TEST_F(report_page, a_key_sweep_draws_sinr_and_interference_against_the_value) {
+  json sweep = {{"kind", "key-sweep"},
+                {"schema", 1},
+                {"scenario", {{"name", "mf"}, {"source", ""}}},
+                {"trials", 4},
+                {"key", "array.antennas"},
+                {"points", json::array()}};
+  for (const auto& [m, isr] : std::vector<std::pair<int, double>>{{16, -7.0}, {64, -13.0}, {256, -19.0}}) {
+    sweep["points"].push_back({{"value", std::to_string(m)},
+                               {"sinr_golden_db", 10.0 - isr},
+                               {"sinr_fixed_db", 9.9 - isr},
+                               {"sinr_loss_db", 0.1},
+                               {"evm_impl_pct", 0.5},
+                               {"interference_db", isr},
+                               {"max_overflow_rate", 0.0},
+                               {"growth_int_bits", {{"power_acc", m / 16}}}});
+  }
+  const fs::path dir = scratch_dir("key_sweep");
+  const fs::path html = dir / "report.html";
+  std::ofstream(html, std::ios::binary) << fxmimo::report::render_report_html({{"k.json", sweep}});
+  const json page = parse_page(html);
+  const std::vector<json> charts = charts_of(page, "key-sweep", "");
+  ASSERT_EQ(charts.size(), 1U);
+  const tick_map mx = map_from_ticks(charts[0]["x_ticks"], false, "key x");
+  const tick_map my = map_from_ticks(charts[0]["y_ticks"], false, "key y");
+  const std::vector<json> interference = markers_of(charts[0], "s2");
+  ASSERT_EQ(interference.size(), 3U);
+  EXPECT_NEAR(interference[2]["x"].get<double>(), mx(256), pixel_tolerance);
+  EXPECT_NEAR(interference[2]["y"].get<double>(), my(-19.0), pixel_tolerance);
+  const json table = table_starting(page, "array.antennas");
+  ASSERT_EQ(table.size(), 4U);
+  EXPECT_EQ(table[3].back(), "16");  // power_acc's integer bits at 256 antennas
+}

@@ -26,6 +26,7 @@ struct sweep_point {
   double node_sqnr_db = 0.0;        ///< the swept node's SQNR (+inf: exact)
   double node_overflow_rate = 0.0;  ///< the swept node's overflow rate
   double max_overflow_rate = 0.0;   ///< largest overflow rate over all nodes
+  run_distribution distribution;    ///< percentiles over trials and users
 };
 
 struct sweep_results {

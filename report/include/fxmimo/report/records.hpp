@@ -129,9 +129,10 @@ struct sweep_point_record {
   int bits = 0;  ///< the swept quantity's value
   fixedpoint::format fmt;
   metric sinr_loss_db, evm_fixed_pct, evm_impl_pct, overflow_rate;
-  metric sqnr_db;                           ///< nullopt: exact
-  std::optional<metric> sinr_fixed_db;      ///< absent from the oldest sweep files
-  std::optional<metric> max_overflow_rate;  ///< worst node at this point; absent from the oldest files
+  metric sqnr_db;                                            ///< nullopt: exact
+  std::optional<metric> sinr_fixed_db;                       ///< absent from the oldest sweep files
+  std::optional<metric> max_overflow_rate;                   ///< worst node at this point; absent from the oldest files
+  std::optional<metric> sinr_loss_p95_db, evm_impl_p95_pct;  ///< percentiles; absent from older files
 };
 
 struct sweep_record {

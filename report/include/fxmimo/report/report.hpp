@@ -17,7 +17,8 @@ std::string format_run_table(const analysis::run_results& results);
 std::string format_distribution(const analysis::run_distribution& d, std::size_t trials, std::size_t users);
 std::string format_range_table(const analysis::range_results& r);
 std::string format_sweep_table(const analysis::sweep_results& r);
-/// CSV: node,bits,format,sinr_loss_db,evm_fixed_pct,evm_impl_pct,sqnr_db,overflow_rate,max_overflow_rate
+/// CSV: node,bits,format,sinr_loss_db,evm_fixed_pct,evm_impl_pct,sqnr_db,overflow_rate,max_overflow_rate,
+/// sinr_loss_p95_db,evm_impl_p95_pct
 std::string to_csv(const analysis::sweep_results& r);
 std::string format_tune_table(const analysis::tune_results& r);
 std::string format_key_sweep_table(const analysis::key_sweep_results& r);
