@@ -11,6 +11,11 @@ io::junit_suite to_junit(const tune_record& r) {
   suite.properties = {
       {"scenario", r.scenario.name}, {"cost_model", r.cost_model}, {"cost", fmt::format("{:g}", r.cost)}};
   if (r.verification_trials) suite.properties.push_back({"fresh_trials", std::to_string(*r.verification_trials)});
+  if (r.proven_overflow_bound && *r.proven_overflow_bound) {
+    // What a PASS proves: every node's overflow rate below this bound at 95 % (rule of three).
+    suite.properties.push_back({"proven_overflow_bound_95", fmt::format("{:.6g}", **r.proven_overflow_bound)});
+    suite.properties.push_back({"proven_overflow_bound_node", r.weakest_node});
+  }
   for (const tune_node_record& n : r.nodes) {
     suite.properties.push_back({"node." + n.node, fixedpoint::to_q_string(n.fmt)});
   }

@@ -159,6 +159,13 @@ TEST(Junit, TuneHasACasePerLimitAndFailsExactlyTheLimitsItsJsonMisses) {
   for (const auto& [node, n] : j["nodes"].items()) {
     EXPECT_EQ(xpath(dir / "t.xml", "string(//property[@name=\"node." + node + "\"]/@value)"), n["format"]) << node;
   }
+  // So does the bound the fresh trials prove, as the JSON states it (2 fresh trials: with no
+  // overflow, 2.996 / (2 x the sparsest node's values per trial)).
+  const double bound = j["verification"]["proven_overflow_bound_95"].get<double>();
+  EXPECT_NEAR(std::stod(xpath(dir / "t.xml", "string(//property[@name=\"proven_overflow_bound_95\"]/@value)")), bound,
+              1e-6 * bound);
+  EXPECT_EQ(xpath(dir / "t.xml", "string(//property[@name=\"proven_overflow_bound_node\"]/@value)"),
+            j["verification"]["weakest_node"]);
 }
 
 }  // namespace

@@ -65,14 +65,15 @@ void render_section(page& pg, const run_record& r) {
   }
   pg.out += "<table>\n";
   pg.row({"node", "format", "rounding", "overflow", "SQNR (dB)", "max error (LSB)", "overflows", "overflow rate",
-          "width", "max |golden|", "values", "requantised", "inexact", "max excess (LSB)"},
+          "rate bound (95 %)", "width", "max |golden|", "values", "requantised", "inexact", "max excess (LSB)"},
          true, "llll");
   for (const run_node_record& n : r.nodes) {
     pg.row({esc(n.node), esc(fixedpoint::to_q_string(n.fmt)), std::string(fixedpoint::to_string(n.rounding)),
             std::string(fixedpoint::to_string(n.overflow)), n.sqnr_db ? num(*n.sqnr_db) : "exact", num(n.max_err_lsb),
             num(static_cast<double>(n.overflows), 12), num_or_dash(n.overflow_rate, 3),
-            n.is_default ? "default" : "set", num_or_dash(n.max_abs_golden), count_or_dash(n.values),
-            count_or_dash(n.requantized), count_or_dash(n.inexact), num_or_dash(n.max_overflow_excess_lsb)},
+            n.overflow_rate_bound ? num_or_dash(*n.overflow_rate_bound, 3) : "—", n.is_default ? "default" : "set",
+            num_or_dash(n.max_abs_golden), count_or_dash(n.values), count_or_dash(n.requantized),
+            count_or_dash(n.inexact), num_or_dash(n.max_overflow_excess_lsb)},
            false, "llll");
   }
   pg.out += "</table>\n";
