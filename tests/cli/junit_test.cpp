@@ -159,11 +159,12 @@ TEST(Junit, TuneHasACasePerLimitAndFailsExactlyTheLimitsItsJsonMisses) {
   for (const auto& [node, n] : j["nodes"].items()) {
     EXPECT_EQ(xpath(dir / "t.xml", "string(//property[@name=\"node." + node + "\"]/@value)"), n["format"]) << node;
   }
-  // So does the bound the fresh trials prove, as the JSON states it (2 fresh trials: with no
+  // So does the bound the fresh trials prove, as the JSON states it, to the property's six
+  // significant digits (a relative 5e-6). With 2 fresh trials and no
   // overflow, 2.996 / (2 x the sparsest node's values per trial)).
   const double bound = j["verification"]["proven_overflow_bound_95"].get<double>();
   EXPECT_NEAR(std::stod(xpath(dir / "t.xml", "string(//property[@name=\"proven_overflow_bound_95\"]/@value)")), bound,
-              1e-6 * bound);
+              1e-5 * bound);
   EXPECT_EQ(xpath(dir / "t.xml", "string(//property[@name=\"proven_overflow_bound_node\"]/@value)"),
             j["verification"]["weakest_node"]);
 }
