@@ -54,9 +54,7 @@ Eigen::MatrixXcd received_downlink(const scenario& scen, const trial_data& trial
   }
   const double amplitude = std::sqrt(scen.downlink_snr() / trial.digital_power);
   Eigen::MatrixXcd r = trial.channel_to_cell0[0].transpose() * tx_cell0;
-  for (std::size_t i_cell = 1; i_cell < trial.channel_to_cell0.size(); ++i_cell) {
-    r.noalias() += trial.channel_to_cell0[i_cell].transpose() * trial.cell_tx[i_cell];
-  }
+  if (trial.interference_to_cell0.size() > 0) r += trial.interference_to_cell0;
   return amplitude * r;
 }
 

@@ -85,6 +85,13 @@ trial_data run_trial(const scenario& scen, std::uint64_t trial_index) {
       td.tx = std::move(tx);
     }
   }
+  for (std::size_t i_cell = 1; i_cell < td.channel_to_cell0.size(); ++i_cell) {
+    if (i_cell == 1) {
+      td.interference_to_cell0.noalias() = td.channel_to_cell0[1].transpose() * td.cell_tx[1];
+    } else {
+      td.interference_to_cell0.noalias() += td.channel_to_cell0[i_cell].transpose() * td.cell_tx[i_cell];
+    }
+  }
   td.metrics = evaluate_downlink(scen, td, td.tx);
   return td;
 }

@@ -33,7 +33,8 @@ link_metrics measure_link(const Eigen::MatrixXcd& received, const Eigen::MatrixX
 
 /// Noise-free received samples of cell 0's users (K x N):
 /// r_k = sqrt(rho_d / P_dig) (h^0_{0k}^T tx_cell0 + sum_{l>0} h^l_{0k}^T tx_l), the other cells
-/// transmitting their golden blocks from `trial`. Throws std::invalid_argument unless tx_cell0 is
+/// transmitting their golden blocks from `trial`; their sum is the trial's
+/// interference_to_cell0, added to cell 0's part as one matrix. Throws std::invalid_argument unless tx_cell0 is
 /// M x N like trial.tx.
 Eigen::MatrixXcd received_downlink(const scenario& scen, const trial_data& trial, const Eigen::MatrixXcd& tx_cell0);
 

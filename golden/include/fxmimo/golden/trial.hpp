@@ -49,7 +49,11 @@ struct trial_data {
   std::vector<Eigen::MatrixXcd> channel_to_cell0;  ///< [l]: M x K channel h^l_{0k} from BS l to cell 0's users
   std::vector<Eigen::MatrixXcd> cell_precoder;     ///< [l]: BS l's unscaled precoder (index 0 = precoder)
   std::vector<Eigen::MatrixXcd> cell_tx;           ///< [l]: BS l's golden tx (index 0 = tx)
-  link_metrics metrics;                            ///< evaluate_downlink(scenario, *this, tx)
+  /// K x N: the other cells' signal at cell 0's users before the amplitude, sum over l = 1 ..
+  /// L-1 of (h^l_{0k})^T x_l, added in cell order; empty with one cell. Computed once per trial:
+  /// it does not depend on cell 0's block, so every evaluation of a fixed block reuses it.
+  Eigen::MatrixXcd interference_to_cell0;
+  link_metrics metrics;  ///< evaluate_downlink(scenario, *this, tx)
 };
 
 /// Runs trial `trial_index`. All random numbers come from one xoshiro256** stream seeded with
