@@ -11,6 +11,7 @@
 
 #include "fxmimo/analysis/resources.hpp"
 #include "fxmimo/analysis/statistics.hpp"
+#include "fxmimo/analysis/trial_cache.hpp"
 #include "fxmimo/golden/link_metrics.hpp"
 #include "fxmimo/golden/precoder.hpp"
 #include "fxmimo/golden/trial.hpp"
@@ -62,35 +63,64 @@ std::vector<std::uint64_t> first_trials(int n) {
   return out;
 }
 
-trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datapath_config& config,
-                             std::uint64_t trial_index) {
+namespace {
+
+/// A node's error and overflow figures in one trial.
+node_result measure_node(datapath::node_id id, const datapath::node_setting& setting, const fixedpoint::counters& c,
+                         const Eigen::MatrixXcd& g, const datapath::word_matrix& w) {
+  node_result r;
+  r.id = id;
+  r.spec = setting.spec;
+  r.is_default = setting.is_default;
+  r.counters = c;
+  if (g.rows() != w.rows || g.cols() != w.cols) {
+    throw std::logic_error(fmt::format("node {}: golden {}x{} against fixed {}x{}", datapath::node_name(id), g.rows(),
+                                       g.cols(), w.rows, w.cols));
+  }
+  const Eigen::MatrixXcd f = datapath::to_values(w, r.spec.fmt.frac_bits);
+  const Eigen::MatrixXcd e = g - f;
+  r.signal_energy = g.squaredNorm();
+  r.error_energy = e.squaredNorm();
+  r.num_values = static_cast<std::uint64_t>(g.size());
+  const double max_abs = std::max(e.real().cwiseAbs().maxCoeff(), e.imag().cwiseAbs().maxCoeff());
+  r.max_err_lsb = max_abs / r.spec.fmt.lsb();
+  r.max_abs_golden = std::max(g.real().cwiseAbs().maxCoeff(), g.imag().cwiseAbs().maxCoeff());
+  return r;
+}
+
+/// The figures of one trial from its golden part and fixed words. With `earlier` (an evaluation
+/// of the same trial) and `recomputed` (per node), the figures of nodes not recomputed are
+/// copied from it, and its link figures too when the dac was not recomputed: the same words give
+/// the same figures.
+trial_summary summarise_trial(const datapath::datapath_plan& plan, const golden::scenario& scen,
+                              const datapath::datapath_config& config, const golden_part& g,
+                              const datapath::fixed_trial& fixed, const trial_summary* earlier,
+                              const std::vector<bool>* recomputed) {
+  const golden::trial_data& trial = g.trial;
+  auto again = [&](datapath::node_id id) { return earlier == nullptr || (*recomputed)[datapath::index_of(id)]; };
   trial_summary out;
-  out.trial_index = trial_index;
+  out.trial_index = trial.trial_index;
   out.nodes.resize(datapath::node_count());
-  const datapath::datapath_plan plan = datapath::stages_for(scen);
-  const golden::trial_data trial = golden::run_trial(scen, trial_index);
-  const datapath::fixed_trial fixed = datapath::run_fixed_datapath(plan, scen, config, trial);
-  const auto golden_values = datapath::golden_node_values(plan, scen, trial);
   for (datapath::node_id id : plan.nodes()) {
-    node_result& r = out.nodes[datapath::index_of(id)];
-    r.id = id;
-    r.spec = config[id].spec;
-    r.is_default = config[id].is_default;
-    r.counters = fixed.counters[datapath::index_of(id)];
-    const Eigen::MatrixXcd& g = golden_values[datapath::index_of(id)];
-    const datapath::word_matrix& w = fixed.words[datapath::index_of(id)];
-    if (g.rows() != w.rows || g.cols() != w.cols) {
-      throw std::logic_error(fmt::format("node {}: golden {}x{} against fixed {}x{}", datapath::node_name(id), g.rows(),
-                                         g.cols(), w.rows, w.cols));
+    const std::size_t i = datapath::index_of(id);
+    if (again(id)) {
+      out.nodes[i] = measure_node(id, config[id], fixed.counters[i], g.node_values[i], fixed.words[i]);
+    } else {
+      out.nodes[i] = earlier->nodes[i];
+      out.nodes[i].spec = config[id].spec;
+      out.nodes[i].is_default = config[id].is_default;
     }
-    const Eigen::MatrixXcd f = datapath::to_values(w, r.spec.fmt.frac_bits);
-    const Eigen::MatrixXcd e = g - f;
-    r.signal_energy = g.squaredNorm();
-    r.error_energy = e.squaredNorm();
-    r.num_values = static_cast<std::uint64_t>(g.size());
-    const double max_abs = std::max(e.real().cwiseAbs().maxCoeff(), e.imag().cwiseAbs().maxCoeff());
-    r.max_err_lsb = max_abs / r.spec.fmt.lsb();
-    r.max_abs_golden = std::max(g.real().cwiseAbs().maxCoeff(), g.imag().cwiseAbs().maxCoeff());
+  }
+  out.sinr_golden = trial.metrics.sinr;
+  out.evm_golden_pct = trial.metrics.evm_pct;
+  out.neumann_radius = trial.neumann_radius;
+  out.gram_condition = g.gram_condition;
+  if (!again(datapath::node_id::dac)) {
+    out.sinr_fixed = earlier->sinr_fixed;
+    out.evm_fixed_pct = earlier->evm_fixed_pct;
+    out.evm_impl = earlier->evm_impl;
+    out.tx_power_error_db = earlier->tx_power_error_db;
+    return out;
   }
   // The fixed block is evaluated at the golden block's transmitted power (a calibrated power
   // amplifier), so the SINR loss measures distortion; the power error is reported on its own.
@@ -98,13 +128,43 @@ trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datap
   const double power_scale = fixed_power > 0 ? std::sqrt(golden_power / fixed_power) : 1.0;
   out.tx_power_error_db = fixed_power > 0 ? 10 * std::log10(fixed_power / golden_power) : -300.0;
   const golden::link_metrics fixed_metrics = golden::evaluate_downlink(scen, trial, power_scale * fixed.dac_value);
-  out.sinr_golden = trial.metrics.sinr;
   out.sinr_fixed = fixed_metrics.sinr;
-  out.evm_golden_pct = trial.metrics.evm_pct;
   out.evm_fixed_pct = fixed_metrics.evm_pct;
   out.evm_impl = golden::implementation_evm(fixed.dac_value, trial.tx);
-  out.neumann_radius = trial.neumann_radius;
-  if (trial.gram.size() > 0) out.gram_condition = golden::condition_number(trial.gram);
+  return out;
+}
+
+}  // namespace
+
+trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datapath_config& config,
+                             std::uint64_t trial_index) {
+  const datapath::datapath_plan plan = datapath::stages_for(scen);
+  const golden_part g = make_golden_part(plan, scen, trial_index);
+  const datapath::fixed_trial fixed = datapath::run_fixed_datapath(plan, scen, config, g.trial);
+  return summarise_trial(plan, scen, config, g, fixed, nullptr, nullptr);
+}
+
+trial_summary evaluate_trial(trial_cache& cache, const datapath::datapath_config& config, std::uint64_t trial_index) {
+  const datapath::datapath_plan& plan = cache.plan();
+  const std::shared_ptr<const golden_part> g = cache.golden(trial_index);
+  const std::shared_ptr<const fixed_part> earlier = cache.nearest(trial_index, config);
+  auto now = std::make_shared<fixed_part>();
+  now->config = config;
+  std::vector<bool> recomputed;
+  if (earlier) {
+    now->fixed = datapath::rerun_fixed_datapath(plan, cache.scenario(), config, g->trial, earlier->fixed,
+                                                earlier->config, &recomputed);
+  } else {
+    now->fixed = datapath::run_fixed_datapath(plan, cache.scenario(), config, g->trial);
+  }
+  now->summary = summarise_trial(plan, cache.scenario(), config, *g, now->fixed, earlier ? &earlier->summary : nullptr,
+                                 earlier ? &recomputed : nullptr);
+  const std::size_t num_nodes = plan.nodes().size();
+  const auto run =
+      earlier ? static_cast<std::size_t>(std::count(recomputed.begin(), recomputed.end(), true)) : num_nodes;
+  cache.count_evaluation(earlier != nullptr, run, num_nodes - run);
+  trial_summary out = now->summary;
+  cache.keep(trial_index, std::move(now));
   return out;
 }
 
@@ -145,6 +205,14 @@ void for_each_index_parallel(std::size_t count, unsigned num_threads, const std:
   if (first_error) std::rethrow_exception(first_error);
 }
 
+namespace {
+
+/// Reduction in trial order: the same sums in the same order for any thread count.
+run_results reduce_trials(const golden::scenario& scen, const datapath::datapath_config& config,
+                          const std::vector<std::uint64_t>& trial_indices, const std::vector<trial_summary>& per_trial);
+
+}  // namespace
+
 run_results run_trials(const golden::scenario& scen, const datapath::datapath_config& config,
                        const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
                        const progress_callback& progress) {
@@ -153,8 +221,25 @@ run_results run_trials(const golden::scenario& scen, const datapath::datapath_co
   for_each_index_parallel(
       trial_indices.size(), num_threads,
       [&](std::size_t i) { per_trial[i] = evaluate_trial(scen, config, trial_indices[i]); }, progress);
+  return reduce_trials(scen, config, trial_indices, per_trial);
+}
 
-  // Reduction in trial order: the same sums in the same order for any thread count.
+run_results run_trials(trial_cache& cache, const datapath::datapath_config& config,
+                       const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
+                       const progress_callback& progress) {
+  if (trial_indices.empty()) throw std::invalid_argument("no trials to run");
+  std::vector<trial_summary> per_trial(trial_indices.size());
+  for_each_index_parallel(
+      trial_indices.size(), num_threads,
+      [&](std::size_t i) { per_trial[i] = evaluate_trial(cache, config, trial_indices[i]); }, progress);
+  return reduce_trials(cache.scenario(), config, trial_indices, per_trial);
+}
+
+namespace {
+
+run_results reduce_trials(const golden::scenario& scen, const datapath::datapath_config& config,
+                          const std::vector<std::uint64_t>& trial_indices,
+                          const std::vector<trial_summary>& per_trial) {
   run_results out;
   out.scenario_name = scen.name;
   out.scenario_source = scen.source_name;
@@ -265,5 +350,7 @@ run_results run_trials(const golden::scenario& scen, const datapath::datapath_co
   }
   return out;
 }
+
+}  // namespace
 
 }  // namespace fxmimo::analysis

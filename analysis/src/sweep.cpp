@@ -5,6 +5,7 @@
 #include <cmath>
 
 #include "fxmimo/analysis/range.hpp"
+#include "fxmimo/analysis/trial_cache.hpp"
 
 namespace fxmimo::analysis {
 
@@ -43,7 +44,7 @@ fp::format swept_format(const fp::format& base, sweep_axis axis, int bits) {
 sweep_results run_sweep(const golden::scenario& scen, const datapath::datapath_config& config,
                         const std::vector<datapath::node_id>& nodes, int lo, int hi, sweep_axis axis,
                         const std::vector<std::uint64_t>& trials, unsigned num_threads,
-                        const progress_callback& progress) {
+                        const progress_callback& progress, std::optional<double> cache_budget_bytes) {
   if (lo > hi) throw std::invalid_argument(fmt::format("empty bit range {}:{}", lo, hi));
   // Check every point before running any, so a bad range fails at once.
   for (datapath::node_id id : nodes)
@@ -54,12 +55,14 @@ sweep_results run_sweep(const golden::scenario& scen, const datapath::datapath_c
   out.axis = axis;
   const std::size_t total = nodes.size() * static_cast<std::size_t>(hi - lo + 1) * trials.size();
   std::size_t before = 0;
+  // Golden once per trial; each point reruns only the stages downstream of its node.
+  trial_cache cache(scen, cache_budget_bytes.value_or(default_cache_budget_bytes()));
   for (datapath::node_id id : nodes) {
     for (int b = lo; b <= hi; ++b) {
       datapath::datapath_config c = config;
       c[id].spec.fmt = swept_format(config[id].spec.fmt, axis, b);
       c[id].is_default = false;
-      const run_results r = run_trials(scen, c, trials, num_threads, [&](std::size_t done, std::size_t) {
+      const run_results r = run_trials(cache, c, trials, num_threads, [&](std::size_t done, std::size_t) {
         if (progress) progress(before + done, total);
       });
       before += trials.size();

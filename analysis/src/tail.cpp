@@ -118,8 +118,7 @@ std::optional<tail_fit> fit_tail_quantile(std::vector<double> largest, std::size
 
   // Named copies, not structured bindings: a lambda below uses them, and C++20 (as clang 14
   // reads it) does not let a lambda capture a structured binding.
-  const auto fitted =
-      maximise_over_shape([&](double xi) { return log_likelihood(y, xi, best_scale(y, xi, mean)); });
+  const auto fitted = maximise_over_shape([&](double xi) { return log_likelihood(y, xi, best_scale(y, xi, mean)); });
   const double shape = fitted.first;
   const double best = fitted.second;
   tail_fit out;

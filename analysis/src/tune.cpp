@@ -5,8 +5,11 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <memory>
 #include <sstream>
 #include <stdexcept>
+
+#include "fxmimo/analysis/trial_cache.hpp"
 
 namespace fxmimo::analysis {
 
@@ -199,15 +202,17 @@ std::string fresh_failure_diagnosis(const tune_results& r, const std::vector<int
 tune_results tune_widths(const golden::scenario& scen, const datapath::datapath_config& start,
                          const tune_limits& limits, cost_model model, const tune_trial_counts& trials,
                          unsigned num_threads, double overflow_prob, double search_margin,
-                         const std::function<void(const std::string&)>& status) {
+                         const std::function<void(const std::string&)>& status,
+                         std::optional<double> cache_budget_bytes) {
   return tune_widths_at_corners({tune_corner{"", scen, trials}}, start, limits, model, num_threads, overflow_prob,
-                                search_margin, status);
+                                search_margin, status, cache_budget_bytes);
 }
 
 tune_results tune_widths_at_corners(const std::vector<tune_corner>& corners, const datapath::datapath_config& start,
                                     const tune_limits& limits, cost_model model, unsigned num_threads,
                                     double overflow_prob, double search_margin,
-                                    const std::function<void(const std::string&)>& status) {
+                                    const std::function<void(const std::string&)>& status,
+                                    std::optional<double> cache_budget_bytes) {
   if (corners.empty()) throw std::invalid_argument("tune needs at least one corner");
   auto say = [&](const std::string& s) {
     if (status) status(s);
@@ -263,10 +268,16 @@ tune_results tune_widths_at_corners(const std::vector<tune_corner>& corners, con
     }
     return c;
   };
+  // Each corner's search trials: golden once, and every evaluation reruns only the stages
+  // downstream of the nodes it changed (bit-identical to full evaluations).
+  std::vector<std::unique_ptr<trial_cache>> caches;
+  for (const tune_corner& c : corners)
+    caches.push_back(std::make_unique<trial_cache>(
+        c.scen, cache_budget_bytes.value_or(default_cache_budget_bytes()) / static_cast<double>(corners.size())));
   auto figures_at = [&](const std::vector<int>& frac) {
     std::vector<tune_figures> all;
-    for (const tune_corner& c : corners)
-      all.push_back(figures_of(run_trials(c.scen, config_of(frac), out.search_trials, num_threads), limits));
+    for (std::size_t c = 0; c < corners.size(); ++c)
+      all.push_back(figures_of(run_trials(*caches[c], config_of(frac), out.search_trials, num_threads), limits));
     return all;
   };
   int step = 0;

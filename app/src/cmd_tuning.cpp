@@ -166,12 +166,13 @@ int run_sweep_command(const sweep_options& opt) {
                   {static_cast<std::size_t>(in.trials_or_default(opt.num_trials)),
                    nodes.size() * static_cast<std::size_t>(hi - lo + 1), opt.num_threads, 0},
                   opt.resources);
+  const std::optional<double> budget = cache_budget_bytes(opt.resources);
   progress_line progress("sweep trials");
   analysis::sweep_results r;
   try {
-    r = analysis::run_sweep(in.scen, in.config, nodes, lo, hi, axis,
-                            analysis::first_trials(in.trials_or_default(opt.num_trials)), opt.num_threads,
-                            [&](std::size_t d, std::size_t t) { progress.update(d, t); });
+    r = analysis::run_sweep(
+        in.scen, in.config, nodes, lo, hi, axis, analysis::first_trials(in.trials_or_default(opt.num_trials)),
+        opt.num_threads, [&](std::size_t d, std::size_t t) { progress.update(d, t); }, budget);
   } catch (const std::invalid_argument& e) {
     throw usage_error(e.what());
   }
@@ -327,10 +328,11 @@ int run_tune(const tune_options& opt) {
     if (corners.size() > 1) fmt::print("  ");
     fmt::print("verification: {}\n", verify_plan.text("fresh trials"));
   }
+  const std::optional<double> budget = cache_budget_bytes(opt.resources);
   analysis::tune_results r;
   try {
     r = analysis::tune_widths_at_corners(corners, in.config, limits, model, opt.num_threads, opt.overflow_prob,
-                                         opt.margin, show_status);
+                                         opt.margin, show_status, budget);
   } catch (const std::invalid_argument& e) {
     throw usage_error(e.what());
   }
@@ -401,6 +403,7 @@ void add_sweep_command(CLI::App& app) {
   cmd->add_option("--json", opt->json_path, "Write the points as JSON (input of fxmimo report)");
   cmd->add_option("--csv", opt->csv_path, "Write the points as CSV");
   add_resource_options(cmd, opt->resources);
+  add_cache_option(cmd, opt->resources);
   cmd->footer(
       "Each point is exactly `fxmimo run` of the scenario with that one width changed, or (--key) with that one\n"
       "scenario key set; a key sweep prints golden SINR, golden interference over signal, SINR loss and the\n"
@@ -470,6 +473,7 @@ void add_tune_command(CLI::App& app) {
   cmd->add_option("--corner-scenario", opt->corner_files, "Another scenario file as a corner (repeatable)")
       ->allow_extra_args(false);
   add_resource_options(cmd, opt->resources);
+  add_cache_option(cmd, opt->resources);
   cmd->footer(
       "Integer bits come from range profiling; fraction bits from a per-node minimum and greedy add/remove passes.\n"
       "The verification runs on fresh trials, none seen by the search or the range profile, and prints the\n"

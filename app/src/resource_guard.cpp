@@ -18,6 +18,22 @@ void add_resource_options(CLI::App* cmd, resource_options& opt) {
       ->check(CLI::PositiveNumber);
 }
 
+void add_cache_option(CLI::App* cmd, resource_options& opt) {
+  cmd->add_option("--cache-budget", opt.cache_budget,
+                  "Memory for golden trials and earlier evaluations kept between evaluations, e.g. 4G; 0 keeps "
+                  "nothing (default: a quarter of the memory available; results are the same with any budget)");
+}
+
+std::optional<double> cache_budget_bytes(const resource_options& opt) {
+  if (opt.cache_budget.empty()) return std::nullopt;
+  if (opt.cache_budget == "0") return 0.0;  // keep nothing (parse_bytes takes only positive sizes)
+  const std::optional<double> bytes = analysis::parse_bytes(opt.cache_budget);
+  if (!bytes)
+    throw usage_error(
+        fmt::format("--cache-budget '{}': expected a size such as 0, 512M, 4G or 1.5T", opt.cache_budget));
+  return bytes;
+}
+
 void check_resources(const scenario_input& in, const planned_work& plan, const resource_options& opt) {
   const std::size_t at_once = analysis::worker_count(plan.trials, plan.threads);
 

@@ -8,14 +8,22 @@
 
 namespace fxmimo::datapath {
 
-fixed_trial run_fixed_datapath(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
-                               const golden::trial_data& trial) {
+namespace {
+
+void check_config_size(const datapath_config& config) {
   if (config.nodes.size() != node_count()) {
     throw std::logic_error(
         fmt::format("datapath_config holds {} nodes, the node table {}: build the configuration after "
                     "registering nodes",
                     config.nodes.size(), node_count()));
   }
+}
+
+}  // namespace
+
+fixed_trial run_fixed_datapath(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
+                               const golden::trial_data& trial) {
+  check_config_size(config);
   fixed_trial out;
   out.words.resize(node_count());
   out.counters.resize(node_count());
@@ -28,6 +36,45 @@ fixed_trial run_fixed_datapath(const datapath_plan& plan, const golden::scenario
 fixed_trial run_fixed_datapath(const golden::scenario& scen, const datapath_config& config,
                                const golden::trial_data& trial) {
   return run_fixed_datapath(stages_for(scen), scen, config, trial);
+}
+
+std::vector<node_id> changed_nodes(const datapath_plan& plan, const datapath_config& a, const datapath_config& b) {
+  std::vector<node_id> out;
+  for (node_id id : plan.nodes()) {
+    const node_setting &x = a[id], &y = b[id];
+    if (!(x.spec == y.spec) || !(x.order == y.order)) out.push_back(id);
+  }
+  return out;
+}
+
+fixed_trial rerun_fixed_datapath(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
+                                 const golden::trial_data& trial, const fixed_trial& earlier,
+                                 const datapath_config& earlier_config, std::vector<bool>* recomputed) {
+  check_config_size(config);
+  check_config_size(earlier_config);
+  if (earlier.words.size() != node_count() || earlier.counters.size() != node_count())
+    throw std::logic_error("rerun_fixed_datapath: the earlier trial is not a run of this node table");
+  const std::vector<bool> dirty = plan.stages_downstream_of(changed_nodes(plan, config, earlier_config));
+  fixed_trial out;
+  out.words = earlier.words;
+  out.counters = earlier.counters;
+  if (recomputed != nullptr) recomputed->assign(node_count(), false);
+  fixed_context ctx{scen, trial, config, out.words, out.counters};
+  bool dac_again = false;
+  for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage) {
+    if (!dirty[i_stage]) continue;
+    const stage& s = *plan.stages[i_stage];
+    // A stage counts into its outputs' counters from zero, as in a full run.
+    for (const port& p : s.ports()) {
+      out.counters[index_of(p.node)] = {};
+      if (recomputed != nullptr) (*recomputed)[index_of(p.node)] = true;
+      dac_again = dac_again || p.node == node_id::dac;
+    }
+    s.compute(ctx);
+  }
+  out.dac_value = dac_again ? to_values(out.words[index_of(node_id::dac)], config[node_id::dac].spec.fmt.frac_bits)
+                            : earlier.dac_value;
+  return out;
 }
 
 std::vector<Eigen::MatrixXcd> golden_node_values(const datapath_plan& plan, const golden::scenario& scen,

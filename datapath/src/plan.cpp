@@ -43,6 +43,24 @@ std::vector<node_id> datapath_plan::sources_of(node_id id) const {
   return {};
 }
 
+std::vector<bool> datapath_plan::stages_downstream_of(const std::vector<node_id>& changed) const {
+  std::vector<bool> dirty_node(node_count(), false);
+  for (node_id id : changed) dirty_node[index_of(id)] = true;
+  std::vector<bool> out(stages.size(), false);
+  // Stages are in computing order, so one pass carries the change downstream.
+  for (std::size_t i_stage = 0; i_stage < stages.size(); ++i_stage) {
+    bool dirty = false;
+    for (const port& p : stages[i_stage]->ports()) {
+      dirty = dirty || dirty_node[index_of(p.node)];
+      for (node_id source : p.sources) dirty = dirty || dirty_node[index_of(source)];
+    }
+    if (!dirty) continue;
+    out[i_stage] = true;
+    for (const port& p : stages[i_stage]->ports()) dirty_node[index_of(p.node)] = true;
+  }
+  return out;
+}
+
 void datapath_plan::insert_before(node_id id, std::shared_ptr<stage> s, std::optional<node_id> replaced,
                                   std::optional<node_id> replacement) {
   const auto at = std::find_if(stages.begin(), stages.end(), [&](const auto& st) { return st->outputs(id); });

@@ -161,6 +161,8 @@ const bad_input catalogue[] = {
     bad_input{"vectors_over_max_memory", "vectors -c good.toml -o out --trials 0-3 --max-memory 16K",
               "for the words of 4 trials), more than the 16 KiB that --max-memory allows"},
     bad_input{"max_memory_not_a_size", "range -c good.toml --max-memory lots", "--max-memory 'lots'"},
+    bad_input{"cache_budget_not_a_size", "sweep -c good.toml --node dac --bits 8:9 --cache-budget lots",
+              "--cache-budget 'lots': expected a size"},
     bad_input{"sweep_over_max_work", "sweep -c good.toml --node all --bits 4:20 --max-work 1e5",
               "good.toml:28: data.symbols: the command asks for about"},
     bad_input{"tune_over_max_work", "tune -c good.toml --max-evm 1 -o t.toml --max-work 100", "than --max-work 100"},

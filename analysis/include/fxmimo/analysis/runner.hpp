@@ -99,6 +99,12 @@ struct trial_summary {
 trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datapath_config& config,
                              std::uint64_t trial_index);
 
+class trial_cache;  // trial_cache.hpp
+/// The same through a cache: the trial's golden part computed once, the fixed datapath rerun
+/// only downstream of the nodes whose settings differ from a kept evaluation of the trial.
+/// Bit-identical to evaluate_trial(cache.scenario(), config, trial_index).
+trial_summary evaluate_trial(trial_cache& cache, const datapath::datapath_config& config, std::uint64_t trial_index);
+
 /// Called after each finished trial with (done, total).
 using progress_callback = std::function<void(std::size_t, std::size_t)>;
 
@@ -114,6 +120,11 @@ void for_each_index_parallel(std::size_t count, unsigned num_threads, const std:
 
 /// Runs the given trials on `num_threads` threads (0: all cores).
 run_results run_trials(const golden::scenario& scen, const datapath::datapath_config& config,
+                       const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
+                       const progress_callback& progress = {});
+
+/// The same through a cache (evaluate_trial with a cache): bit-identical results.
+run_results run_trials(trial_cache& cache, const datapath::datapath_config& config,
                        const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
                        const progress_callback& progress = {});
 

@@ -2,6 +2,7 @@
 /// Sweeps: one node's width varied over a range, every other node as configured; each point is
 /// exactly a `fxmimo run` of the scenario with that width set (same trials, same results).
 
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -37,11 +38,13 @@ struct sweep_results {
 };
 
 /// Runs the sweep: for each node and each bits in [lo, hi], run_trials with that one format
-/// changed. Progress counts trials over all points.
+/// changed. Progress counts trials over all points. The points share a trial_cache of
+/// `cache_budget_bytes` (default_cache_budget_bytes when absent; 0 keeps nothing): results are
+/// the same with any budget.
 sweep_results run_sweep(const golden::scenario& scen, const datapath::datapath_config& config,
                         const std::vector<datapath::node_id>& nodes, int lo, int hi, sweep_axis axis,
                         const std::vector<std::uint64_t>& trials, unsigned num_threads,
-                        const progress_callback& progress = {});
+                        const progress_callback& progress = {}, std::optional<double> cache_budget_bytes = {});
 
 /// A sweep over a scenario key (an operating point, not a width): each point is exactly `fxmimo
 /// run` of the scenario with KEY = value, every width as configured.

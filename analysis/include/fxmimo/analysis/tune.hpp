@@ -126,15 +126,20 @@ struct tune_results {
 tune_results tune_widths(const golden::scenario& scen, const datapath::datapath_config& start,
                          const tune_limits& limits, cost_model model, const tune_trial_counts& trials,
                          unsigned num_threads, double overflow_prob, double search_margin,
-                         const std::function<void(const std::string&)>& status = {});
+                         const std::function<void(const std::string&)>& status = {},
+                         std::optional<double> cache_budget_bytes = {});
 
 /// The same over several corners: one set of widths meeting the limits at every corner. Integer
 /// bits are the largest range proposal over the corners; an evaluation is the worst figure over
 /// the corners (the same search trials at each); each corner is verified on its own fresh
-/// trials. The corners must share the datapath's nodes; cost is the first corner's.
+/// trials. The corners must share the datapath's nodes; cost is the first corner's. The search
+/// evaluates each corner's trials through a trial_cache; the corners share `cache_budget_bytes`
+/// (default_cache_budget_bytes when absent; 0 keeps nothing): results are the same with any
+/// budget.
 tune_results tune_widths_at_corners(const std::vector<tune_corner>& corners, const datapath::datapath_config& start,
                                     const tune_limits& limits, cost_model model, unsigned num_threads,
                                     double overflow_prob, double search_margin,
-                                    const std::function<void(const std::string&)>& status = {});
+                                    const std::function<void(const std::string&)>& status = {},
+                                    std::optional<double> cache_budget_bytes = {});
 
 }  // namespace fxmimo::analysis

@@ -31,6 +31,19 @@ fixed_trial run_fixed_datapath(const datapath_plan& plan, const golden::scenario
 fixed_trial run_fixed_datapath(const golden::scenario& scen, const datapath_config& config,
                                const golden::trial_data& trial);
 
+/// The nodes of the plan whose settings differ between two configurations in anything that
+/// changes their words (format, rounding, overflow, accumulation order), in datapath order.
+std::vector<node_id> changed_nodes(const datapath_plan& plan, const datapath_config& a, const datapath_config& b);
+
+/// run_fixed_datapath for `config`, reusing `earlier`, the same plan and trial run with
+/// `earlier_config`: the words and counters of stages upstream of every changed node are
+/// copied, only the stages downstream of one (datapath_plan::stages_downstream_of) run again.
+/// Bit for bit and counter for counter the same as a full run. When `recomputed` is given, it
+/// is set per node (indexed by index_of) to whether the node's words were computed again.
+fixed_trial rerun_fixed_datapath(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
+                                 const golden::trial_data& trial, const fixed_trial& earlier,
+                                 const datapath_config& earlier_config, std::vector<bool>* recomputed = nullptr);
+
 /// The golden (double) value of every node of the plan, shaped like the node's words (real
 /// nodes as complex matrices with zero imaginary part), for per-node error measurement.
 std::vector<Eigen::MatrixXcd> golden_node_values(const datapath_plan& plan, const golden::scenario& scen,

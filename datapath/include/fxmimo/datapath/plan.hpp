@@ -24,6 +24,10 @@ struct datapath_plan {
   [[nodiscard]] const stage* producer(node_id id) const;
   /// The nodes `id` is computed from (empty for converters and ROMs fed by the golden model).
   [[nodiscard]] std::vector<node_id> sources_of(node_id id) const;
+  /// Per stage (in order): whether it must run again when the settings of the `changed` nodes
+  /// change. A stage runs again when it outputs a changed node or reads, through its ports, a
+  /// node that a stage running again outputs ("what is downstream of these nodes").
+  [[nodiscard]] std::vector<bool> stages_downstream_of(const std::vector<node_id>& changed) const;
   /// Inserts `s` before the stage that computes `id` and points every later reader of
   /// `replaced` at `replacement` (for a stage placed between two others; both may be the same
   /// node id to insert without rewiring). Throws std::invalid_argument when no stage computes id.

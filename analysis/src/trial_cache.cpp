@@ -1,0 +1,122 @@
+#include "fxmimo/analysis/trial_cache.hpp"
+
+#include <algorithm>
+#include <limits>
+
+#include "fxmimo/analysis/resources.hpp"
+#include "fxmimo/golden/precoder.hpp"
+
+namespace fxmimo::analysis {
+
+namespace {
+
+double matrix_bytes(const Eigen::MatrixXcd& m) { return 16.0 * static_cast<double>(m.size()); }
+
+}  // namespace
+
+golden_part make_golden_part(const datapath::datapath_plan& plan, const golden::scenario& scen,
+                             std::uint64_t trial_index) {
+  golden_part g;
+  g.trial = golden::run_trial(scen, trial_index);
+  g.node_values = datapath::golden_node_values(plan, scen, g.trial);
+  if (g.trial.gram.size() > 0) g.gram_condition = golden::condition_number(g.trial.gram);
+  return g;
+}
+
+double bytes_of(const golden_part& g) {
+  const golden::trial_data& t = g.trial;
+  double bytes = 0;
+  for (const Eigen::MatrixXcd* m :
+       {&t.adc, &t.pilots, &t.pilot_acc, &t.chan_est, &t.gram, &t.inverse, &t.precoder, &t.weights, &t.symbols, &t.tx})
+    bytes += matrix_bytes(*m);
+  for (const auto* cells : {&t.channel_to_cell0, &t.cell_precoder, &t.cell_tx})
+    for (const Eigen::MatrixXcd& m : *cells) bytes += matrix_bytes(m);
+  bytes += 4.0 * static_cast<double>(t.symbol_bits.size());
+  for (const Eigen::MatrixXcd& m : g.node_values) bytes += matrix_bytes(m);
+  return bytes;
+}
+
+double bytes_of(const fixed_part& f) {
+  double bytes = matrix_bytes(f.fixed.dac_value);
+  for (const datapath::word_matrix& w : f.fixed.words) bytes += 8.0 * static_cast<double>(w.re.size() + w.im.size());
+  return bytes;
+}
+
+double default_cache_budget_bytes() {
+  constexpr double fallback = 2.0 * 1024 * 1024 * 1024;
+  return available_memory_bytes().value_or(4 * fallback) / 4;
+}
+
+trial_cache::trial_cache(const golden::scenario& scen, double budget_bytes, std::size_t evaluations_per_trial)
+    : scen_(scen),
+      plan_(datapath::stages_for(scen)),
+      budget_bytes_(budget_bytes),
+      evaluations_per_trial_(evaluations_per_trial) {}
+
+std::shared_ptr<const golden_part> trial_cache::golden(std::uint64_t trial_index) {
+  {
+    const std::lock_guard lock(mutex_);
+    if (const auto it = golden_.find(trial_index); it != golden_.end()) {
+      ++stats_.golden_reused;
+      return it->second;
+    }
+  }
+  // Computed outside the lock, so that threads work on their trials at once.
+  auto made = std::make_shared<const golden_part>(make_golden_part(plan_, scen_, trial_index));
+  const double bytes = bytes_of(*made);
+  const std::lock_guard lock(mutex_);
+  ++stats_.golden_computed;
+  if (stats_.bytes_kept + bytes <= budget_bytes_ && golden_.emplace(trial_index, made).second)
+    stats_.bytes_kept += bytes;
+  return made;
+}
+
+std::shared_ptr<const fixed_part> trial_cache::nearest(std::uint64_t trial_index,
+                                                       const datapath::datapath_config& config) const {
+  std::vector<std::shared_ptr<const fixed_part>> kept;
+  {
+    const std::lock_guard lock(mutex_);
+    const auto it = fixed_.find(trial_index);
+    if (it == fixed_.end()) return nullptr;
+    kept.assign(it->second.begin(), it->second.end());
+  }
+  std::shared_ptr<const fixed_part> best;
+  std::size_t best_run = std::numeric_limits<std::size_t>::max();
+  for (auto it = kept.rbegin(); it != kept.rend(); ++it) {  // the most recent first
+    const std::vector<bool> dirty = plan_.stages_downstream_of(datapath::changed_nodes(plan_, config, (*it)->config));
+    const auto run = static_cast<std::size_t>(std::count(dirty.begin(), dirty.end(), true));
+    if (run < best_run) {
+      best_run = run;
+      best = *it;
+    }
+  }
+  return best;
+}
+
+void trial_cache::keep(std::uint64_t trial_index, std::shared_ptr<const fixed_part> evaluation) {
+  if (evaluations_per_trial_ == 0) return;
+  const double bytes = bytes_of(*evaluation);
+  const std::lock_guard lock(mutex_);
+  std::deque<std::shared_ptr<const fixed_part>>& kept = fixed_[trial_index];
+  if (kept.size() == evaluations_per_trial_) {
+    stats_.bytes_kept -= bytes_of(*kept.front());
+    kept.pop_front();
+  }
+  if (stats_.bytes_kept + bytes > budget_bytes_) return;
+  kept.push_back(std::move(evaluation));
+  stats_.bytes_kept += bytes;
+}
+
+void trial_cache::count_evaluation(bool incremental, std::size_t nodes_run, std::size_t nodes_reused) {
+  const std::lock_guard lock(mutex_);
+  ++(incremental ? stats_.evaluations_incremental : stats_.evaluations_full);
+  stats_.nodes_run += nodes_run;
+  stats_.nodes_reused += nodes_reused;
+}
+
+cache_statistics trial_cache::statistics() const {
+  const std::lock_guard lock(mutex_);
+  return stats_;
+}
+
+}  // namespace fxmimo::analysis
