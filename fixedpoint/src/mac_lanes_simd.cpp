@@ -92,7 +92,7 @@ template <rounding_mode R>
 HWY_INLINE V round_lanes(D d, V x, const lane_limits& lim, lane_tally& t) {
   const hn::RebindToUnsigned<D> du;
   const V rest = hn::And(x, lim.mask);
-  // floor(x / 2^shift): |x| < 2^62 whenever the vector form applies, so x + 2^62 is
+  // floor(x / 2^shift): |x| <= 2^61 whenever the vector form applies, so x + 2^62 is
   // non-negative and a logical shift of it (cheaper than an arithmetic one on AVX2) is exact.
   const V fl =
       hn::Sub(hn::BitCast(d, hn::ShiftRightSame(hn::Add(hn::BitCast(du, x), hn::BitCast(du, lim.bias)), lim.shift)),
@@ -197,7 +197,7 @@ std::size_t run_modes(const lane_operand& a, const lane_operand& b, std::size_t 
   const bool symmetric = O == overflow_mode::saturate_symmetric && is_signed;
   const auto bias = std::int64_t{1} << 62;
   const lane_limits lim{hn::Set(d, static_cast<std::int64_t>((std::uint64_t{1} << shift) - 1)),
-                        hn::Set(d, std::int64_t{1} << (shift - 1)),
+                        hn::Set(d, shift > 0 ? std::int64_t{1} << (shift - 1) : 0),
                         hn::Set(d, bias),
                         hn::Set(d, bias >> shift),
                         hn::Set(d, lo),
@@ -232,7 +232,11 @@ std::size_t run_modes(const lane_operand& a, const lane_operand& b, std::size_t 
   if (max_seen > hi) local.max_excess_lsb = static_cast<double>(max_seen - hi);
   const std::int64_t lo_trigger = symmetric ? lo + 1 : lo;
   if (min_seen < lo_trigger) {
-    double excess = static_cast<double>(lo) - static_cast<double>(min_seen);
+    // The twin of exact terms (shift 0) is dot_accumulate's 128-bit accumulator, whose
+    // conversion to double rounds negative values differently (integer.hpp, to_double_approx
+    // of int128); the excess is computed with that conversion there, so the counters agree.
+    double excess = shift == 0 ? to_double_approx(int128(lo)) - to_double_approx(int128(min_seen))
+                               : static_cast<double>(lo) - static_cast<double>(min_seen);
     if (symmetric) excess = std::max(excess, 1.0);
     local.max_excess_lsb = std::max(local.max_excess_lsb, excess);
   }
@@ -282,7 +286,10 @@ std::size_t many_vector_kernel(product_form form, const lane_operand& a, const l
   return 0;
 #else
 #define FXMIMO_MANY_ARGS form, a, b, num_terms, num_outputs, q, out, c
-  switch (q.spec().rounding) {
+  // With no fraction bits dropped every term is exact and no mode changes it: the floor
+  // instantiation (whose shift by 0 is the identity and whose rest is 0) serves them all.
+  const bool exact = a.frac + b.frac == q.fmt().frac_bits;
+  switch (exact ? rounding_mode::floor : q.spec().rounding) {
     case rounding_mode::floor: return run_overflow<rounding_mode::floor>(FXMIMO_MANY_ARGS);
     case rounding_mode::ceil: return run_overflow<rounding_mode::ceil>(FXMIMO_MANY_ARGS);
     case rounding_mode::toward_zero: return run_overflow<rounding_mode::toward_zero>(FXMIMO_MANY_ARGS);
@@ -341,6 +348,7 @@ kernel_choice choose_kernel() {
     std::string known = "scalar";
     std::int64_t pick = 0;
     for (const std::int64_t target : hwy::SupportedAndGeneratedTargets()) {
+      if (target == HWY_SCALAR) continue;  // its name is the twin's: "scalar" means the twin
       known += std::string(", ") + hwy::TargetName(target);
       if (same_name(wanted, hwy::TargetName(target))) pick = target;
     }
@@ -378,7 +386,9 @@ lane_operand skip_outputs(lane_operand x, std::size_t num_done) {
 }  // namespace
 
 bool many_vector_form_applies(const lane_operand& a, const lane_operand& b, const requantizer<std::int64_t>& q) {
-  return dot_fast_form_applies(a.bits, b.bits, a.frac + b.frac, q) && a.bits <= 32 && b.bits <= 32 &&
+  const int shift = a.frac + b.frac - q.fmt().frac_bits;
+  return a.bits >= 1 && b.bits >= 1 && a.bits <= 32 && b.bits <= 32 && a.bits + b.bits + 1 <= 63 && shift >= 0 &&
+         shift <= 62 && fits_container<std::int64_t>(q.fmt(), 1) &&
          (a.spread == lane_spread::column || b.spread == lane_spread::column);
 }
 

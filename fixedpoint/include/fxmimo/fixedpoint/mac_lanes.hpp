@@ -66,9 +66,11 @@ void dot_accumulate_many_scalar(const lane_operand& a, const lane_operand& b, st
   }
 }
 
-/// True when the vector form can compute these outputs: dot_fast_form_applies, both operands'
-/// words fit 32 bits (one 32 x 32 -> 64-bit multiply per part product), and at least one
-/// operand is a column. (Outputs that do not fill a whole vector go to the twin.)
+/// True when the vector form can compute these outputs: both operands' words fit 32 bits (one
+/// 32 x 32 -> 64-bit multiply per part product) and a + b + 1 <= 63 bits (dot_kernel.hpp's
+/// rule), 0..62 fraction bits are dropped (0: exact terms, which dot_accumulate hands to its
+/// 128-bit twin), the accumulator has a headroom bit in 64, and at least one operand is a
+/// column. Outputs that do not fill a whole vector go to the twin.
 bool many_vector_form_applies(const lane_operand& a, const lane_operand& b, const requantizer<std::int64_t>& q);
 
 namespace detail {
