@@ -11,6 +11,7 @@
 #include "fxmimo/fixedpoint/accumulator.hpp"
 #include "fxmimo/fixedpoint/conversions.hpp"
 #include "fxmimo/fixedpoint/dot_kernel.hpp"
+#include "fxmimo/fixedpoint/mac_lanes.hpp"
 #include "fxmimo/fixedpoint/width.hpp"
 
 namespace fxmimo::datapath::detail {

@@ -41,12 +41,19 @@ class transmit_stage final : public stage {
     };
     const auto stride = static_cast<std::size_t>(num_sym), n = static_cast<std::size_t>(num_users);
     const int product_frac = wts.frac() + sym.frac();
-    if (tx.sequential()) {  // the hot loop: the specialised kernel, no tree state
+    if (tx.sequential()) {
+      // The hot loop: per antenna, one sequential MAC per symbol, all symbols at once (the
+      // vector kernel's lanes are symbols): weights[m,k] is shared, symbol row k a column.
       const fp::requantizer<word> q_tx(tx.spec);
-      sum([&](const cw* a, const cw* b) {
-        return fp::dot_accumulate<fp::product_form::plain>(a, 1, b, stride, n, wts.bits(), sym.bits(), product_frac,
-                                                           q_tx, *tx.counters);
-      });
+      std::vector<cw> row(static_cast<std::size_t>(num_sym));
+      const fp::lane_operand symbols{ss.data(), stride, fp::lane_spread::column, sym.bits(), sym.frac()};
+      for (int i_ant = 0; i_ant < num_ant; ++i_ant) {
+        const fp::lane_operand weights{&ws[w.at(i_ant, 0)], 1, fp::lane_spread::shared, wts.bits(), wts.frac()};
+        fp::dot_accumulate_many<fp::product_form::plain>(weights, symbols, n, row.size(), q_tx, row.data(),
+                                                         *tx.counters);
+        for (int i_sym = 0; i_sym < num_sym; ++i_sym)
+          put(*tx.words, i_ant, i_sym, row[static_cast<std::size_t>(i_sym)]);
+      }
       return;
     }
     with_width(work_bits(ctx.config), [&](auto tag) {
