@@ -232,11 +232,9 @@ std::size_t run_modes(const lane_operand& a, const lane_operand& b, std::size_t 
   if (max_seen > hi) local.max_excess_lsb = static_cast<double>(max_seen - hi);
   const std::int64_t lo_trigger = symmetric ? lo + 1 : lo;
   if (min_seen < lo_trigger) {
-    // The twin of exact terms (shift 0) is dot_accumulate's 128-bit accumulator, whose
-    // conversion to double rounds negative values differently (integer.hpp, to_double_approx
-    // of int128); the excess is computed with that conversion there, so the counters agree.
-    double excess = shift == 0 ? to_double_approx(int128(lo)) - to_double_approx(int128(min_seen))
-                               : static_cast<double>(lo) - static_cast<double>(min_seen);
+    // The twin of exact terms (shift 0) is dot_accumulate's 128-bit accumulator; its conversion
+    // to double (integer.hpp, to_double_approx) equals the 64-bit one on these values.
+    double excess = static_cast<double>(lo) - static_cast<double>(min_seen);
     if (symmetric) excess = std::max(excess, 1.0);
     local.max_excess_lsb = std::max(local.max_excess_lsb, excess);
   }

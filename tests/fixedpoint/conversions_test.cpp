@@ -5,6 +5,12 @@
 
 #include <gtest/gtest.h>
 
+#include <cmath>
+#include <limits>
+#include <random>
+#include <string>
+#include <vector>
+
 namespace fp = fxmimo::fixedpoint;
 using fp::big_int;
 
@@ -70,6 +76,52 @@ TEST(from_double, infinities_overflow_and_nan_is_refused) {
       fp::target{{true, 16, 15}, fp::rounding_mode::ceil, fp::overflow_mode::saturate});
   EXPECT_EQ(fp::from_double(std::numeric_limits<double>::denorm_min(), ceil_q, c), 1);
   EXPECT_EQ(fp::from_double(-std::numeric_limits<double>::denorm_min(), sat, c), -1);
+}
+
+}  // namespace
+
+namespace {
+
+// to_double_approx of 128-bit integers against Boost.Multiprecision's conversion of the same
+// value (cpp_int::convert_to<double>, correctly rounded below 2^64 as the 64-bit conversion is):
+// equal below 2^64 in magnitude, both signs; within one rounding (2^-52 relative) above. Small
+// negative values once read as 0 (-5: the low half 2^64 - 5 rounded up to 2^64).
+TEST(to_double_approx, int128_matches_boost_multiprecision) {
+  using boost::multiprecision::cpp_int;
+  auto reference = [](fp::int128 x) {
+    const bool negative = x < 0;
+    const fp::uint128 m = negative ? fp::uint128{0} - static_cast<fp::uint128>(x) : static_cast<fp::uint128>(x);
+    cpp_int v = static_cast<std::uint64_t>(m >> 64);
+    v <<= 64;
+    v += static_cast<std::uint64_t>(m);
+    return negative ? -v.convert_to<double>() : v.convert_to<double>();
+  };
+  std::vector<fp::int128> values{0, 1, -1, -5, 5, -(fp::int128{1} << 53) - 1, (fp::int128{1} << 53) + 1};
+  values.push_back(static_cast<fp::int128>(std::numeric_limits<std::int64_t>::min()));
+  values.push_back(static_cast<fp::int128>(std::numeric_limits<std::int64_t>::max()));
+  values.push_back(-(fp::int128{1} << 64) + 1);
+  values.push_back((fp::int128{1} << 100) + 12345);
+  values.push_back(-(fp::int128{1} << 126));
+  std::mt19937_64 rng(20261203);
+  for (int i = 0; i < 2000; ++i) {
+    const int bits = 1 + static_cast<int>(rng() % 126);
+    const fp::uint128 raw = (static_cast<fp::uint128>(rng()) << 64) | rng();
+    const auto magnitude = static_cast<fp::int128>(raw >> (128 - bits));
+    values.push_back(rng() % 2 == 0 ? magnitude : -magnitude);
+  }
+  for (fp::int128 x : values) {
+    const double got = fp::to_double_approx(x), want = reference(x);
+    const fp::uint128 m = x < 0 ? fp::uint128{0} - static_cast<fp::uint128>(x) : static_cast<fp::uint128>(x);
+    if ((m >> 64) == 0) {
+      ASSERT_EQ(got, want) << "value " << std::to_string(static_cast<long double>(x));
+      if (x >= std::numeric_limits<std::int64_t>::min() && x <= std::numeric_limits<std::int64_t>::max()) {
+        ASSERT_EQ(got, static_cast<double>(static_cast<std::int64_t>(x)));
+      }
+    } else {
+      ASSERT_NEAR(got, want, std::abs(want) * 0x1p-52) << "value " << std::to_string(static_cast<long double>(x));
+    }
+  }
+  EXPECT_EQ(fp::to_double_approx(fp::int128{-5}), -5.0);
 }
 
 }  // namespace

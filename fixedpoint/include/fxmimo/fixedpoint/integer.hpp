@@ -105,10 +105,16 @@ double to_double_approx(const T& x) {
   if constexpr (std::is_same_v<T, std::int64_t>) {
     return static_cast<double>(x);
   } else if constexpr (std::is_same_v<T, int128>) {
-    // Split so that each half converts exactly; the sum rounds once more at most.
-    auto high = static_cast<std::int64_t>(x >> 64);
-    auto low = static_cast<std::uint64_t>(static_cast<uint128>(x) & ~std::uint64_t{0});
-    return std::ldexp(static_cast<double>(high), 64) + static_cast<double>(low);
+    // The magnitude in two 64-bit halves, the sign applied last: below 2^64 the result is the
+    // low half rounded once, exactly as the 64-bit conversion; above, the sum rounds once more
+    // at most. (Splitting the signed value instead rounded the low half of a small negative
+    // value, 2^64 - 5 for -5, up to 2^64, so that -5 read as 0.)
+    const bool negative = x < 0;
+    const uint128 magnitude = negative ? uint128{0} - static_cast<uint128>(x) : static_cast<uint128>(x);
+    const auto high = static_cast<std::uint64_t>(magnitude >> 64);
+    const auto low = static_cast<std::uint64_t>(magnitude);
+    const double value = std::ldexp(static_cast<double>(high), 64) + static_cast<double>(low);
+    return negative ? -value : value;
   } else {
     return x.template convert_to<double>();
   }
