@@ -207,39 +207,39 @@ void for_each_index_parallel(std::size_t count, unsigned num_threads, const std:
 
 namespace {
 
-/// Reduction in trial order: the same sums in the same order for any thread count.
-run_results reduce_trials(const golden::scenario& scen, const datapath::datapath_config& config,
-                          const std::vector<std::uint64_t>& trial_indices, const std::vector<trial_summary>& per_trial);
+/// Evaluates every trial (on `num_threads` threads) and reduces in trial order: the same sums in
+/// the same order for any thread count, with the cache or without.
+run_results run_and_reduce(const golden::scenario& scen, const datapath::datapath_config& config,
+                           const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
+                           const progress_callback& progress,
+                           const std::function<trial_summary(std::uint64_t)>& evaluate);
 
 }  // namespace
 
 run_results run_trials(const golden::scenario& scen, const datapath::datapath_config& config,
                        const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
                        const progress_callback& progress) {
-  if (trial_indices.empty()) throw std::invalid_argument("no trials to run");
-  std::vector<trial_summary> per_trial(trial_indices.size());
-  for_each_index_parallel(
-      trial_indices.size(), num_threads,
-      [&](std::size_t i) { per_trial[i] = evaluate_trial(scen, config, trial_indices[i]); }, progress);
-  return reduce_trials(scen, config, trial_indices, per_trial);
+  return run_and_reduce(scen, config, trial_indices, num_threads, progress,
+                        [&](std::uint64_t t) { return evaluate_trial(scen, config, t); });
 }
 
 run_results run_trials(trial_cache& cache, const datapath::datapath_config& config,
                        const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
                        const progress_callback& progress) {
-  if (trial_indices.empty()) throw std::invalid_argument("no trials to run");
-  std::vector<trial_summary> per_trial(trial_indices.size());
-  for_each_index_parallel(
-      trial_indices.size(), num_threads,
-      [&](std::size_t i) { per_trial[i] = evaluate_trial(cache, config, trial_indices[i]); }, progress);
-  return reduce_trials(cache.scenario(), config, trial_indices, per_trial);
+  return run_and_reduce(cache.scenario(), config, trial_indices, num_threads, progress,
+                        [&](std::uint64_t t) { return evaluate_trial(cache, config, t); });
 }
 
 namespace {
 
-run_results reduce_trials(const golden::scenario& scen, const datapath::datapath_config& config,
-                          const std::vector<std::uint64_t>& trial_indices,
-                          const std::vector<trial_summary>& per_trial) {
+run_results run_and_reduce(const golden::scenario& scen, const datapath::datapath_config& config,
+                           const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
+                           const progress_callback& progress,
+                           const std::function<trial_summary(std::uint64_t)>& evaluate) {
+  if (trial_indices.empty()) throw std::invalid_argument("no trials to run");
+  std::vector<trial_summary> per_trial(trial_indices.size());
+  for_each_index_parallel(
+      trial_indices.size(), num_threads, [&](std::size_t i) { per_trial[i] = evaluate(trial_indices[i]); }, progress);
   run_results out;
   out.scenario_name = scen.name;
   out.scenario_source = scen.source_name;
