@@ -79,40 +79,63 @@ range_results profile_ranges(const golden::scenario& scen, const datapath::datap
     std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(keep), v.end(), std::greater<>());
     v.resize(keep);
   };
+  // Values per trial of each node (a data node's over all N symbols), for how many to keep.
+  std::vector<std::size_t> keep(active.size());
+  {
+    const auto sizes = values_per_trial(scen);
+    for (std::size_t i = 0; i < active.size(); ++i) keep[i] = values_to_keep(sizes[i].second * trials, overflow_prob);
+  }
   for_each_index_parallel(
       trials, num_threads,
       [&](std::size_t t) {
         const golden::trial_data trial = golden::run_trial(scen, t);
-        const auto values = datapath::golden_node_values(plan, scen, trial);
+        const auto values = datapath::golden_block_values(plan, scen, trial);
         if (trial.gram.size() > 0) conditions[t] = golden::condition_number(trial.gram);
-        for (std::size_t i = 0; i < active.size(); ++i) {
-          const Eigen::MatrixXcd& g = values[datapath::index_of(active[i])];
+        // This trial's profile of each node, over its values (a data node's block by block).
+        std::vector<node_profile> mine(active.size());
+        auto add_values = [&](std::size_t i, const Eigen::MatrixXcd& g) {
           const bool complex_node = datapath::node_is_complex(active[i]);
-          std::vector<double> parts;
-          parts.reserve(static_cast<std::size_t>(2 * g.size()));
+          node_profile& p = mine[i];
           for (Eigen::Index e = 0; e < g.size(); ++e) {
-            parts.push_back(std::abs(g(e).real()));
-            if (complex_node) parts.push_back(std::abs(g(e).imag()));
+            for (const double v : {std::abs(g(e).real()), complex_node ? std::abs(g(e).imag()) : -1.0}) {
+              if (v < 0) continue;
+              ++p.count;
+              p.largest.push_back(v);
+              if (v == 0.0) continue;
+              p.max_abs = std::max(p.max_abs, v);
+              ++p.histogram[static_cast<std::size_t>(
+                  std::clamp(static_cast<int>(std::floor(std::log2(v))), hist_min, hist_max) - hist_min)];
+            }
           }
-          std::vector<std::uint64_t> histogram(hist_max - hist_min + 1, 0);
-          double max_abs = 0.0;
-          for (double v : parts) {
-            if (v == 0.0) continue;
-            max_abs = std::max(max_abs, v);
-            ++histogram[static_cast<std::size_t>(
-                std::clamp(static_cast<int>(std::floor(std::log2(v))), hist_min, hist_max) - hist_min)];
+          if (p.largest.size() > 2 * keep[i]) trim(p.largest, keep[i]);
+        };
+        std::vector<bool> data_node(active.size(), false);
+        {
+          golden::data_stream stream(scen, trial);
+          golden::data_block block;
+          std::vector<Eigen::MatrixXcd> data_values;
+          while (stream.next(block)) {
+            datapath::golden_data_values(plan, scen, trial, block, values, data_values);
+            for (std::size_t i = 0; i < active.size(); ++i) {
+              const Eigen::MatrixXcd& g = data_values[datapath::index_of(active[i])];
+              if (g.size() == 0) continue;
+              data_node[i] = true;
+              add_values(i, g);
+            }
           }
-          const std::size_t per_trial = parts.size();
-          const std::size_t keep = values_to_keep(per_trial * trials, overflow_prob);
-          trim(parts, keep);
-          const std::lock_guard lock(mutex);
+        }
+        for (std::size_t i = 0; i < active.size(); ++i)
+          if (!data_node[i]) add_values(i, values[datapath::index_of(active[i])]);
+        const std::lock_guard lock(mutex);
+        for (std::size_t i = 0; i < active.size(); ++i) {
           node_profile& p = profile[i];
-          p.keep = keep;
-          p.count += per_trial;
-          p.max_abs = std::max(p.max_abs, max_abs);
-          for (std::size_t b = 0; b < histogram.size(); ++b) p.histogram[b] += histogram[b];
-          p.largest.insert(p.largest.end(), parts.begin(), parts.end());
-          if (p.largest.size() > 2 * keep) trim(p.largest, keep);
+          trim(mine[i].largest, keep[i]);
+          p.keep = keep[i];
+          p.count += mine[i].count;
+          p.max_abs = std::max(p.max_abs, mine[i].max_abs);
+          for (std::size_t b = 0; b < p.histogram.size(); ++b) p.histogram[b] += mine[i].histogram[b];
+          p.largest.insert(p.largest.end(), mine[i].largest.begin(), mine[i].largest.end());
+          if (p.largest.size() > 2 * keep[i]) trim(p.largest, keep[i]);
         }
       },
       progress);

@@ -2,6 +2,7 @@
 
 #include <fmt/core.h>
 
+#include <algorithm>
 #include <array>
 #include <atomic>
 #include <cctype>
@@ -10,6 +11,8 @@
 #include <fstream>
 #include <sstream>
 #include <utility>
+
+#include "fxmimo/golden/trial.hpp"
 
 namespace fxmimo::analysis {
 
@@ -62,18 +65,20 @@ static_assert(std::atomic<int>::is_always_lock_free, "request_stop must be async
 
 resource_estimate trial_memory_bytes(const golden::scenario& scen) {
   const dims d = dims_of(scen);
-  // Antennas x symbols: the transmit blocks of every cell (golden), cell 0's golden block, the
-  // fixed accumulator and DAC words, the DAC values and the golden views the errors are taken on.
-  // Users x symbols: labels, symbols (golden and words), received samples and decisions.
+  // The data phase streams in blocks of golden::symbol_block_size symbols, so only one block is
+  // held: antennas x block: cell 0's golden block, the fixed accumulator and DAC words, the DAC
+  // values and the golden views the errors are taken on. Users x block: labels and symbols of
+  // every cell, cell 0's symbol words, received samples. Users x users x cells: the cross gains.
   // Antennas x users: every cell's channels (drawn and kept), precoders, estimate, weights.
   // Antennas x pilot symbols: received pilots, ADC values and words.
   // Users x users: Gram, factor, inverse (golden and words), Neumann terms.
+  const double block = std::min(d.n, static_cast<double>(golden::symbol_block_size));
   return sum_of<5>({{
-      {complex_bytes * d.m * d.n * (d.l + 6.0), "data.symbols"},
-      {complex_bytes * d.k * d.n * 6.0, "data.symbols"},
+      {complex_bytes * d.m * block * 6.0, "data.symbols"},
+      {complex_bytes * d.k * block * (d.l + 6.0), "data.symbols"},
       {complex_bytes * d.m * d.k * (3.0 * d.l + 8.0), "cells.users_per_cell"},
       {complex_bytes * d.m * d.tau * (d.l + 4.0), "pilots.length"},
-      {complex_bytes * d.k * d.k * (10.0 + 2.0 * d.terms), "cells.users_per_cell"},
+      {complex_bytes * d.k * d.k * (10.0 + 2.0 * d.terms + d.l), "cells.users_per_cell"},
   }});
 }
 

@@ -29,6 +29,15 @@ double node_result::overflow_rate() const {
              : static_cast<double>(counters.overflowed) / static_cast<double>(counters.requantized);
 }
 
+void node_result::absorb(const node_result& other) {
+  signal_energy += other.signal_energy;
+  error_energy += other.error_energy;
+  num_values += other.num_values;
+  max_err_lsb = std::max(max_err_lsb, other.max_err_lsb);
+  max_abs_golden = std::max(max_abs_golden, other.max_abs_golden);
+  counters.merge(other.counters);
+}
+
 double node_result::overflow_rate_bound() const { return rate_upper_bound(counters.overflowed, counters.requantized); }
 
 double sinr_loss_statistic(const run_results& r, std::optional<double> pct) {
@@ -88,22 +97,36 @@ node_result measure_node(datapath::node_id id, const datapath::node_setting& set
   return r;
 }
 
-/// The figures of one trial from its golden part and fixed words. With `earlier` (an evaluation
-/// of the same trial) and `recomputed` (per node), the figures of nodes not recomputed are
-/// copied from it, and its link figures too when the dac was not recomputed: the same words give
-/// the same figures.
+/// The figures of one trial from its golden part and the words of its stages outside the data
+/// phase (`fixed`, from run_block_stages or rerun_block_stages); the data phase is computed
+/// here, block by block (golden::data_stream), into `fixed`'s data nodes, which are emptied at
+/// the end (a kept evaluation holds no data-phase words). With `earlier` (an evaluation of the
+/// same trial) and `recomputed` (per node), the figures of nodes not recomputed are copied from
+/// it: the same words give the same figures.
 trial_summary summarise_trial(const datapath::datapath_plan& plan, const golden::scenario& scen,
                               const datapath::datapath_config& config, const golden_part& g,
-                              const datapath::fixed_trial& fixed, const trial_summary* earlier,
+                              datapath::fixed_trial& fixed, const trial_summary* earlier,
                               const std::vector<bool>* recomputed) {
   const golden::trial_data& trial = g.trial;
   auto again = [&](datapath::node_id id) { return earlier == nullptr || (*recomputed)[datapath::index_of(id)]; };
+  const std::vector<bool> data_stage = plan.data_stages();
+  std::vector<datapath::node_id> data_nodes;
+  for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage)
+    if (data_stage[i_stage])
+      for (const datapath::port& p : plan.stages[i_stage]->ports()) data_nodes.push_back(p.node);
+  const auto in_data_phase = [&](datapath::node_id id) {
+    return std::find(data_nodes.begin(), data_nodes.end(), id) != data_nodes.end();
+  };
   trial_summary out;
   out.trial_index = trial.trial_index;
   out.nodes.resize(datapath::node_count());
   for (datapath::node_id id : plan.nodes()) {
     const std::size_t i = datapath::index_of(id);
-    if (again(id)) {
+    if (in_data_phase(id)) {
+      out.nodes[i].id = id;
+      out.nodes[i].spec = config[id].spec;
+      out.nodes[i].is_default = config[id].is_default;
+    } else if (again(id)) {
       out.nodes[i] = measure_node(id, config[id], fixed.counters[i], g.node_values[i], fixed.words[i]);
     } else {
       out.nodes[i] = earlier->nodes[i];
@@ -115,22 +138,41 @@ trial_summary summarise_trial(const datapath::datapath_plan& plan, const golden:
   out.evm_golden_pct = trial.metrics.evm_pct;
   out.neumann_radius = trial.neumann_radius;
   out.gram_condition = g.gram_condition;
-  if (!again(datapath::node_id::dac)) {
-    out.sinr_fixed = earlier->sinr_fixed;
-    out.evm_fixed_pct = earlier->evm_fixed_pct;
-    out.evm_impl = earlier->evm_impl;
-    out.tx_power_error_db = earlier->tx_power_error_db;
-    return out;
+
+  // The data phase, block by block: its nodes' figures, the DAC block's alignment with the
+  // golden block and the fixed block's link sums.
+  const std::size_t i_dac = datapath::index_of(datapath::node_id::dac);
+  const int dac_frac = config[datapath::node_id::dac].spec.fmt.frac_bits;
+  golden::link_sums link(scen.cells.num_users);
+  golden::alignment_sums alignment;
+  golden::data_stream stream(scen, trial);
+  golden::data_block block;
+  std::vector<Eigen::MatrixXcd> values;
+  while (stream.next(block)) {
+    datapath::run_data_stages(plan, scen, config, trial, block, fixed);
+    datapath::golden_data_values(plan, scen, trial, block, g.node_values, values);
+    for (datapath::node_id id : data_nodes) {
+      const std::size_t i = datapath::index_of(id);
+      out.nodes[i].absorb(measure_node(id, config[id], {}, values[i], fixed.words[i]));
+    }
+    const Eigen::MatrixXcd dac = datapath::to_values(fixed.words[i_dac], dac_frac);
+    alignment.add(dac, block.tx);
+    link.add(golden::own_received(trial, block, dac), block.interference, block.symbols);
+  }
+  for (datapath::node_id id : data_nodes) {
+    const std::size_t i = datapath::index_of(id);
+    out.nodes[i].counters = fixed.counters[i];
+    fixed.words[i] = datapath::word_matrix();
   }
   // The fixed block is evaluated at the golden block's transmitted power (a calibrated power
   // amplifier), so the SINR loss measures distortion; the power error is reported on its own.
-  const double golden_power = trial.tx.squaredNorm(), fixed_power = fixed.dac_value.squaredNorm();
+  const double golden_power = alignment.golden_energy(), fixed_power = alignment.fixed_energy();
   const double power_scale = fixed_power > 0 ? std::sqrt(golden_power / fixed_power) : 1.0;
   out.tx_power_error_db = fixed_power > 0 ? 10 * std::log10(fixed_power / golden_power) : -300.0;
-  const golden::link_metrics fixed_metrics = golden::evaluate_downlink(scen, trial, power_scale * fixed.dac_value);
+  const golden::link_metrics fixed_metrics = link.metrics(trial.amplitude, power_scale, 1.0);
   out.sinr_fixed = fixed_metrics.sinr;
   out.evm_fixed_pct = fixed_metrics.evm_pct;
-  out.evm_impl = golden::implementation_evm(fixed.dac_value, trial.tx);
+  out.evm_impl = alignment.evm();
   return out;
 }
 
@@ -140,7 +182,7 @@ trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datap
                              std::uint64_t trial_index) {
   const datapath::datapath_plan plan = datapath::stages_for(scen);
   const golden_part g = make_golden_part(plan, scen, trial_index);
-  const datapath::fixed_trial fixed = datapath::run_fixed_datapath(plan, scen, config, g.trial);
+  datapath::fixed_trial fixed = datapath::run_block_stages(plan, scen, config, g.trial);
   return summarise_trial(plan, scen, config, g, fixed, nullptr, nullptr);
 }
 
@@ -152,10 +194,10 @@ trial_summary evaluate_trial(trial_cache& cache, const datapath::datapath_config
   now->config = config;
   std::vector<bool> recomputed;
   if (earlier) {
-    now->fixed = datapath::rerun_fixed_datapath(plan, cache.scenario(), config, g->trial, earlier->fixed,
-                                                earlier->config, &recomputed);
+    now->fixed = datapath::rerun_block_stages(plan, cache.scenario(), config, g->trial, earlier->fixed, earlier->config,
+                                              &recomputed);
   } else {
-    now->fixed = datapath::run_fixed_datapath(plan, cache.scenario(), config, g->trial);
+    now->fixed = datapath::run_block_stages(plan, cache.scenario(), config, g->trial);
   }
   now->summary = summarise_trial(plan, cache.scenario(), config, *g, now->fixed, earlier ? &earlier->summary : nullptr,
                                  earlier ? &recomputed : nullptr);
@@ -257,12 +299,7 @@ run_results run_and_reduce(const golden::scenario& scen, const datapath::datapat
       total.id = r.id;
       total.spec = r.spec;
       total.is_default = r.is_default;
-      total.signal_energy += r.signal_energy;
-      total.error_energy += r.error_energy;
-      total.num_values += r.num_values;
-      total.max_err_lsb = std::max(total.max_err_lsb, r.max_err_lsb);
-      total.max_abs_golden = std::max(total.max_abs_golden, r.max_abs_golden);
-      total.counters.merge(r.counters);
+      total.absorb(r);
     }
     for (std::size_t k = 0; k < num_users; ++k) {
       sinr_g[k] += t.sinr_golden[k];

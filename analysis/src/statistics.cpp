@@ -38,10 +38,20 @@ sample_plan described(const golden::scenario& scen, double values_needed) {
 
 std::vector<std::pair<datapath::node_id, std::uint64_t>> values_per_trial(const golden::scenario& scen) {
   const datapath::datapath_plan plan = datapath::stages_for(scen);
-  const auto values = datapath::golden_node_values(plan, scen, golden::run_trial(scen, 0));
+  const golden::trial_data trial = golden::run_trial(scen, 0);
+  const auto values = datapath::golden_block_values(plan, scen, trial);
+  // A data node holds one block's columns at a time: its rows times N values in all.
+  golden::data_stream stream(scen, trial);
+  golden::data_block block;
+  std::vector<Eigen::MatrixXcd> data_values;
+  if (stream.next(block)) datapath::golden_data_values(plan, scen, trial, block, values, data_values);
+  data_values.resize(datapath::node_count());
   std::vector<std::pair<datapath::node_id, std::uint64_t>> out;
   for (datapath::node_id id : plan.nodes()) {
-    const auto size = static_cast<std::uint64_t>(values[datapath::index_of(id)].size());
+    const std::size_t i = datapath::index_of(id);
+    const auto size = data_values[i].size() > 0 ? static_cast<std::uint64_t>(data_values[i].rows()) *
+                                                      static_cast<std::uint64_t>(scen.data.num_symbols)
+                                                : static_cast<std::uint64_t>(values[i].size());
     out.emplace_back(id, datapath::node_is_complex(id) ? 2 * size : size);
   }
   return out;

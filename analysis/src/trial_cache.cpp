@@ -18,7 +18,7 @@ golden_part make_golden_part(const datapath::datapath_plan& plan, const golden::
                              std::uint64_t trial_index) {
   golden_part g;
   g.trial = golden::run_trial(scen, trial_index);
-  g.node_values = datapath::golden_node_values(plan, scen, g.trial);
+  g.node_values = datapath::golden_block_values(plan, scen, g.trial);
   if (g.trial.gram.size() > 0) g.gram_condition = golden::condition_number(g.trial.gram);
   return g;
 }
@@ -27,17 +27,18 @@ double bytes_of(const golden_part& g) {
   const golden::trial_data& t = g.trial;
   double bytes = 0;
   for (const Eigen::MatrixXcd* m :
-       {&t.adc, &t.pilots, &t.pilot_acc, &t.chan_est, &t.gram, &t.inverse, &t.precoder, &t.weights, &t.symbols, &t.tx})
+       {&t.adc, &t.pilots, &t.pilot_acc, &t.chan_est, &t.gram, &t.inverse, &t.precoder, &t.weights})
     bytes += matrix_bytes(*m);
-  for (const auto* cells : {&t.channel_to_cell0, &t.cell_precoder, &t.cell_tx})
+  for (const auto* cells : {&t.channel_to_cell0, &t.cell_precoder, &t.cross_gain})
     for (const Eigen::MatrixXcd& m : *cells) bytes += matrix_bytes(m);
-  bytes += 4.0 * static_cast<double>(t.symbol_bits.size());
+  for (const golden::label_rows& cell : t.cell_labels)
+    bytes += static_cast<double>(sizeof(golden::random_stream) * cell.rows.size());
   for (const Eigen::MatrixXcd& m : g.node_values) bytes += matrix_bytes(m);
   return bytes;
 }
 
 double bytes_of(const fixed_part& f) {
-  double bytes = matrix_bytes(f.fixed.dac_value);
+  double bytes = 0;
   for (const datapath::word_matrix& w : f.fixed.words) bytes += 8.0 * static_cast<double>(w.re.size() + w.im.size());
   return bytes;
 }

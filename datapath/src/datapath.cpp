@@ -21,15 +21,32 @@ void check_config_size(const datapath_config& config) {
 
 }  // namespace
 
-fixed_trial run_fixed_datapath(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
-                               const golden::trial_data& trial) {
+fixed_trial run_block_stages(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
+                             const golden::trial_data& trial) {
   check_config_size(config);
+  const std::vector<bool> data = plan.data_stages();
   fixed_trial out;
   out.words.resize(node_count());
   out.counters.resize(node_count());
   fixed_context ctx{scen, trial, config, out.words, out.counters};
-  for (const auto& s : plan.stages) s->compute(ctx);
-  out.dac_value = to_values(out.words[index_of(node_id::dac)], config[node_id::dac].spec.fmt.frac_bits);
+  for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage)
+    if (!data[i_stage]) plan.stages[i_stage]->compute(ctx);
+  return out;
+}
+
+void run_data_stages(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
+                     const golden::trial_data& trial, const golden::data_block& block, fixed_trial& fixed) {
+  check_config_size(config);
+  const std::vector<bool> data = plan.data_stages();
+  fixed_context ctx{scen, trial, config, fixed.words, fixed.counters, &block};
+  for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage)
+    if (data[i_stage]) plan.stages[i_stage]->compute(ctx);
+}
+
+fixed_trial run_fixed_datapath(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
+                               const golden::trial_data& trial) {
+  fixed_trial out = run_block_stages(plan, scen, config, trial);
+  run_data_stages(plan, scen, config, trial, golden::whole_data(scen, trial), out);
   return out;
 }
 
@@ -47,41 +64,66 @@ std::vector<node_id> changed_nodes(const datapath_plan& plan, const datapath_con
   return out;
 }
 
-fixed_trial rerun_fixed_datapath(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
-                                 const golden::trial_data& trial, const fixed_trial& earlier,
-                                 const datapath_config& earlier_config, std::vector<bool>* recomputed) {
+fixed_trial rerun_block_stages(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
+                               const golden::trial_data& trial, const fixed_trial& earlier,
+                               const datapath_config& earlier_config, std::vector<bool>* recomputed) {
   check_config_size(config);
   check_config_size(earlier_config);
   if (earlier.words.size() != node_count() || earlier.counters.size() != node_count())
-    throw std::logic_error("rerun_fixed_datapath: the earlier trial is not a run of this node table");
+    throw std::logic_error("rerun_block_stages: the earlier trial is not a run of this node table");
   const std::vector<bool> dirty = plan.stages_downstream_of(changed_nodes(plan, config, earlier_config));
+  const std::vector<bool> data = plan.data_stages();
   fixed_trial out;
   out.words = earlier.words;
   out.counters = earlier.counters;
   if (recomputed != nullptr) recomputed->assign(node_count(), false);
   fixed_context ctx{scen, trial, config, out.words, out.counters};
-  bool dac_again = false;
   for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage) {
-    if (!dirty[i_stage]) continue;
     const stage& s = *plan.stages[i_stage];
-    // A stage counts into its outputs' counters from zero, as in a full run.
+    if (!dirty[i_stage] && !data[i_stage]) continue;
+    // A stage counts into its outputs' counters from zero, as in a full run; the data nodes are
+    // left empty for run_data_stages, as run_block_stages leaves them.
     for (const port& p : s.ports()) {
       out.counters[index_of(p.node)] = {};
+      if (data[i_stage]) out.words[index_of(p.node)] = word_matrix();
       if (recomputed != nullptr) (*recomputed)[index_of(p.node)] = true;
-      dac_again = dac_again || p.node == node_id::dac;
     }
-    s.compute(ctx);
+    if (!data[i_stage]) s.compute(ctx);
   }
-  out.dac_value = dac_again ? to_values(out.words[index_of(node_id::dac)], config[node_id::dac].spec.fmt.frac_bits)
-                            : earlier.dac_value;
   return out;
+}
+
+std::vector<Eigen::MatrixXcd> golden_block_values(const datapath_plan& plan, const golden::scenario& scen,
+                                                  const golden::trial_data& trial) {
+  const std::vector<bool> data = plan.data_stages();
+  std::vector<Eigen::MatrixXcd> values(node_count());
+  golden_context ctx{scen, trial, values};
+  for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage)
+    if (!data[i_stage]) plan.stages[i_stage]->golden_view(ctx);
+  return values;
+}
+
+void golden_data_values(const datapath_plan& plan, const golden::scenario& scen, const golden::trial_data& trial,
+                        const golden::data_block& block, const std::vector<Eigen::MatrixXcd>& block_values,
+                        std::vector<Eigen::MatrixXcd>& values) {
+  const std::vector<bool> data = plan.data_stages();
+  values.resize(node_count());
+  for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage) {
+    if (!data[i_stage]) continue;
+    for (const port& p : plan.stages[i_stage]->ports()) values[index_of(p.node)].resize(0, 0);
+  }
+  golden_context ctx{scen, trial, values, &block, &block_values};
+  for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage)
+    if (data[i_stage]) plan.stages[i_stage]->golden_view(ctx);
 }
 
 std::vector<Eigen::MatrixXcd> golden_node_values(const datapath_plan& plan, const golden::scenario& scen,
                                                  const golden::trial_data& trial) {
-  std::vector<Eigen::MatrixXcd> values(node_count());
-  golden_context ctx{scen, trial, values};
-  for (const auto& s : plan.stages) s->golden_view(ctx);
+  std::vector<Eigen::MatrixXcd> values = golden_block_values(plan, scen, trial);
+  std::vector<Eigen::MatrixXcd> data_values;
+  golden_data_values(plan, scen, trial, golden::whole_data(scen, trial), values, data_values);
+  for (std::size_t i = 0; i < values.size(); ++i)
+    if (data_values[i].size() > 0) values[i] = std::move(data_values[i]);
   return values;
 }
 

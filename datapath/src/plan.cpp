@@ -4,6 +4,7 @@
 #include <fmt/core.h>
 
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <stdexcept>
 
@@ -57,6 +58,29 @@ std::vector<bool> datapath_plan::stages_downstream_of(const std::vector<node_id>
     if (!dirty) continue;
     out[i_stage] = true;
     for (const port& p : stages[i_stage]->ports()) dirty_node[index_of(p.node)] = true;
+  }
+  return out;
+}
+
+std::vector<bool> datapath_plan::data_stages() const {
+  std::vector<bool> data_node(node_count(), false), out(stages.size(), false);
+  for (std::size_t i_stage = 0; i_stage < stages.size(); ++i_stage) {
+    for (const port& p : stages[i_stage]->ports()) {
+      const std::array<dim, 2> d = dims_of(p.node);
+      out[i_stage] = out[i_stage] || d[0] == dim::symbol || d[1] == dim::symbol;
+    }
+    for (const port& p : stages[i_stage]->ports()) {
+      data_node[index_of(p.node)] = out[i_stage];
+      if (out[i_stage]) continue;
+      for (node_id source : p.sources) {
+        if (data_node[index_of(source)]) {
+          throw std::logic_error(
+              fmt::format("stage {} computes {} once per trial from {}, a node of the data phase, "
+                          "which exists one symbol block at a time",
+                          stages[i_stage]->name(), node_name(p.node), node_name(source)));
+        }
+      }
+    }
   }
   return out;
 }
@@ -119,7 +143,7 @@ datapath_plan stages_for(const golden::scenario& scen) {
   s.push_back(make_golden_converter(
       node_id::tx_gain, [gain](const golden::trial_data&) { return Eigen::MatrixXcd::Constant(1, 1, gain); }));
   s.push_back(detail::make_weights());
-  s.push_back(make_golden_converter(node_id::symbols, [](const golden::trial_data& t) { return t.symbols; }));
+  s.push_back(make_block_converter(node_id::symbols, [](const golden::data_block& b) { return b.symbols; }));
   s.push_back(detail::make_transmit());
   s.push_back(make_requantizer(node_id::dac, node_id::tx_acc));
 

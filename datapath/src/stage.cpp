@@ -5,6 +5,12 @@
 
 namespace fxmimo::datapath {
 
+const golden::data_block& block_or_throw(const golden::data_block* block) {
+  if (block == nullptr)
+    throw std::logic_error("a stage outside the data phase asked for the symbol block (datapath_plan::data_stages)");
+  return *block;
+}
+
 int dimension_sizes::size(dim d) const {
   switch (d) {
     case dim::antenna: return antenna;

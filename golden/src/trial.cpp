@@ -1,5 +1,11 @@
 #include "fxmimo/golden/trial.hpp"
 
+#include <fmt/core.h>
+
+#include <algorithm>
+#include <cmath>
+#include <stdexcept>
+
 #include "fxmimo/golden/channel.hpp"
 #include "fxmimo/golden/estimator.hpp"
 #include "fxmimo/golden/pilots.hpp"
@@ -11,10 +17,24 @@ namespace fxmimo::golden {
 
 namespace {
 
-// x = weights * symbols. Eigen's blocked product: the summation order over users differs from the
-// datapath's sequential MAC only at the level of double rounding (about 1e-16 relative), far below
-// any fixed-point effect, and it keeps the golden trial fast.
-Eigen::MatrixXcd precode(const Eigen::MatrixXcd& weights, const Eigen::MatrixXcd& symbols) { return weights * symbols; }
+std::uint64_t label_count(const scenario& scen) { return std::uint64_t{1} << bits_per_symbol(scen.data.mod); }
+
+/// The next `count` labels of every user of one base station, advancing its rows.
+label_matrix draw_labels(label_rows& cell, std::uint64_t num_labels, int count) {
+  label_matrix labels(static_cast<Eigen::Index>(cell.rows.size()), count);
+  for (std::size_t k = 0; k < cell.rows.size(); ++k) {
+    for (int n = 0; n < count; ++n)
+      labels(static_cast<Eigen::Index>(k), n) = static_cast<std::uint32_t>(cell.rows[k].uniform_below(num_labels));
+  }
+  return labels;
+}
+
+Eigen::MatrixXcd map_labels(modulation mod, const label_matrix& labels) {
+  Eigen::MatrixXcd symbols(labels.rows(), labels.cols());
+  for (Eigen::Index n = 0; n < labels.cols(); ++n)
+    for (Eigen::Index k = 0; k < labels.rows(); ++k) symbols(k, n) = qam_map(mod, labels(k, n));
+  return symbols;
+}
 
 }  // namespace
 
@@ -27,11 +47,11 @@ trial_data run_trial(const scenario& scen, std::uint64_t trial_index) {
   const int num_cells = scen.cells.num_cells;
   const int num_users = scen.cells.num_users;
   const int num_sym = scen.data.num_symbols;
-  const modulation mod = scen.data.mod;
-  const std::uint64_t num_labels = std::uint64_t{1} << bits_per_symbol(mod);
+  const std::uint64_t num_labels = label_count(scen);
 
   td.gains = draw_large_scale(scen, rng);
   td.digital_power = digital_power(scen);
+  td.amplitude = std::sqrt(scen.downlink_snr() / td.digital_power);
 
   std::vector<Eigen::MatrixXcd> pilots;
   for (int i_cell = 0; i_cell < num_cells; ++i_cell) {
@@ -53,19 +73,17 @@ trial_data run_trial(const scenario& scen, std::uint64_t trial_index) {
                                     : Eigen::MatrixXcd(acc * scale.asDiagonal());
     precoder_output prec = compute_precoder(scen, estimate);
 
-    label_matrix labels(num_users, num_sym);
-    Eigen::MatrixXcd symbols(num_users, num_sym);
+    // The labels: user by user, N each. Only where each user's row starts is kept; the stream
+    // walks past the row so that the next base station's draws follow as they always have.
+    label_rows cell;
     for (int i_user = 0; i_user < num_users; ++i_user) {
-      for (int i_sym = 0; i_sym < num_sym; ++i_sym) {
-        labels(i_user, i_sym) = static_cast<std::uint32_t>(rng.uniform_below(num_labels));
-        symbols(i_user, i_sym) = qam_map(mod, labels(i_user, i_sym));
-      }
+      cell.rows.push_back(rng);
+      for (int i_sym = 0; i_sym < num_sym; ++i_sym) rng.uniform_below(num_labels);
     }
-    Eigen::MatrixXcd tx = precode(prec.weights, symbols);
-
+    td.cell_labels.push_back(std::move(cell));
+    td.cross_gain.push_back(i_bs == 0 ? Eigen::MatrixXcd() : Eigen::MatrixXcd(channels[0].transpose() * prec.weights));
     td.channel_to_cell0.push_back(std::move(channels[0]));
     td.cell_precoder.push_back(prec.precoder);
-    td.cell_tx.push_back(tx);
     if (i_bs == 0) {
       td.adc = std::move(adc);
       td.pilots = pilots[0];
@@ -80,20 +98,69 @@ trial_data run_trial(const scenario& scen, std::uint64_t trial_index) {
       td.precoder = std::move(prec.precoder);
       td.norm = std::move(prec.norm);
       td.weights = std::move(prec.weights);
-      td.symbols = std::move(symbols);
-      td.symbol_bits = std::move(labels);
-      td.tx = std::move(tx);
     }
   }
-  for (std::size_t i_cell = 1; i_cell < td.channel_to_cell0.size(); ++i_cell) {
-    if (i_cell == 1) {
-      td.interference_to_cell0.noalias() = td.channel_to_cell0[1].transpose() * td.cell_tx[1];
-    } else {
-      td.interference_to_cell0.noalias() += td.channel_to_cell0[i_cell].transpose() * td.cell_tx[i_cell];
-    }
-  }
-  td.metrics = evaluate_downlink(scen, td, td.tx);
+
+  link_sums sums(num_users);
+  data_stream stream(scen, td);
+  data_block block;
+  while (stream.next(block)) sums.add(own_received(td, block, block.tx), block.interference, block.symbols);
+  td.metrics = sums.metrics(td.amplitude, 1.0, 1.0);
   return td;
+}
+
+data_stream::data_stream(const scenario& scen, const trial_data& trial)
+    : scen_(scen), trial_(trial), cells_(trial.cell_labels) {}
+
+bool data_stream::next(data_block& out) {
+  const int num_sym = scen_.data.num_symbols;
+  if (next_first_ >= num_sym) return false;
+  const int count = std::min(symbol_block_size, num_sym - next_first_);
+  const std::uint64_t num_labels = label_count(scen_);
+  out.first = next_first_;
+  next_first_ += count;
+  for (std::size_t l = 0; l < cells_.size(); ++l) {
+    label_matrix labels = draw_labels(cells_[l], num_labels, count);
+    Eigen::MatrixXcd symbols = map_labels(scen_.data.mod, labels);
+    if (l == 0) {
+      out.tx.noalias() = trial_.weights * symbols;
+      out.labels = std::move(labels);
+      out.symbols = std::move(symbols);
+      out.interference.resize(0, 0);
+    } else if (l == 1) {
+      out.interference.noalias() = trial_.cross_gain[l] * symbols;
+    } else {
+      out.interference.noalias() += trial_.cross_gain[l] * symbols;
+    }
+  }
+  return true;
+}
+
+data_block whole_data(const scenario& scen, const trial_data& trial) {
+  const int num_sym = scen.data.num_symbols;
+  const auto num_users = static_cast<Eigen::Index>(scen.cells.num_users);
+  data_block all;
+  all.labels.resize(num_users, num_sym);
+  all.symbols.resize(num_users, num_sym);
+  all.tx.resize(trial.weights.rows(), num_sym);
+  if (trial.cell_labels.size() > 1) all.interference.resize(num_users, num_sym);
+  data_stream stream(scen, trial);
+  data_block block;
+  while (stream.next(block)) {
+    all.labels.middleCols(block.first, block.size()) = block.labels;
+    all.symbols.middleCols(block.first, block.size()) = block.symbols;
+    all.tx.middleCols(block.first, block.size()) = block.tx;
+    if (all.interference.size() > 0) all.interference.middleCols(block.first, block.size()) = block.interference;
+  }
+  return all;
+}
+
+Eigen::MatrixXcd own_received(const trial_data& trial, const data_block& block, const Eigen::MatrixXcd& tx_cell0) {
+  if (tx_cell0.rows() != trial.weights.rows() || tx_cell0.cols() != block.size()) {
+    throw std::invalid_argument(fmt::format("own_received: the transmitted block is {} x {}, expected {} x {}",
+                                            tx_cell0.rows(), tx_cell0.cols(), trial.weights.rows(), block.size()));
+  }
+  return trial.channel_to_cell0[0].transpose() * tx_cell0;
 }
 
 }  // namespace fxmimo::golden

@@ -100,8 +100,9 @@ dac_backoff_db = 0.0
   trial.adc << std::complex<double>(1, 2), std::complex<double>(3, -1);
   trial.pilots = Eigen::MatrixXcd::Constant(1, 1, 1.0);
   trial.est_scale = Eigen::VectorXd::Constant(1, 0.5);
-  trial.symbols.resize(1, 2);
-  trial.symbols << std::complex<double>(1, 1), std::complex<double>(-1, 0);
+  g::data_block block;  // the whole data phase as one block
+  block.symbols.resize(1, 2);
+  block.symbols << std::complex<double>(1, 1), std::complex<double>(-1, 0);
   d::datapath_config c;
   auto set = [&](d::node_id id, const char* q) {
     c[id] = {{fp::parse_format(q), fp::rounding_mode::half_even, fp::overflow_mode::saturate}, {}, false};
@@ -125,7 +126,9 @@ dac_backoff_db = 0.0
   set(d::node_id::symbols, "Q1.4");
   set(d::node_id::tx_acc, "Q2.8");
   set(d::node_id::dac, "Q0.6");
-  const d::fixed_trial f = d::run_fixed_datapath(scen, c, trial);
+  const d::datapath_plan plan = d::stages_for(scen);
+  d::fixed_trial f = d::run_block_stages(plan, scen, c, trial);
+  d::run_data_stages(plan, scen, c, trial, block, f);
   auto words = [&](d::node_id id) { return f.words[d::index_of(id)]; };
   auto expect_words = [&](d::node_id id, std::vector<std::int64_t> re, std::vector<std::int64_t> im) {
     const d::word_matrix& w = f.words[d::index_of(id)];

@@ -24,6 +24,22 @@ class golden_converter final : public stage {
   golden_source source_;
 };
 
+/// The same for a data-phase node: word = Q(value of the symbol block).
+class block_converter final : public stage {
+ public:
+  block_converter(node_id node, block_source source)
+      : stage(std::string(node_name(node)), {{node, {}}}), source_(std::move(source)) {}
+  [[nodiscard]] int work_bits(const datapath_config&) const override { return 64; }
+  void compute(fixed_context& ctx) const override {
+    node_state n = state(ctx, output(0));
+    quantize_values(source_(ctx.data()), node_is_complex(output(0)), n);
+  }
+  void golden_view(golden_context& ctx) const override { ctx.set(output(0), source_(ctx.data())); }
+
+ private:
+  block_source source_;
+};
+
 /// out[i] = Q_out(in[i]) at in's fraction bits; one output register pair per row (a stream).
 class requantizer_stage final : public stage {
  public:
@@ -59,6 +75,10 @@ namespace fxmimo::datapath {
 
 std::shared_ptr<stage> make_golden_converter(node_id node, golden_source source) {
   return std::make_shared<detail::golden_converter>(node, std::move(source));
+}
+
+std::shared_ptr<stage> make_block_converter(node_id node, block_source source) {
+  return std::make_shared<detail::block_converter>(node, std::move(source));
 }
 
 std::shared_ptr<stage> make_requantizer(node_id out, node_id in) {

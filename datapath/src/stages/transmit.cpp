@@ -67,7 +67,7 @@ class transmit_stage final : public stage {
       });
     });
   }
-  void golden_view(golden_context& ctx) const override { ctx.set(output(0), ctx.trial.tx); }
+  void golden_view(golden_context& ctx) const override { ctx.set(output(0), ctx.data().tx); }
 };
 
 }  // namespace

@@ -31,6 +31,9 @@ struct node_result {
   [[nodiscard]] double sqnr_db() const;
   /// overflowed / requantised.
   [[nodiscard]] double overflow_rate() const;
+  /// Adds another part's figures (energies and counts summed, maxima taken, counters merged):
+  /// the same node over more values.
+  void absorb(const node_result& other);
   /// One-sided 95 % upper bound of the overflow rate (rate_upper_bound: 2.996 / requantised for
   /// no overflow, the rule of three); +inf when nothing was requantised.
   [[nodiscard]] double overflow_rate_bound() const;

@@ -4,7 +4,8 @@
 ///   depend on the datapath's settings), computed once;
 /// - the latest fixed evaluations of each trial, from which an evaluation at other settings
 ///   reruns only the stages downstream of the nodes whose settings changed
-///   (datapath::rerun_fixed_datapath) and measures only the nodes it recomputed.
+///   (datapath::rerun_block_stages) and measures only the nodes it recomputed; the data phase
+///   is computed again block by block in every evaluation (its words are never kept).
 /// Bounded by a memory budget: what does not fit is not kept and is computed again when needed,
 /// so results are bit-identical with any budget, with the cache and without it.
 
@@ -27,7 +28,7 @@ namespace fxmimo::analysis {
 /// A trial's golden side: independent of every node setting.
 struct golden_part {
   golden::trial_data trial;
-  std::vector<Eigen::MatrixXcd> node_values;  ///< datapath::golden_node_values, indexed by index_of
+  std::vector<Eigen::MatrixXcd> node_values;  ///< datapath::golden_block_values, indexed by index_of
   double gram_condition = 0.0;                ///< 0 without a Gram
 };
 

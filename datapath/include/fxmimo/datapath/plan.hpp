@@ -28,6 +28,12 @@ struct datapath_plan {
   /// change. A stage runs again when it outputs a changed node or reads, through its ports, a
   /// node that a stage running again outputs ("what is downstream of these nodes").
   [[nodiscard]] std::vector<bool> stages_downstream_of(const std::vector<node_id>& changed) const;
+  /// Per stage (in order): whether it belongs to the data phase, i.e. one of its outputs has the
+  /// symbol dimension. Data stages run once per symbol block (golden::symbol_block_size symbols,
+  /// their data nodes' words holding that block), the others once per trial before them, in
+  /// plan order within each group. Throws std::logic_error when a stage outside the data phase
+  /// reads a data node (it would need the whole block of N symbols).
+  [[nodiscard]] std::vector<bool> data_stages() const;
   /// Inserts `s` before the stage that computes `id` and points every later reader of
   /// `replaced` at `replacement` (for a stage placed between two others; both may be the same
   /// node id to insert without rewiring). Throws std::invalid_argument when no stage computes id.

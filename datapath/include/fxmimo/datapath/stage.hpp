@@ -40,25 +40,40 @@ struct growth_rule {
   std::string rule;  ///< the formula, e.g. "adc + pilot_rom + 2 + log2(tau_p)"
 };
 
+/// The data block a data-phase stage works on; throws std::logic_error when there is none (a
+/// stage outside the data phase asked for one).
+const golden::data_block& block_or_throw(const golden::data_block* block);
+
 /// What a stage's fixed computation sees: the scenario, the golden trial (inputs of converters
-/// and ROMs), the configuration and every node's words and counters.
+/// and ROMs), the configuration and every node's words and counters; in the data phase also
+/// the symbol block being computed (the data nodes' words hold that block's columns only).
 struct fixed_context {
   const golden::scenario& scen;
   const golden::trial_data& trial;
   const datapath_config& config;
   std::vector<word_matrix>& words;
   std::vector<fixedpoint::counters>& counters;
+  const golden::data_block* block = nullptr;
   [[nodiscard]] const word_matrix& words_of(node_id id) const { return words[index_of(id)]; }
+  [[nodiscard]] const golden::data_block& data() const { return block_or_throw(block); }
 };
 
 /// What a stage's golden view sees: the golden trial and the golden values set so far, shaped
-/// like the nodes' words (real nodes as complex matrices with zero imaginary part).
+/// like the nodes' words (real nodes as complex matrices with zero imaginary part); in the data
+/// phase also the symbol block, and the values of the nodes outside the data phase (`upstream`)
+/// where `values` holds only the data nodes'.
 struct golden_context {
   const golden::scenario& scen;
   const golden::trial_data& trial;
   std::vector<Eigen::MatrixXcd>& values;
-  [[nodiscard]] const Eigen::MatrixXcd& value_of(node_id id) const { return values[index_of(id)]; }
+  const golden::data_block* block = nullptr;
+  const std::vector<Eigen::MatrixXcd>* upstream = nullptr;
+  [[nodiscard]] const Eigen::MatrixXcd& value_of(node_id id) const {
+    const Eigen::MatrixXcd& own = values[index_of(id)];
+    return upstream == nullptr || own.size() > 0 ? own : (*upstream)[index_of(id)];
+  }
   void set(node_id id, Eigen::MatrixXcd m) const { values[index_of(id)] = std::move(m); }
+  [[nodiscard]] const golden::data_block& data() const { return block_or_throw(block); }
 };
 
 class stage {

@@ -18,6 +18,13 @@ using golden_source = std::function<Eigen::MatrixXcd(const golden::trial_data&)>
 /// view is source(trial) itself.
 std::shared_ptr<stage> make_golden_converter(node_id node, golden_source source);
 
+/// The golden values of a data-phase node (one with the symbol dimension) in one symbol block.
+using block_source = std::function<Eigen::MatrixXcd(const golden::data_block&)>;
+
+/// make_golden_converter for a data-phase node: node = Q(value) for every value of
+/// source(block), block by block.
+std::shared_ptr<stage> make_block_converter(node_id node, block_source source);
+
 /// out[i] = Q_out(in[i]) at in's fraction bits. Its golden view is in's golden value; it stores
 /// one output register (pair) per row of out (a stream).
 std::shared_ptr<stage> make_requantizer(node_id out, node_id in);

@@ -10,12 +10,25 @@
 #include "fxmimo/golden/large_scale.hpp"
 #include "fxmimo/golden/ldl.hpp"
 #include "fxmimo/golden/link_metrics.hpp"
+#include "fxmimo/golden/rng.hpp"
 #include "fxmimo/golden/scenario.hpp"
 
 namespace fxmimo::golden {
 
 /// Matrix of QAM labels (bits of each symbol, MSB first), K x N.
 using label_matrix = Eigen::Matrix<std::uint32_t, Eigen::Dynamic, Eigen::Dynamic>;
+
+/// Symbols per block of the data phase. The data phase (labels, symbols, transmitted samples,
+/// their evaluation) is generated and consumed block by block, so its memory does not grow with
+/// the number of symbols N; the golden products are taken per block of this many symbols (the
+/// last block holds the rest), a constant of the model so that every path computes the same.
+inline constexpr int symbol_block_size = 256;
+
+/// Where one base station's data labels come from: the trial's generator at the start of each
+/// user's row of N labels (the labels are drawn user by user, N per user).
+struct label_rows {
+  std::vector<random_stream> rows;  ///< [k]
+};
 
 /// All golden values of one trial at cell 0's base station (the datapath nodes of README "How it computes", in double),
 /// the true channels, the other cells' transmissions and the golden metrics.
@@ -40,26 +53,64 @@ struct trial_data {
   Eigen::MatrixXcd precoder;       ///< M x K before scaling
   Eigen::VectorXd norm;            ///< size 1 (total) or M (per antenna)
   Eigen::MatrixXcd weights;        ///< M x K
-  Eigen::MatrixXcd symbols;        ///< K x N unit-power QAM
-  label_matrix symbol_bits;        ///< K x N labels of `symbols`
-  Eigen::MatrixXcd tx;             ///< weights * symbols (M x N): golden tx_acc and dac (Eigen product)
   double digital_power = 0.0;      ///< P_dig = M 10^(-dac_backoff_db/10)
+
+  // Data phase: generated block by block (data_stream).
+  std::vector<label_rows> cell_labels;  ///< [l]: where BS l's labels start
 
   // Evaluation.
   std::vector<Eigen::MatrixXcd> channel_to_cell0;  ///< [l]: M x K channel h^l_{0k} from BS l to cell 0's users
   std::vector<Eigen::MatrixXcd> cell_precoder;     ///< [l]: BS l's unscaled precoder (index 0 = precoder)
-  std::vector<Eigen::MatrixXcd> cell_tx;           ///< [l]: BS l's golden tx (index 0 = tx)
-  /// K x N: the other cells' signal at cell 0's users before the amplitude, sum over l = 1 ..
-  /// L-1 of (h^l_{0k})^T x_l, added in cell order; empty with one cell. Computed once per trial:
-  /// it does not depend on cell 0's block, so every evaluation of a fixed block reuses it.
-  Eigen::MatrixXcd interference_to_cell0;
-  link_metrics metrics;  ///< evaluate_downlink(scenario, *this, tx)
+  /// [l]: K x K gain from BS l's symbols to cell 0's users, (h^l_{0k})^T W_l (W_l BS l's
+  /// weights); index 0 empty. The other cells' signal at cell 0's users is sum over l >= 1 of
+  /// cross_gain[l] s_l (cell order), one K x K product per cell instead of two M x K ones.
+  std::vector<Eigen::MatrixXcd> cross_gain;
+  double amplitude = 0.0;  ///< sqrt(rho_d / P_dig): received samples r = amplitude (h^T x + others)
+  link_metrics metrics;    ///< the golden data phase's link figures (link_sums of its blocks, scale 1)
 };
+
+/// One block of the data phase: symbols first .. first + B - 1 of every cell.
+struct data_block {
+  int first = 0;                  ///< index of the block's first symbol
+  label_matrix labels;            ///< K x B labels of cell 0 (bits of each symbol, MSB first)
+  Eigen::MatrixXcd symbols;       ///< K x B unit-power QAM symbols of cell 0
+  Eigen::MatrixXcd tx;            ///< weights * symbols (M x B): golden tx_acc and dac (Eigen product)
+  Eigen::MatrixXcd interference;  ///< K x B: sum over l >= 1 of cross_gain[l] s_l; empty with one cell
+  [[nodiscard]] int size() const { return static_cast<int>(symbols.cols()); }
+};
+
+/// A trial's data blocks in order, each of symbol_block_size symbols (the last: the rest),
+/// regenerated from the trial's label_rows; any number of streams may read the same trial.
+class data_stream {
+ public:
+  /// Keeps references to both arguments: they must outlive the stream.
+  data_stream(const scenario& scen, const trial_data& trial);
+  /// Fills `out` with the next block; false (and `out` untouched) after the last.
+  bool next(data_block& out);
+
+ private:
+  const scenario& scen_;
+  const trial_data& trial_;
+  std::vector<label_rows> cells_;  // copies of the trial's, advanced block by block
+  int next_first_ = 0;
+};
+
+/// The whole data phase as one block (the stream's blocks side by side): for vector files and
+/// checks that need all N symbols at once. Its memory grows with N.
+data_block whole_data(const scenario& scen, const trial_data& trial);
+
+/// The noise-free received samples of cell 0's users for a block that cell 0 transmits as
+/// `tx_cell0` (M x B; the golden block or the DAC's values), the other cells transmitting their
+/// golden blocks, are r = amplitude (own + block.interference); this is own = h^T tx_cell0 (K x B,
+/// h the M x K channel from BS 0 to its users). Throws std::invalid_argument unless tx_cell0 is
+/// M x B.
+Eigen::MatrixXcd own_received(const trial_data& trial, const data_block& block, const Eigen::MatrixXcd& tx_cell0);
 
 /// Runs trial `trial_index`. All random numbers come from one xoshiro256** stream seeded with
 /// trial_seed(scen.seed, trial_index), drawn in a fixed order (large-scale state; then per BS j:
-/// channels to every cell's users, pilot noise, and BS j's data labels), so the trial is
-/// reproducible alone, in any order and on any thread.
+/// channels to every cell's users, pilot noise, and BS j's data labels, user by user), so the
+/// trial is reproducible alone, in any order and on any thread. The data phase is not kept: the
+/// trial records where its labels start, and data_stream regenerates it block by block.
 trial_data run_trial(const scenario& scen, std::uint64_t trial_index);
 
 }  // namespace fxmimo::golden
