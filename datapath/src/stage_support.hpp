@@ -6,6 +6,7 @@
 #include <algorithm>
 #include <initializer_list>
 #include <utility>
+#include <vector>
 
 #include "fxmimo/datapath/stage.hpp"
 #include "fxmimo/fixedpoint/accumulator.hpp"
@@ -134,6 +135,18 @@ template <fp::product_form Form, class P>
   for (std::size_t i = 0; i < n; ++i)
     acc.add(fp::form_product<Form, P>(a[i * sa], b[i * sb]), product_frac, *node.counters);
   return narrow(acc.result(*node.counters));
+}
+
+/// The sequential order, one row of outputs at once: words (row, first_col + j), j < num_outputs,
+/// output j the sequential dot product of a's and b's words of lane j over num_terms terms
+/// (fp::dot_accumulate_many: vector lanes are outputs, each keeps its own order), through q,
+/// counted into the node. The same words and counts as one dot_accumulate per output.
+template <fp::product_form Form>
+void sequential_row(const fp::lane_operand& a, const fp::lane_operand& b, std::size_t num_terms,
+                    const fp::requantizer<word>& q, const node_state& node, int row, int first_col, int num_outputs) {
+  std::vector<cw> out(static_cast<std::size_t>(num_outputs));
+  fp::dot_accumulate_many<Form>(a, b, num_terms, out.size(), q, out.data(), *node.counters);
+  for (int j = 0; j < num_outputs; ++j) put(*node.words, row, first_col + j, out[static_cast<std::size_t>(j)]);
 }
 
 }  // namespace fxmimo::datapath::detail

@@ -13,12 +13,16 @@
 #include <cstdlib>
 #include <random>
 #include <set>
-#include <sstream>
 #include <string>
 #include <vector>
 
+#include "word_checks.hpp"
+
 namespace fp = fxmimo::fixedpoint;
 using cw = fp::cword<std::int64_t>;
+using fxmimo::test_support::describe;
+using fxmimo::test_support::draw_signed_word;
+using fxmimo::test_support::hex;
 
 namespace {
 
@@ -36,37 +40,6 @@ std::ostream& operator<<(std::ostream& os, const many_case& c) { return os << c.
 
 constexpr auto column = fp::lane_spread::column;
 constexpr auto shared = fp::lane_spread::shared;
-
-/// A word of `bits` two's complement bits: an extreme (most negative, largest, -largest, 0,
-/// +-1) one time in four, otherwise a full-range word shifted right by a random amount, so
-/// that every magnitude from 1 LSB to full scale occurs.
-std::int64_t draw_word(std::mt19937_64& rng, int bits) {
-  const std::int64_t hi = (std::int64_t{1} << (bits - 1)) - 1, lo = -hi - 1;
-  std::uniform_int_distribution<std::int64_t> full(lo, hi);
-  std::uniform_int_distribution<int> pick(0, 15), scale(0, bits - 1);
-  switch (pick(rng)) {
-    case 0: return lo;
-    case 1: return hi;
-    case 2: return -hi;
-    case 3: return 0;
-    default: break;
-  }
-  const std::int64_t x = full(rng) >> scale(rng);  // arithmetic shift (C++20)
-  return x == 0 ? (pick(rng) % 2 == 0 ? 1 : -1) : x;
-}
-
-std::string hex(std::int64_t v) {
-  std::ostringstream os;
-  os << "0x" << std::hex << static_cast<std::uint64_t>(v) << std::dec << " (" << v << ")";
-  return os.str();
-}
-
-std::string describe(const fp::counters& c) {
-  std::ostringstream os;
-  os << "{requantized " << c.requantized << ", overflowed " << c.overflowed << ", inexact " << c.inexact
-     << ", max_excess_lsb " << c.max_excess_lsb << "}";
-  return os.str();
-}
 
 /// Every output equal as integers and the counters equal; otherwise the first mismatching
 /// output (index, expected, got in hex and value).
@@ -98,7 +71,7 @@ operand_data make_operand(std::mt19937_64& rng, int bits, int frac, fp::lane_spr
   operand_data d;
   const std::size_t stride = spread == column ? num_outputs + 3 : 2;
   d.words.resize(std::max<std::size_t>(num_terms, 1) * stride);
-  for (cw& w : d.words) w = {draw_word(rng, bits), draw_word(rng, bits)};
+  for (cw& w : d.words) w = {draw_signed_word(rng, bits), draw_signed_word(rng, bits)};
   d.view = {d.words.data(), stride, spread, bits, frac};
   return d;
 }

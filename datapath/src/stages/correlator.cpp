@@ -27,23 +27,33 @@ class correlator final : public stage {
   void compute(fixed_context& ctx) const override {
     const node_state adc = state(ctx, source(0, 0)), pilot = state(ctx, source(0, 1));
     node_state acc_node = state(ctx, output(0));
+    const word_matrix& y = *adc.words;
+    const word_matrix& phi = *pilot.words;
+    const int num_ant = y.rows, num_pilot = y.cols, num_users = phi.cols;
+    *acc_node.words = word_matrix(num_ant, num_users, true);
+    const fp::requantizer<word> q(acc_node.spec);
+    const std::vector<cw> ys = interleaved(y), phis = interleaved(phi);
+    const auto stride = static_cast<std::size_t>(num_users), n = static_cast<std::size_t>(num_pilot);
+    if (acc_node.sequential()) {
+      // Per antenna, one sequential MAC per user, all users at once (the vector kernel's lanes
+      // are users): adc[m,t] is shared, pilot_rom row t (row-major) a column over the users.
+      const fp::lane_operand pilots{phis.data(), stride, fp::lane_spread::column, pilot.bits(), pilot.frac()};
+      for (int i_ant = 0; i_ant < num_ant; ++i_ant) {
+        const fp::lane_operand samples{&ys[y.at(i_ant, 0)], 1, fp::lane_spread::shared, adc.bits(), adc.frac()};
+        sequential_row<fp::product_form::conj_second>(samples, pilots, n, q, acc_node, i_ant, 0, num_users);
+      }
+      return;
+    }
     with_width(work_bits(ctx.config), [&](auto tag) {
       using P = decltype(tag);
-      const word_matrix& y = *adc.words;
-      const word_matrix& phi = *pilot.words;
-      const int num_ant = y.rows, num_pilot = y.cols, num_users = phi.cols;
-      *acc_node.words = word_matrix(num_ant, num_users, true);
-      const fp::requantizer<word> q(acc_node.spec);
       const fp::requantizer<P> q_tree(acc_node.spec);
       fp::complex_accumulator<P> tree(q_tree, acc_node.order);
-      const std::vector<cw> ys = interleaved(y), phis = interleaved(phi);
       for (int i_ant = 0; i_ant < num_ant; ++i_ant) {
         for (int i_user = 0; i_user < num_users; ++i_user) {
           put(*acc_node.words, i_ant, i_user,
-              dot_in_order<fp::product_form::conj_second>(&ys[y.at(i_ant, 0)], 1, &phis[phi.at(0, i_user)],
-                                                          static_cast<std::size_t>(num_users),
-                                                          static_cast<std::size_t>(num_pilot), adc.bits(), pilot.bits(),
-                                                          adc.frac() + pilot.frac(), q, tree, acc_node));
+              dot_in_order<fp::product_form::conj_second>(&ys[y.at(i_ant, 0)], 1, &phis[phi.at(0, i_user)], stride, n,
+                                                          adc.bits(), pilot.bits(), adc.frac() + pilot.frac(), q, tree,
+                                                          acc_node));
         }
       }
     });

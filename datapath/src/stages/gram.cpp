@@ -36,13 +36,21 @@ class gram_stage final : public stage {
       const fp::requantizer<word> q_acc(g.spec);
       fp::complex_accumulator<P> tree(q, g.order);
       const std::vector<cw> hs = interleaved(h);
-      const auto stride = static_cast<std::size_t>(num_users);
+      const auto stride = static_cast<std::size_t>(num_users), n = static_cast<std::size_t>(num_ant);
+      const fp::lane_operand column_j{hs.data(), stride, fp::lane_spread::column, est.bits(), est.frac()};
       for (int i_user = 0; i_user < num_users; ++i_user) {
+        if (g.sequential()) {
+          // Row i of the lower triangle at once (the vector kernel's lanes are the users j <= i):
+          // H[m,j] (row-major) a column over j, H[m,i] shared.
+          const fp::lane_operand shared_i{&hs[h.at(0, i_user)], stride, fp::lane_spread::shared, est.bits(),
+                                          est.frac()};
+          sequential_row<fp::product_form::conj_second>(column_j, shared_i, n, q_acc, g, i_user, 0, i_user + 1);
+          continue;
+        }
         for (int j_user = 0; j_user <= i_user; ++j_user) {
           put(*g.words, i_user, j_user,
-              dot_in_order<fp::product_form::conj_second>(&hs[h.at(0, j_user)], stride, &hs[h.at(0, i_user)], stride,
-                                                          static_cast<std::size_t>(num_ant), est.bits(), est.bits(),
-                                                          2 * est.frac(), q_acc, tree, g));
+              dot_in_order<fp::product_form::conj_second>(&hs[h.at(0, j_user)], stride, &hs[h.at(0, i_user)], stride, n,
+                                                          est.bits(), est.bits(), 2 * est.frac(), q_acc, tree, g));
         }
       }
       if (loading_) {

@@ -95,7 +95,24 @@ class neumann_stage final : public stage {
     if (num_extra > 0) *term_node.words = word_matrix(num_users, num_users * num_extra, true);
     const fp::requantizer<P> q_term(term_node.spec);
     fp::complex_accumulator<P> acc_term(q_term, term_node.order);
+    const auto k = static_cast<std::size_t>(num_users);
     for (int n = 1; n <= num_extra; ++n) {
+      if (n > 1 && term_node.sequential()) {
+        // Row i of T_n at once (the vector kernel's lanes are the columns c): B[i,j] is shared,
+        // row j of T_{n-1} (the block of the terms so far) a column over c.
+        const word_matrix& terms = *term_node.words;
+        const std::vector<cw> bs = interleaved(*iter.words), ts = interleaved(terms);
+        const fp::requantizer<word> q_seq(term_node.spec);
+        const fp::lane_operand previous{&ts[terms.at(0, (n - 2) * num_users)], static_cast<std::size_t>(terms.cols),
+                                        fp::lane_spread::column, term_node.bits(), term_node.frac()};
+        for (int i = 0; i < num_users; ++i) {
+          const fp::lane_operand iter_row{&bs[iter.words->at(i, 0)], 1, fp::lane_spread::shared, iter.bits(),
+                                          iter.frac()};
+          sequential_row<fp::product_form::plain>(iter_row, previous, k, q_seq, term_node, i, (n - 1) * num_users,
+                                                  num_users);
+        }
+        continue;
+      }
       for (int i = 0; i < num_users; ++i) {
         for (int c = 0; c < num_users; ++c) {
           acc_term.reset();

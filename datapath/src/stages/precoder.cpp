@@ -43,13 +43,23 @@ class precoder_stage final : public stage {
       const fp::requantizer<word> q_acc(pre.spec);
       fp::complex_accumulator<P> tree(q, pre.order);
       const std::vector<cw> hs = interleaved(h), as = interleaved(a);
+      const auto stride = static_cast<std::size_t>(a.cols), n = static_cast<std::size_t>(h.cols);
+      if (pre.sequential()) {
+        // Per antenna, one sequential MAC per user, all users at once (the vector kernel's lanes
+        // are users): H[m,j] is shared, row j of A (row-major) a column over the users.
+        const fp::lane_operand inverse_rows{as.data(), stride, fp::lane_spread::column, inverse.bits(), inverse.frac()};
+        for (int i_ant = 0; i_ant < h.rows; ++i_ant) {
+          const fp::lane_operand channel{&hs[h.at(i_ant, 0)], 1, fp::lane_spread::shared, est.bits(), est.frac()};
+          sequential_row<fp::product_form::conj_both>(channel, inverse_rows, n, q_acc, pre, i_ant, 0, h.cols);
+        }
+        return;
+      }
       for (int i_ant = 0; i_ant < h.rows; ++i_ant) {
         for (int i_user = 0; i_user < h.cols; ++i_user) {
           put(*pre.words, i_ant, i_user,
-              dot_in_order<fp::product_form::conj_both>(&hs[h.at(i_ant, 0)], 1, &as[a.at(0, i_user)],
-                                                        static_cast<std::size_t>(a.cols),
-                                                        static_cast<std::size_t>(h.cols), est.bits(), inverse.bits(),
-                                                        est.frac() + inverse.frac(), q_acc, tree, pre));
+              dot_in_order<fp::product_form::conj_both>(&hs[h.at(i_ant, 0)], 1, &as[a.at(0, i_user)], stride, n,
+                                                        est.bits(), inverse.bits(), est.frac() + inverse.frac(), q_acc,
+                                                        tree, pre));
         }
       }
     });

@@ -45,14 +45,10 @@ class transmit_stage final : public stage {
       // The hot loop: per antenna, one sequential MAC per symbol, all symbols at once (the
       // vector kernel's lanes are symbols): weights[m,k] is shared, symbol row k a column.
       const fp::requantizer<word> q_tx(tx.spec);
-      std::vector<cw> row(static_cast<std::size_t>(num_sym));
       const fp::lane_operand symbols{ss.data(), stride, fp::lane_spread::column, sym.bits(), sym.frac()};
       for (int i_ant = 0; i_ant < num_ant; ++i_ant) {
         const fp::lane_operand weights{&ws[w.at(i_ant, 0)], 1, fp::lane_spread::shared, wts.bits(), wts.frac()};
-        fp::dot_accumulate_many<fp::product_form::plain>(weights, symbols, n, row.size(), q_tx, row.data(),
-                                                         *tx.counters);
-        for (int i_sym = 0; i_sym < num_sym; ++i_sym)
-          put(*tx.words, i_ant, i_sym, row[static_cast<std::size_t>(i_sym)]);
+        sequential_row<fp::product_form::plain>(weights, symbols, n, q_tx, tx, i_ant, 0, num_sym);
       }
       return;
     }
