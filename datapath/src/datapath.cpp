@@ -46,7 +46,7 @@ void run_data_stages(const datapath_plan& plan, const golden::scenario& scen, co
 fixed_trial run_fixed_datapath(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
                                const golden::trial_data& trial) {
   fixed_trial out = run_block_stages(plan, scen, config, trial);
-  run_data_stages(plan, scen, config, trial, golden::whole_data(scen, trial), out);
+  run_data_stages(plan, scen, config, trial, golden::whole_data(scen, trial, false), out);
   return out;
 }
 

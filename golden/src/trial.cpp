@@ -109,8 +109,12 @@ trial_data run_trial(const scenario& scen, std::uint64_t trial_index) {
   return td;
 }
 
-data_stream::data_stream(const scenario& scen, const trial_data& trial)
-    : scen_(scen), trial_(trial), cells_(trial.cell_labels) {}
+data_stream::data_stream(const scenario& scen, const trial_data& trial, bool golden_products)
+    : scen_(scen),
+      trial_(trial),
+      cells_(golden_products ? trial.cell_labels
+                             : std::vector<label_rows>(trial.cell_labels.begin(), trial.cell_labels.begin() + 1)),
+      golden_products_(golden_products) {}
 
 bool data_stream::next(data_block& out) {
   const int num_sym = scen_.data.num_symbols;
@@ -123,7 +127,11 @@ bool data_stream::next(data_block& out) {
     label_matrix labels = draw_labels(cells_[l], num_labels, count);
     Eigen::MatrixXcd symbols = map_labels(scen_.data.mod, labels);
     if (l == 0) {
-      out.tx.noalias() = trial_.weights * symbols;
+      if (golden_products_) {
+        out.tx.noalias() = trial_.weights * symbols;
+      } else {
+        out.tx.resize(0, 0);
+      }
       out.labels = std::move(labels);
       out.symbols = std::move(symbols);
       out.interference.resize(0, 0);
@@ -136,20 +144,22 @@ bool data_stream::next(data_block& out) {
   return true;
 }
 
-data_block whole_data(const scenario& scen, const trial_data& trial) {
+data_block whole_data(const scenario& scen, const trial_data& trial, bool golden_products) {
   const int num_sym = scen.data.num_symbols;
   const auto num_users = static_cast<Eigen::Index>(scen.cells.num_users);
   data_block all;
   all.labels.resize(num_users, num_sym);
   all.symbols.resize(num_users, num_sym);
-  all.tx.resize(trial.weights.rows(), num_sym);
-  if (trial.cell_labels.size() > 1) all.interference.resize(num_users, num_sym);
-  data_stream stream(scen, trial);
+  if (golden_products) {
+    all.tx.resize(trial.weights.rows(), num_sym);
+    if (trial.cell_labels.size() > 1) all.interference.resize(num_users, num_sym);
+  }
+  data_stream stream(scen, trial, golden_products);
   data_block block;
   while (stream.next(block)) {
     all.labels.middleCols(block.first, block.size()) = block.labels;
     all.symbols.middleCols(block.first, block.size()) = block.symbols;
-    all.tx.middleCols(block.first, block.size()) = block.tx;
+    if (all.tx.size() > 0) all.tx.middleCols(block.first, block.size()) = block.tx;
     if (all.interference.size() > 0) all.interference.middleCols(block.first, block.size()) = block.interference;
   }
   return all;

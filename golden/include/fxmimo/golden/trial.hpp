@@ -83,8 +83,10 @@ struct data_block {
 /// regenerated from the trial's label_rows; any number of streams may read the same trial.
 class data_stream {
  public:
-  /// Keeps references to both arguments: they must outlive the stream.
-  data_stream(const scenario& scen, const trial_data& trial);
+  /// Keeps references to both arguments: they must outlive the stream. Without
+  /// `golden_products` the blocks hold labels and symbols only (tx and interference stay empty):
+  /// what the fixed-point datapath alone reads.
+  data_stream(const scenario& scen, const trial_data& trial, bool golden_products = true);
   /// Fills `out` with the next block; false (and `out` untouched) after the last.
   bool next(data_block& out);
 
@@ -92,12 +94,14 @@ class data_stream {
   const scenario& scen_;
   const trial_data& trial_;
   std::vector<label_rows> cells_;  // copies of the trial's, advanced block by block
+  bool golden_products_;
   int next_first_ = 0;
 };
 
 /// The whole data phase as one block (the stream's blocks side by side): for vector files and
-/// checks that need all N symbols at once. Its memory grows with N.
-data_block whole_data(const scenario& scen, const trial_data& trial);
+/// checks that need all N symbols at once. Its memory grows with N. `golden_products` as for
+/// data_stream.
+data_block whole_data(const scenario& scen, const trial_data& trial, bool golden_products = true);
 
 /// The noise-free received samples of cell 0's users for a block that cell 0 transmits as
 /// `tx_cell0` (M x B; the golden block or the DAC's values), the other cells transmitting their
