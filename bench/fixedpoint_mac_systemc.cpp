@@ -1,7 +1,11 @@
 // Complex multiply-accumulate over 10^6 elements: Q0.15 x Q0.15 operands, 40-bit accumulator
 // (Q9.30), half_even rounding and saturation at every step (acc <- Q(acc + Q(a*b))).
 // Our core against SystemC sc_fixed and sc_fixed_fast doing the same work, and plain double.
-// Read the ratios of the reported times within one run.
+// The same MACs also as a bank of 128 outputs of 256 terms each (x_j = sum_i a_ij b_i, the shape
+// of a precoder or correlator bank; its 512 KiB of operands stay in the L2 cache, as a precoder's
+// weights do) through fixedpoint::dot_accumulate_many: its vector form (SIMD lanes are outputs,
+// runtime-dispatched) and its scalar twin; compare items per second. Read the ratios of the
+// reported times (or items per second) within one run.
 #include <benchmark/benchmark.h>
 
 #include <random>
@@ -9,6 +13,7 @@
 #include <vector>
 
 #include "fxmimo/fixedpoint/accumulator.hpp"
+#include "fxmimo/fixedpoint/mac_lanes.hpp"
 
 namespace fp = fxmimo::fixedpoint;
 
@@ -55,6 +60,30 @@ void mac_fxmimo(benchmark::State& state) {
   state.SetItemsProcessed(state.iterations() * num_elements);
 }
 
+/// The first operand pairs as 256 terms x 128 outputs: a_ij = a[i * 128 + j] (a column over the
+/// outputs), b_i = b[i * 128] (shared by every output).
+constexpr std::size_t bank_outputs = 128, bank_terms = 256;
+
+template <bool Vector>
+void mac_bank(benchmark::State& state) {
+  const operands& d = data();
+  const fp::requantizer<std::int64_t> q(
+      fp::target{{true, acc_w, acc_f}, fp::rounding_mode::half_even, fp::overflow_mode::saturate});
+  const fp::lane_operand a{d.a.data(), bank_outputs, fp::lane_spread::column, 16, 15};
+  const fp::lane_operand b{d.b.data(), bank_outputs, fp::lane_spread::shared, 16, 15};
+  std::vector<fp::cword<std::int64_t>> out(bank_outputs);
+  for (auto _ : state) {
+    fp::counters c;
+    if constexpr (Vector) {
+      fp::dot_accumulate_many<fp::product_form::plain>(a, b, bank_terms, bank_outputs, q, out.data(), c);
+    } else {
+      fp::dot_accumulate_many_scalar<fp::product_form::plain>(a, b, bank_terms, bank_outputs, q, out.data(), c);
+    }
+    benchmark::DoNotOptimize(out.data());
+  }
+  state.SetItemsProcessed(state.iterations() * static_cast<std::int64_t>(bank_outputs * bank_terms));
+}
+
 template <class Fixed>
 void mac_systemc(benchmark::State& state) {
   using operand = sc_dt::sc_fixed<16, 1, sc_dt::SC_RND_CONV, sc_dt::SC_SAT>;
@@ -96,6 +125,8 @@ using sc_acc = sc_dt::sc_fixed<acc_w, acc_w - acc_f, sc_dt::SC_RND_CONV, sc_dt::
 using sc_acc_fast = sc_dt::sc_fixed_fast<acc_w, acc_w - acc_f, sc_dt::SC_RND_CONV, sc_dt::SC_SAT>;
 
 BENCHMARK(mac_fxmimo)->Unit(benchmark::kMillisecond);
+BENCHMARK(mac_bank<true>)->Name("mac_bank_vector")->Unit(benchmark::kMillisecond);
+BENCHMARK(mac_bank<false>)->Name("mac_bank_scalar_twin")->Unit(benchmark::kMillisecond);
 BENCHMARK(mac_systemc<sc_acc>)->Name("mac_systemc_sc_fixed")->Unit(benchmark::kMillisecond);
 BENCHMARK(mac_systemc<sc_acc_fast>)->Name("mac_systemc_sc_fixed_fast")->Unit(benchmark::kMillisecond);
 BENCHMARK(mac_double)->Unit(benchmark::kMillisecond);

@@ -99,40 +99,53 @@ node_result measure_node(datapath::node_id id, const datapath::node_setting& set
 
 /// The figures of one trial from its golden part and the words of its stages outside the data
 /// phase (`fixed`, from run_block_stages or rerun_block_stages); the data phase is computed
-/// here, block by block (golden::data_stream), into `fixed`'s data nodes, which are emptied at
-/// the end (a kept evaluation holds no data-phase words). With `earlier` (an evaluation of the
-/// same trial) and `recomputed` (per node), the figures of nodes not recomputed are copied from
-/// it: the same words give the same figures.
+/// here, block by block, into `fixed`'s data nodes, which are emptied at the end (a kept
+/// evaluation holds no data-phase words in `fixed`). With `earlier` (an evaluation of the same
+/// trial) and `recomputed` (per node), the figures of nodes not recomputed are copied from it:
+/// the same words give the same figures; where `earlier` kept its data words, only the data
+/// stages downstream of a change run, on its words. With `keep_words`, the data words of every
+/// block are kept there.
 trial_summary summarise_trial(const datapath::datapath_plan& plan, const golden::scenario& scen,
                               const datapath::datapath_config& config, const golden_part& g,
-                              datapath::fixed_trial& fixed, const trial_summary* earlier,
-                              const std::vector<bool>* recomputed) {
+                              datapath::fixed_trial& fixed, const fixed_part* earlier,
+                              const std::vector<bool>* recomputed,
+                              std::vector<std::vector<datapath::word_matrix>>* keep_words) {
   const golden::trial_data& trial = g.trial;
   auto again = [&](datapath::node_id id) { return earlier == nullptr || (*recomputed)[datapath::index_of(id)]; };
   const std::vector<bool> data_stage = plan.data_stages();
   std::vector<datapath::node_id> data_nodes;
-  for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage)
-    if (data_stage[i_stage])
-      for (const datapath::port& p : plan.stages[i_stage]->ports()) data_nodes.push_back(p.node);
+  std::vector<bool> run_stage(plan.stages.size(), false);  // the data stages to run
+  for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage) {
+    if (!data_stage[i_stage]) continue;
+    for (const datapath::port& p : plan.stages[i_stage]->ports()) {
+      data_nodes.push_back(p.node);
+      run_stage[i_stage] = run_stage[i_stage] || again(p.node);
+    }
+  }
+  const bool earlier_words = earlier != nullptr && !earlier->data_words.empty();
+  if (!earlier_words) {
+    for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage) run_stage[i_stage] = data_stage[i_stage];
+  }
   const auto in_data_phase = [&](datapath::node_id id) {
     return std::find(data_nodes.begin(), data_nodes.end(), id) != data_nodes.end();
+  };
+  const auto measured_now = [&](datapath::node_id id) {
+    return !in_data_phase(id) ? again(id) : !earlier_words || again(id);
   };
   trial_summary out;
   out.trial_index = trial.trial_index;
   out.nodes.resize(datapath::node_count());
   for (datapath::node_id id : plan.nodes()) {
     const std::size_t i = datapath::index_of(id);
-    if (in_data_phase(id)) {
+    if (in_data_phase(id) && measured_now(id)) {
       out.nodes[i].id = id;
-      out.nodes[i].spec = config[id].spec;
-      out.nodes[i].is_default = config[id].is_default;
-    } else if (again(id)) {
+    } else if (measured_now(id)) {
       out.nodes[i] = measure_node(id, config[id], fixed.counters[i], g.node_values[i], fixed.words[i]);
     } else {
-      out.nodes[i] = earlier->nodes[i];
-      out.nodes[i].spec = config[id].spec;
-      out.nodes[i].is_default = config[id].is_default;
+      out.nodes[i] = earlier->summary.nodes[i];
     }
+    out.nodes[i].spec = config[id].spec;
+    out.nodes[i].is_default = config[id].is_default;
   }
   out.sinr_golden = trial.metrics.sinr;
   out.evm_golden_pct = trial.metrics.evm_pct;
@@ -140,29 +153,66 @@ trial_summary summarise_trial(const datapath::datapath_plan& plan, const golden:
   out.gram_condition = g.gram_condition;
 
   // The data phase, block by block: its nodes' figures, the DAC block's alignment with the
-  // golden block and the fixed block's link sums.
+  // golden block and the fixed block's link sums. Skipped where no data stage runs: then the
+  // dac's words, and every figure taken from them, are the earlier evaluation's.
+  const bool link_again = measured_now(datapath::node_id::dac);
   const std::size_t i_dac = datapath::index_of(datapath::node_id::dac);
   const int dac_frac = config[datapath::node_id::dac].spec.fmt.frac_bits;
   golden::link_sums link(scen.cells.num_users);
   golden::alignment_sums alignment;
-  golden::data_stream stream(scen, trial);
-  golden::data_block block;
-  std::vector<Eigen::MatrixXcd> values;
-  while (stream.next(block)) {
-    datapath::run_data_stages(plan, scen, config, trial, block, fixed);
-    datapath::golden_data_values(plan, scen, trial, block, g.node_values, values);
+  std::size_t i_block = 0;
+  if (keep_words != nullptr) keep_words->clear();
+  // A data stage that runs counts its outputs from zero, over every block.
+  for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage) {
+    if (!run_stage[i_stage]) continue;
+    for (const datapath::port& p : plan.stages[i_stage]->ports()) fixed.counters[datapath::index_of(p.node)] = {};
+  }
+  auto consume = [&](const golden::data_block& block, const std::vector<Eigen::MatrixXcd>& values) {
+    if (earlier_words) {
+      for (datapath::node_id id : data_nodes)
+        if (!again(id)) fixed.words[datapath::index_of(id)] = earlier->data_words[i_block][datapath::index_of(id)];
+    }
+    datapath::run_data_stages(plan, scen, config, trial, block, fixed, &run_stage);
     for (datapath::node_id id : data_nodes) {
       const std::size_t i = datapath::index_of(id);
-      out.nodes[i].absorb(measure_node(id, config[id], {}, values[i], fixed.words[i]));
+      if (measured_now(id)) out.nodes[i].absorb(measure_node(id, config[id], {}, values[i], fixed.words[i]));
     }
-    const Eigen::MatrixXcd dac = datapath::to_values(fixed.words[i_dac], dac_frac);
-    alignment.add(dac, block.tx);
-    link.add(golden::own_received(trial, block, dac), block.interference, block.symbols);
+    if (link_again) {
+      const Eigen::MatrixXcd dac = datapath::to_values(fixed.words[i_dac], dac_frac);
+      alignment.add(dac, block.tx);
+      link.add(golden::own_received(trial, block, dac), block.interference, block.symbols);
+    }
+    if (keep_words != nullptr) {
+      keep_words->emplace_back(datapath::node_count());
+      for (datapath::node_id id : data_nodes)
+        keep_words->back()[datapath::index_of(id)] = fixed.words[datapath::index_of(id)];
+    }
+    ++i_block;
+  };
+  if (!link_again && keep_words == nullptr) {
+    // Nothing in the data phase changed and no words are to be kept: no block to go through.
+  } else if (!g.blocks.empty()) {  // kept by the cache
+    for (std::size_t b = 0; b < g.blocks.size(); ++b) consume(g.blocks[b], g.block_values[b]);
+  } else {
+    golden::data_stream stream(scen, trial);
+    golden::data_block block;
+    std::vector<Eigen::MatrixXcd> values;
+    while (stream.next(block)) {
+      datapath::golden_data_values(plan, scen, trial, block, g.node_values, values);
+      consume(block, values);
+    }
   }
   for (datapath::node_id id : data_nodes) {
     const std::size_t i = datapath::index_of(id);
-    out.nodes[i].counters = fixed.counters[i];
+    if (measured_now(id)) out.nodes[i].counters = fixed.counters[i];
     fixed.words[i] = datapath::word_matrix();
+  }
+  if (!link_again) {
+    out.sinr_fixed = earlier->summary.sinr_fixed;
+    out.evm_fixed_pct = earlier->summary.evm_fixed_pct;
+    out.evm_impl = earlier->summary.evm_impl;
+    out.tx_power_error_db = earlier->summary.tx_power_error_db;
+    return out;
   }
   // The fixed block is evaluated at the golden block's transmitted power (a calibrated power
   // amplifier), so the SINR loss measures distortion; the power error is reported on its own.
@@ -183,7 +233,7 @@ trial_summary evaluate_trial(const golden::scenario& scen, const datapath::datap
   const datapath::datapath_plan plan = datapath::stages_for(scen);
   const golden_part g = make_golden_part(plan, scen, trial_index);
   datapath::fixed_trial fixed = datapath::run_block_stages(plan, scen, config, g.trial);
-  return summarise_trial(plan, scen, config, g, fixed, nullptr, nullptr);
+  return summarise_trial(plan, scen, config, g, fixed, nullptr, nullptr, nullptr);
 }
 
 trial_summary evaluate_trial(trial_cache& cache, const datapath::datapath_config& config, std::uint64_t trial_index) {
@@ -199,8 +249,9 @@ trial_summary evaluate_trial(trial_cache& cache, const datapath::datapath_config
   } else {
     now->fixed = datapath::run_block_stages(plan, cache.scenario(), config, g->trial);
   }
-  now->summary = summarise_trial(plan, cache.scenario(), config, *g, now->fixed, earlier ? &earlier->summary : nullptr,
-                                 earlier ? &recomputed : nullptr);
+  // The data words are worth keeping where the data phase is kept (the budget is roomy).
+  now->summary = summarise_trial(plan, cache.scenario(), config, *g, now->fixed, earlier.get(),
+                                 earlier ? &recomputed : nullptr, g->blocks.empty() ? nullptr : &now->data_words);
   const std::size_t num_nodes = plan.nodes().size();
   const auto run =
       earlier ? static_cast<std::size_t>(std::count(recomputed.begin(), recomputed.end(), true)) : num_nodes;

@@ -15,12 +15,30 @@ double matrix_bytes(const Eigen::MatrixXcd& m) { return 16.0 * static_cast<doubl
 }  // namespace
 
 golden_part make_golden_part(const datapath::datapath_plan& plan, const golden::scenario& scen,
-                             std::uint64_t trial_index) {
+                             std::uint64_t trial_index, bool keep_data) {
   golden_part g;
   g.trial = golden::run_trial(scen, trial_index);
   g.node_values = datapath::golden_block_values(plan, scen, g.trial);
   if (g.trial.gram.size() > 0) g.gram_condition = golden::condition_number(g.trial.gram);
+  if (keep_data) {
+    golden::data_stream stream(scen, g.trial);
+    golden::data_block block;
+    while (stream.next(block)) {
+      g.block_values.emplace_back();
+      datapath::golden_data_values(plan, scen, g.trial, block, g.node_values, g.block_values.back());
+      g.blocks.push_back(std::move(block));
+      block = golden::data_block();
+    }
+  }
   return g;
+}
+
+double kept_data_bytes(const golden::scenario& scen) {
+  const auto m = static_cast<double>(scen.array.num_antennas), k = static_cast<double>(scen.cells.num_users);
+  const auto n = static_cast<double>(scen.data.num_symbols);
+  // Per symbol: labels (4 bytes) and symbols, tx, the other cells' signal; the golden values of
+  // the data nodes (symbols, tx_acc, dac: K + 2 M) and room for a custom data node of M.
+  return n * (4.0 * k + 16.0 * (k + m + k) + 16.0 * (k + 3.0 * m));
 }
 
 double bytes_of(const golden_part& g) {
@@ -34,12 +52,20 @@ double bytes_of(const golden_part& g) {
   for (const golden::label_rows& cell : t.cell_labels)
     bytes += static_cast<double>(sizeof(golden::random_stream) * cell.rows.size());
   for (const Eigen::MatrixXcd& m : g.node_values) bytes += matrix_bytes(m);
+  for (const golden::data_block& b : g.blocks) {
+    bytes += 4.0 * static_cast<double>(b.labels.size()) + matrix_bytes(b.symbols) + matrix_bytes(b.tx) +
+             matrix_bytes(b.interference);
+  }
+  for (const auto& values : g.block_values)
+    for (const Eigen::MatrixXcd& m : values) bytes += matrix_bytes(m);
   return bytes;
 }
 
 double bytes_of(const fixed_part& f) {
   double bytes = 0;
   for (const datapath::word_matrix& w : f.fixed.words) bytes += 8.0 * static_cast<double>(w.re.size() + w.im.size());
+  for (const auto& block : f.data_words)
+    for (const datapath::word_matrix& w : block) bytes += 8.0 * static_cast<double>(w.re.size() + w.im.size());
   return bytes;
 }
 
@@ -62,8 +88,15 @@ std::shared_ptr<const golden_part> trial_cache::golden(std::uint64_t trial_index
       return it->second;
     }
   }
-  // Computed outside the lock, so that threads work on their trials at once.
-  auto made = std::make_shared<const golden_part>(make_golden_part(plan_, scen_, trial_index));
+  // The data phase is kept too where it fits beside what is kept already (its estimate plus a
+  // trial's), so that evaluations do not regenerate it. Computed outside the lock, so that
+  // threads work on their trials at once.
+  bool keep_data = false;
+  {
+    const std::lock_guard lock(mutex_);
+    keep_data = stats_.bytes_kept + kept_data_bytes(scen_) + trial_memory_bytes(scen_).amount <= budget_bytes_;
+  }
+  auto made = std::make_shared<const golden_part>(make_golden_part(plan_, scen_, trial_index, keep_data));
   const double bytes = bytes_of(*made);
   const std::lock_guard lock(mutex_);
   ++stats_.golden_computed;

@@ -35,12 +35,13 @@ fixed_trial run_block_stages(const datapath_plan& plan, const golden::scenario& 
 }
 
 void run_data_stages(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
-                     const golden::trial_data& trial, const golden::data_block& block, fixed_trial& fixed) {
+                     const golden::trial_data& trial, const golden::data_block& block, fixed_trial& fixed,
+                     const std::vector<bool>* only) {
   check_config_size(config);
   const std::vector<bool> data = plan.data_stages();
   fixed_context ctx{scen, trial, config, fixed.words, fixed.counters, &block};
   for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage)
-    if (data[i_stage]) plan.stages[i_stage]->compute(ctx);
+    if (data[i_stage] && (only == nullptr || (*only)[i_stage])) plan.stages[i_stage]->compute(ctx);
 }
 
 fixed_trial run_fixed_datapath(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
@@ -80,12 +81,13 @@ fixed_trial rerun_block_stages(const datapath_plan& plan, const golden::scenario
   fixed_context ctx{scen, trial, config, out.words, out.counters};
   for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage) {
     const stage& s = *plan.stages[i_stage];
-    if (!dirty[i_stage] && !data[i_stage]) continue;
-    // A stage counts into its outputs' counters from zero, as in a full run; the data nodes are
-    // left empty for run_data_stages, as run_block_stages leaves them.
+    // The data nodes are left empty for run_data_stages, as run_block_stages leaves them.
+    if (data[i_stage])
+      for (const port& p : s.ports()) out.words[index_of(p.node)] = word_matrix();
+    if (!dirty[i_stage]) continue;
+    // A stage counts into its outputs' counters from zero, as in a full run.
     for (const port& p : s.ports()) {
       out.counters[index_of(p.node)] = {};
-      if (data[i_stage]) out.words[index_of(p.node)] = word_matrix();
       if (recomputed != nullptr) (*recomputed)[index_of(p.node)] = true;
     }
     if (!data[i_stage]) s.compute(ctx);

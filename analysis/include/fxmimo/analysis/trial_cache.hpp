@@ -30,18 +30,31 @@ struct golden_part {
   golden::trial_data trial;
   std::vector<Eigen::MatrixXcd> node_values;  ///< datapath::golden_block_values, indexed by index_of
   double gram_condition = 0.0;                ///< 0 without a Gram
+  /// The data phase, kept where the cache's budget allows (else empty, and every evaluation
+  /// regenerates it from the trial): its blocks in order and each block's golden data values
+  /// (datapath::golden_data_values). The same blocks either way.
+  std::vector<golden::data_block> blocks;
+  std::vector<std::vector<Eigen::MatrixXcd>> block_values;
 };
 
 /// One fixed evaluation of a trial at one configuration.
 struct fixed_part {
   datapath::datapath_config config;
-  datapath::fixed_trial fixed;
+  datapath::fixed_trial fixed;  ///< the data nodes' words empty (their counters the totals)
+  /// The data nodes' words per block ([block][index_of]), kept with a kept data phase, so that
+  /// an evaluation reruns only the data stages downstream of its changes.
+  std::vector<std::vector<datapath::word_matrix>> data_words;
   trial_summary summary;
 };
 
-/// The golden part of trial `trial_index` of `plan`'s scenario, computed.
+/// The golden part of trial `trial_index` of `plan`'s scenario, computed; with `keep_data`, its
+/// data phase too.
 golden_part make_golden_part(const datapath::datapath_plan& plan, const golden::scenario& scen,
-                             std::uint64_t trial_index);
+                             std::uint64_t trial_index, bool keep_data = false);
+
+/// Bytes the data phase of one trial takes when kept in a golden_part (its blocks and their
+/// golden data values), estimated from the scenario's dimensions.
+double kept_data_bytes(const golden::scenario& scen);
 
 /// How much the cache saved (for progress lines, the benchmark and tests).
 struct cache_statistics {

@@ -30,9 +30,12 @@ fixed_trial run_block_stages(const datapath_plan& plan, const golden::scenario& 
                              const golden::trial_data& trial);
 /// The data stages for one symbol block, after run_block_stages of the same trial: the data
 /// nodes' words become the block's, their counters grow by the block's counts. Run over a
-/// trial's blocks in order (golden::data_stream), the counters are the whole data phase's.
+/// trial's blocks in order (golden::data_stream), the counters are the whole data phase's. With
+/// `only` (per stage of the plan), only the data stages it marks run; the others' words must
+/// already hold the block (an earlier evaluation's, for incremental runs).
 void run_data_stages(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
-                     const golden::trial_data& trial, const golden::data_block& block, fixed_trial& fixed);
+                     const golden::trial_data& trial, const golden::data_block& block, fixed_trial& fixed,
+                     const std::vector<bool>* only = nullptr);
 
 /// The whole datapath with the data phase as one block of all N symbols (golden::whole_data):
 /// every node's words of the trial, for vector files and checks. A data-phase word depends on
@@ -52,7 +55,9 @@ std::vector<node_id> changed_nodes(const datapath_plan& plan, const datapath_con
 /// copied, only the stages downstream of one (datapath_plan::stages_downstream_of) run again.
 /// Bit for bit and counter for counter the same as run_block_stages. When `recomputed` is
 /// given, it is set per node (indexed by index_of) to whether the node's words were computed
-/// again (the data nodes always are: they are left for run_data_stages).
+/// again, or, for a data node, are to be computed again by run_data_stages (the data stages
+/// downstream of a change; their counters are zeroed, the others' kept). The data nodes' words
+/// are left empty.
 fixed_trial rerun_block_stages(const datapath_plan& plan, const golden::scenario& scen, const datapath_config& config,
                                const golden::trial_data& trial, const fixed_trial& earlier,
                                const datapath_config& earlier_config, std::vector<bool>* recomputed = nullptr);
