@@ -11,7 +11,12 @@
 
 // SSSE3 without SSE4 (CPUs before 2008) is not worth its compile time here: the twin covers it.
 #ifndef HWY_DISABLED_TARGETS
+// A build may skip more targets (CMake FXMIMO_SIMD_SKIPPED_TARGETS: the sanitizer builds).
+#ifdef FXMIMO_SIMD_SKIPPED_TARGETS
+#define HWY_DISABLED_TARGETS (HWY_SSSE3 | FXMIMO_SIMD_SKIPPED_TARGETS)
+#else
 #define HWY_DISABLED_TARGETS HWY_SSSE3
+#endif
 #endif
 
 #undef HWY_TARGET_INCLUDE

@@ -1,6 +1,8 @@
 // Converters and ROMs: words brought in from golden values (the ADC after the AGC, the pilot
 // ROM, the estimator scales, the QAM symbols, the perfect-CSI estimate, the transmit gain), and
 // the DAC, a requantiser of the last transmit node.
+#include <type_traits>
+
 #include "../stage_support.hpp"
 #include "stages.hpp"
 
@@ -8,36 +10,31 @@ namespace fxmimo::datapath::detail {
 
 namespace {
 
-/// word = Q(value), each real and imaginary part converted exactly, then requantised once.
+/// word = Q(value), each real and imaginary part converted exactly, then requantised once. The
+/// values come from the golden trial (golden_source) or, in the data phase, from the symbol
+/// block (block_source).
+template <class Source>
 class golden_converter final : public stage {
  public:
-  golden_converter(node_id node, golden_source source)
+  golden_converter(node_id node, Source source)
       : stage(std::string(node_name(node)), {{node, {}}}), source_(std::move(source)) {}
   [[nodiscard]] int work_bits(const datapath_config&) const override { return 64; }
   void compute(fixed_context& ctx) const override {
     node_state n = state(ctx, output(0));
-    quantize_values(source_(ctx.trial), node_is_complex(output(0)), n);
+    quantize_values(values(ctx), node_is_complex(output(0)), n);
   }
-  void golden_view(golden_context& ctx) const override { ctx.set(output(0), source_(ctx.trial)); }
+  void golden_view(golden_context& ctx) const override { ctx.set(output(0), values(ctx)); }
 
  private:
-  golden_source source_;
-};
-
-/// The same for a data-phase node: word = Q(value of the symbol block).
-class block_converter final : public stage {
- public:
-  block_converter(node_id node, block_source source)
-      : stage(std::string(node_name(node)), {{node, {}}}), source_(std::move(source)) {}
-  [[nodiscard]] int work_bits(const datapath_config&) const override { return 64; }
-  void compute(fixed_context& ctx) const override {
-    node_state n = state(ctx, output(0));
-    quantize_values(source_(ctx.data()), node_is_complex(output(0)), n);
+  template <class Context>
+  [[nodiscard]] Eigen::MatrixXcd values(const Context& ctx) const {
+    if constexpr (std::is_same_v<Source, block_source>) {
+      return source_(ctx.data());
+    } else {
+      return source_(ctx.trial);
+    }
   }
-  void golden_view(golden_context& ctx) const override { ctx.set(output(0), source_(ctx.data())); }
-
- private:
-  block_source source_;
+  Source source_;
 };
 
 /// out[i] = Q_out(in[i]) at in's fraction bits; one output register pair per row (a stream).
@@ -74,11 +71,11 @@ class requantizer_stage final : public stage {
 namespace fxmimo::datapath {
 
 std::shared_ptr<stage> make_golden_converter(node_id node, golden_source source) {
-  return std::make_shared<detail::golden_converter>(node, std::move(source));
+  return std::make_shared<detail::golden_converter<golden_source>>(node, std::move(source));
 }
 
 std::shared_ptr<stage> make_block_converter(node_id node, block_source source) {
-  return std::make_shared<detail::block_converter>(node, std::move(source));
+  return std::make_shared<detail::golden_converter<block_source>>(node, std::move(source));
 }
 
 std::shared_ptr<stage> make_requantizer(node_id out, node_id in) {
