@@ -189,8 +189,9 @@ trial_summary summarise_trial(const datapath::datapath_plan& plan, const golden:
     }
     ++i_block;
   };
-  if (!link_again && keep_words == nullptr) {
-    // Nothing in the data phase changed and no words are to be kept: no block to go through.
+  if (std::none_of(run_stage.begin(), run_stage.end(), [](bool run) { return run; })) {
+    // No data stage runs (only with earlier words): every data word is the earlier evaluation's.
+    if (keep_words != nullptr) *keep_words = earlier->data_words;
   } else if (!g.blocks.empty()) {  // kept by the cache
     for (std::size_t b = 0; b < g.blocks.size(); ++b) consume(g.blocks[b], g.block_values[b]);
   } else {
