@@ -1,8 +1,8 @@
 // Complex multiply-accumulate over 10^6 elements: Q0.15 x Q0.15 operands, 40-bit accumulator
 // (Q9.30), half_even rounding and saturation at every step (acc <- Q(acc + Q(a*b))).
 // Our core against SystemC sc_fixed and sc_fixed_fast doing the same work, and plain double.
-// The same MACs also as a bank of 128 outputs of 256 terms each (x_j = sum_i a_ij b_i, the shape
-// of a precoder or correlator bank; its 512 KiB of operands stay in the L2 cache, as a precoder's
+// The same MACs also as a bank of 128 outputs of 128 terms each (x_j = sum_i a_ij b_i, the shape
+// of a precoder or correlator bank; its 256 KiB of operands stay in a 512 KiB L2 cache, as a precoder's
 // weights do) through fixedpoint::dot_accumulate_many: its vector form (SIMD lanes are outputs,
 // runtime-dispatched) and its scalar twin; compare items per second. Read the ratios of the
 // reported times (or items per second) within one run.
@@ -60,9 +60,9 @@ void mac_fxmimo(benchmark::State& state) {
   state.SetItemsProcessed(state.iterations() * num_elements);
 }
 
-/// The first operand pairs as 256 terms x 128 outputs: a_ij = a[i * 128 + j] (a column over the
+/// The first operand pairs as 128 terms x 128 outputs: a_ij = a[i * 128 + j] (a column over the
 /// outputs), b_i = b[i * 128] (shared by every output).
-constexpr std::size_t bank_outputs = 128, bank_terms = 256;
+constexpr std::size_t bank_outputs = 128, bank_terms = 128;
 
 template <bool Vector>
 void mac_bank(benchmark::State& state) {

@@ -4,7 +4,15 @@
 // every rounding and overflow step. The arithmetic is dot_kernel.hpp's fast form, lane by lane:
 //   term  = round(p >> shift) by the facts of the dropped bits (round_up_by_facts), then overflow
 //   acc   = overflow(acc + term)
-// with overflow by compare and select (AVX2 has no 64-bit min/max). Counters are kept per lane
+// with overflow by compare and select (AVX2 has no 64-bit min/max). Three shortcuts change no
+// bit: exact terms (no fraction bit dropped) skip the rounding; terms whose bound
+// 2^(a + b - 1 - shift) lies inside the accumulator's range skip their overflow step (it cannot
+// fire); and one operand shared by every output is signed per lane once per term
+// (shared_signs), so that a product is two multiplies and an add. With such a shared operand and
+// terms that cannot overflow, the accumulators are tested once per group of G terms against a
+// safe zone [lo + G B, hi - G B] (B the term bound): inside it no add of the group can overflow,
+// so the group runs without its overflow steps; outside it, the group runs step by step. The range test is one add and
+// one compare: lo <= v <= hi exactly when (v - lo) as an unsigned word is <= hi - lo. Counters are kept per lane
 // and reduced once: the largest excess is found from the largest and smallest values that
 // overflowed (the conversion to double is monotone, so the largest excess is the excess of
 // those two), exactly as requantizer::overflow computes it.
@@ -30,6 +38,7 @@
 #include <stdexcept>
 #include <string>
 #include <string_view>
+#include <type_traits>
 #include <vector>
 
 #include "fxmimo/fixedpoint/mac_lanes.hpp"
@@ -53,12 +62,21 @@ struct lane_limits {
   V bias;          // 2^62: x + bias >= 0 for every product, so a logical shift floors
   V bias_shifted;  // 2^62 >> shift
   V lo, hi;
-  V lo_trigger;  // values below it overflow: lo, or lo + 1 for signed saturate_symmetric
-  V low_sat;     // what saturation puts below: lo, or -hi for signed saturate_symmetric
+  V lo_trigger;    // values below it overflow: lo, or lo + 1 for signed saturate_symmetric
+  V low_sat;       // what saturation puts below: lo, or -hi for signed saturate_symmetric
+  V range_offset;  // 2^63 - lo_trigger (wrapping): v + range_offset <= range_top in range
+  V range_top;     // hi - lo_trigger + 2^63 (wrapping), as a signed word
   int shift;
   int wrap_shift;  // 64 - W
   bool is_signed;
+  bool check_terms;         // false when no term can leave the accumulator's range
+  bool group_terms;         // no term check, and a nonempty safe zone (run_shared_block)
+  V safe_offset, safe_top;  // the range test of the safe zone [lo_trigger + G B, hi - G B]
 };
+
+/// Terms per group of run_shared_block's grouped overflow test: G = 2^group_bits.
+constexpr int group_bits = 3;
+constexpr std::size_t terms_per_group = std::size_t{1} << group_bits;
 
 /// Per-lane counts, reduced once at the end.
 struct lane_tally {
@@ -92,9 +110,10 @@ HWY_INLINE M round_up_lanes(D d, V x, V fl, V rest, M nonzero, const lane_limits
   }
 }
 
-/// round(x / 2^shift) by mode R; counts inexact results.
-template <rounding_mode R>
+/// round(x / 2^shift) by mode R; counts inexact results. Exact: shift is 0, x is the result.
+template <rounding_mode R, bool Exact>
 HWY_INLINE V round_lanes(D d, V x, const lane_limits& lim, lane_tally& t) {
+  if constexpr (Exact) return x;
   const hn::RebindToUnsigned<D> du;
   const V rest = hn::And(x, lim.mask);
   // floor(x / 2^shift): |x| <= 2^61 whenever the vector form applies, so x + 2^62 is
@@ -114,10 +133,10 @@ HWY_INLINE V round_lanes(D d, V x, const lane_limits& lim, lane_tally& t) {
 /// requantizer::overflow lane by lane.
 template <overflow_mode O>
 HWY_INLINE V overflow_lanes(D d, V v, const lane_limits& lim, lane_tally& t) {
+  if (HWY_LIKELY(hn::AllFalse(d, hn::Add(v, lim.range_offset) > lim.range_top))) return v;
   const M above = v > lim.hi;
   const M below = v < lim.lo_trigger;
   const M out = hn::Or(above, below);
-  if (HWY_LIKELY(hn::AllFalse(d, out))) return v;
   t.overflowed = hn::Sub(t.overflowed, hn::VecFromMask(d, out));
   t.max_seen = hn::IfThenElse(v > t.max_seen, v, t.max_seen);
   t.min_seen = hn::IfThenElse(v < t.min_seen, v, t.min_seen);
@@ -151,8 +170,17 @@ HWY_INLINE V form_product_lanes(V a, V a_swapped, V b_re, V b_im) {
   return hn::OddEven(hn::Neg(sum), diff);                                          // conj of plain
 }
 
+/// One term's accumulate step for one vector of outputs: round, overflow the term where it can
+/// leave the range, add, overflow.
+template <rounding_mode R, bool Exact, overflow_mode O>
+HWY_INLINE V accumulate_lanes(D d, V acc, V p, const lane_limits& lim, lane_tally& t) {
+  V term = round_lanes<R, Exact>(d, p, lim, t);
+  if (lim.check_terms) term = overflow_lanes<O>(d, term, lim, t);
+  return overflow_lanes<O>(d, hn::Add(acc, term), lim, t);
+}
+
 /// Outputs [j, j + U * outputs per vector): all terms, in order, through U independent vectors.
-template <rounding_mode R, overflow_mode O, product_form Form, std::size_t U>
+template <rounding_mode R, bool Exact, overflow_mode O, product_form Form, std::size_t U>
 HWY_INLINE void run_block(D d, const lane_operand& a, const lane_operand& b, std::size_t num_terms, std::size_t j,
                           const lane_limits& lim, lane_tally& t, cword<std::int64_t>* out) {
   const std::size_t words = hn::Lanes(d);  // two words per output
@@ -179,19 +207,90 @@ HWY_INLINE void run_block(D d, const lane_operand& a, const lane_operand& b, std
         bre = hn::OddEven(bv_swapped, bv);
         bim = hn::OddEven(bv, bv_swapped);
       }
-      const V p = form_product_lanes<Form>(av, av_swapped, bre, bim);
-      const V term = overflow_lanes<O>(d, round_lanes<R>(d, p, lim, t), lim, t);
-      acc[u] = overflow_lanes<O>(d, hn::Add(acc[u], term), lim, t);
+      acc[u] = accumulate_lanes<R, Exact, O>(d, acc[u], form_product_lanes<Form>(av, av_swapped, bre, bim), lim, t);
     }
   }
   auto* dst = reinterpret_cast<std::int64_t*>(out + j);
   for (std::size_t u = 0; u < U; ++u) hn::StoreU(acc[u], d, dst + u * words);
 }
 
+/// The shared operand y of every term, signed per lane of an output's (re, im) pair so that the
+/// product form of column word x and y is, exactly,
+///   p = (x_re Yr[0] + x_im Yi[0],  x_im Yr[1] + x_re Yi[1])
+/// i.e. MulEven(x, Yr) + MulEven(swap(x), Yi). Term i's four words are at [4i, 4i + 4): Yr, Yi.
+/// With the column operand first (x = a, y = b):
+///   plain (br, br), (-bi, bi); conj_second (br, br), (bi, -bi); conj_both (br, -br), (-bi, -bi)
+/// and with the column operand second (x = b, y = a):
+///   plain (ar, ar), (-ai, ai); conj_second (ar, -ar), (ai, ai); conj_both (ar, -ar), (-ai, -ai).
+/// A negated word must fit 32 bits: the shared operand has at most 31 bits.
+void shared_signs(product_form form, const lane_operand& y, bool column_first, std::size_t num_terms,
+                  std::vector<std::int64_t>& signed_words) {
+  signed_words.resize(4 * num_terms);
+  std::int64_t* w = signed_words.data();
+  for (std::size_t i = 0; i < num_terms; ++i, w += 4) {
+    const cword<std::int64_t>& yw = y.data[i * y.term_stride];
+    const std::int64_t re = yw.re, im = yw.im;
+    if (form == product_form::plain) {
+      w[0] = re, w[1] = re, w[2] = -im, w[3] = im;
+    } else if (form == product_form::conj_both) {
+      w[0] = re, w[1] = -re, w[2] = -im, w[3] = -im;
+    } else if (column_first) {  // conj_second, a * conj(b)
+      w[0] = re, w[1] = re, w[2] = im, w[3] = -im;
+    } else {
+      w[0] = re, w[1] = -re, w[2] = im, w[3] = im;
+    }
+  }
+}
+
+/// run_block for a column operand x and a shared operand y already signed by shared_signs.
+template <rounding_mode R, bool Exact, overflow_mode O, std::size_t U>
+HWY_INLINE void run_shared_block(D d, const lane_operand& x, const std::int64_t* signed_words, std::size_t num_terms,
+                                 std::size_t j, const lane_limits& lim, lane_tally& t, cword<std::int64_t>* out) {
+  const hn::Repartition<std::int32_t, D> d32;
+  const std::size_t words = hn::Lanes(d);
+  V acc[U];
+  for (std::size_t u = 0; u < U; ++u) acc[u] = hn::Zero(d);
+  auto product = [&](std::size_t i, std::size_t u) {
+    const auto* px = reinterpret_cast<const std::int64_t*>(x.data + i * x.term_stride + j) + u * words;
+    // Words fit 32 bits, so the low halves of the 64-bit lanes are the words (as in
+    // form_product_lanes).
+    const auto yr = hn::BitCast(d32, hn::LoadDup128(d, signed_words + 4 * i));
+    const auto yi = hn::BitCast(d32, hn::LoadDup128(d, signed_words + 4 * i + 2));
+    const V xv = hn::LoadU(d, px);
+    return hn::Add(hn::MulEven(hn::BitCast(d32, xv), yr), hn::MulEven(hn::BitCast(d32, hn::Reverse2(d, xv)), yi));
+  };
+  std::size_t i = 0;
+  if (lim.group_terms) {
+    // Accumulators inside the safe zone cannot leave the range within terms_per_group terms:
+    // the group's overflow steps are the identity and are skipped.
+    for (; i + terms_per_group <= num_terms; i += terms_per_group) {
+      M outside = hn::Add(acc[0], lim.safe_offset) > lim.safe_top;
+      for (std::size_t u = 1; u < U; ++u) outside = hn::Or(outside, hn::Add(acc[u], lim.safe_offset) > lim.safe_top);
+      if (HWY_LIKELY(hn::AllFalse(d, outside))) {
+        for (std::size_t g = 0; g < terms_per_group; ++g) {
+          for (std::size_t u = 0; u < U; ++u)
+            acc[u] = hn::Add(acc[u], round_lanes<R, Exact>(d, product(i + g, u), lim, t));
+        }
+      } else {
+        for (std::size_t g = 0; g < terms_per_group; ++g) {
+          for (std::size_t u = 0; u < U; ++u)
+            acc[u] = accumulate_lanes<R, Exact, O>(d, acc[u], product(i + g, u), lim, t);
+        }
+      }
+    }
+  }
+  for (; i < num_terms; ++i) {
+    for (std::size_t u = 0; u < U; ++u) acc[u] = accumulate_lanes<R, Exact, O>(d, acc[u], product(i, u), lim, t);
+  }
+  auto* dst = reinterpret_cast<std::int64_t*>(out + j);
+  for (std::size_t u = 0; u < U; ++u) hn::StoreU(acc[u], d, dst + u * words);
+}
+
 /// Every whole vector of outputs; returns how many outputs it computed.
-template <rounding_mode R, overflow_mode O, product_form Form>
-std::size_t run_modes(const lane_operand& a, const lane_operand& b, std::size_t num_terms, std::size_t num_outputs,
-                      const requantizer<std::int64_t>& q, cword<std::int64_t>* out, counters& c) {
+template <rounding_mode R, bool Exact, overflow_mode O>
+std::size_t run_modes(product_form form, const lane_operand& a, const lane_operand& b, std::size_t num_terms,
+                      std::size_t num_outputs, const requantizer<std::int64_t>& q, cword<std::int64_t>* out,
+                      counters& c) {
   const D d;
   const std::size_t per_vector = hn::Lanes(d) / 2;
   const std::size_t done = num_outputs / per_vector * per_vector;
@@ -200,23 +299,64 @@ std::size_t run_modes(const lane_operand& a, const lane_operand& b, std::size_t 
   const std::int64_t lo = q.min_word(), hi = q.max_word();
   const bool is_signed = q.fmt().is_signed;
   const bool symmetric = O == overflow_mode::saturate_symmetric && is_signed;
+  const std::int64_t lo_trigger = symmetric ? lo + 1 : lo;
+  // |p| <= 2^(a + b - 1) for words of a and b container bits; rounding by 2^shift keeps the
+  // bound a power of two (or 1 once every bit is dropped).
+  const int bound_bits = std::max(a.bits + b.bits - 1 - shift, 0);
+  const std::int64_t term_bound = std::int64_t{1} << bound_bits;
+  const bool check_terms = term_bound > hi || -term_bound < lo_trigger;
+  // The safe zone: an accumulator inside it stays in range for terms_per_group more terms.
+  const bool small_terms = bound_bits + group_bits <= 60;  // G B fits with room to spare
+  const std::int64_t group_bound = small_terms ? term_bound * std::int64_t{terms_per_group} : 0;
+  const bool group_terms = !check_terms && small_terms && lo_trigger + group_bound <= hi - group_bound;
+  const std::int64_t safe_lo = lo_trigger + group_bound, safe_hi = hi - group_bound;
   const auto bias = std::int64_t{1} << 62;
+  const std::uint64_t sign_bit = std::uint64_t{1} << 63;
+  const auto unsigned_lo = static_cast<std::uint64_t>(lo_trigger);
   const lane_limits lim{hn::Set(d, static_cast<std::int64_t>((std::uint64_t{1} << shift) - 1)),
                         hn::Set(d, shift > 0 ? std::int64_t{1} << (shift - 1) : 0),
                         hn::Set(d, bias),
                         hn::Set(d, bias >> shift),
                         hn::Set(d, lo),
                         hn::Set(d, hi),
-                        hn::Set(d, symmetric ? lo + 1 : lo),
+                        hn::Set(d, lo_trigger),
                         hn::Set(d, symmetric ? -hi : lo),
+                        hn::Set(d, static_cast<std::int64_t>(sign_bit - unsigned_lo)),
+                        hn::Set(d, static_cast<std::int64_t>(static_cast<std::uint64_t>(hi) - unsigned_lo + sign_bit)),
                         shift,
                         64 - q.fmt().word_bits,
-                        is_signed};
+                        is_signed,
+                        check_terms,
+                        group_terms,
+                        hn::Set(d, static_cast<std::int64_t>(sign_bit - static_cast<std::uint64_t>(safe_lo))),
+                        hn::Set(d, static_cast<std::int64_t>(static_cast<std::uint64_t>(safe_hi) -
+                                                             static_cast<std::uint64_t>(safe_lo) + sign_bit))};
   lane_tally t{hn::Zero(d), hn::Zero(d), lim.hi, lim.lo_trigger};
   std::size_t j = 0;
-  const std::size_t per_block = 2 * per_vector;  // two independent vectors hide the add's latency
-  for (; j + per_block <= done; j += per_block) run_block<R, O, Form, 2>(d, a, b, num_terms, j, lim, t, out);
-  for (; j < done; j += per_vector) run_block<R, O, Form, 1>(d, a, b, num_terms, j, lim, t, out);
+  const bool a_column = a.spread == lane_spread::column, b_column = b.spread == lane_spread::column;
+  const lane_operand& shared = a_column ? b : a;
+  if (a_column != b_column && shared.bits <= 31) {
+    thread_local std::vector<std::int64_t> signed_words;
+    shared_signs(form, shared, a_column, num_terms, signed_words);
+    const lane_operand& x = a_column ? a : b;
+    const std::size_t per_block = 4 * per_vector;  // four independent vectors hide the latencies
+    for (; j + per_block <= done; j += per_block)
+      run_shared_block<R, Exact, O, 4>(d, x, signed_words.data(), num_terms, j, lim, t, out);
+    for (; j < done; j += per_vector)
+      run_shared_block<R, Exact, O, 1>(d, x, signed_words.data(), num_terms, j, lim, t, out);
+  } else {
+    auto run_all = [&](auto form_tag) {
+      constexpr product_form Form = decltype(form_tag)::value;
+      const std::size_t per_block = 2 * per_vector;  // two independent vectors hide the add's latency
+      for (; j + per_block <= done; j += per_block) run_block<R, Exact, O, Form, 2>(d, a, b, num_terms, j, lim, t, out);
+      for (; j < done; j += per_vector) run_block<R, Exact, O, Form, 1>(d, a, b, num_terms, j, lim, t, out);
+    };
+    switch (form) {
+      case product_form::plain: run_all(std::integral_constant<product_form, product_form::plain>{}); break;
+      case product_form::conj_second: run_all(std::integral_constant<product_form, product_form::conj_second>{}); break;
+      case product_form::conj_both: run_all(std::integral_constant<product_form, product_form::conj_both>{}); break;
+    }
+  }
 
   std::vector<std::int64_t> lanes(hn::Lanes(d));
   auto reduce = [&](V v, auto combine) {
@@ -235,7 +375,6 @@ std::size_t run_modes(const lane_operand& a, const lane_operand& b, std::size_t 
   // The excess as requantizer::overflow computes it: q - hi above, lo - q (in doubles) below,
   // at least 1 for the most negative word under saturate_symmetric.
   if (max_seen > hi) local.max_excess_lsb = static_cast<double>(max_seen - hi);
-  const std::int64_t lo_trigger = symmetric ? lo + 1 : lo;
   if (min_seen < lo_trigger) {
     // The twin of exact terms (shift 0) is dot_accumulate's 128-bit accumulator; its conversion
     // to double (integer.hpp, to_double_approx) equals the 64-bit one on these values.
@@ -247,32 +386,19 @@ std::size_t run_modes(const lane_operand& a, const lane_operand& b, std::size_t 
   return done;
 }
 
-template <rounding_mode R, overflow_mode O>
-std::size_t run_form(product_form form, const lane_operand& a, const lane_operand& b, std::size_t num_terms,
-                     std::size_t num_outputs, const requantizer<std::int64_t>& q, cword<std::int64_t>* out,
-                     counters& c) {
-  switch (form) {
-    case product_form::plain: return run_modes<R, O, product_form::plain>(a, b, num_terms, num_outputs, q, out, c);
-    case product_form::conj_second:
-      return run_modes<R, O, product_form::conj_second>(a, b, num_terms, num_outputs, q, out, c);
-    case product_form::conj_both:
-      return run_modes<R, O, product_form::conj_both>(a, b, num_terms, num_outputs, q, out, c);
-  }
-  return 0;
-}
-
-template <rounding_mode R>
+template <rounding_mode R, bool Exact>
 std::size_t run_overflow(product_form form, const lane_operand& a, const lane_operand& b, std::size_t num_terms,
                          std::size_t num_outputs, const requantizer<std::int64_t>& q, cword<std::int64_t>* out,
                          counters& c) {
   switch (q.spec().overflow) {
-    case overflow_mode::wrap: return run_form<R, overflow_mode::wrap>(form, a, b, num_terms, num_outputs, q, out, c);
+    case overflow_mode::wrap:
+      return run_modes<R, Exact, overflow_mode::wrap>(form, a, b, num_terms, num_outputs, q, out, c);
     case overflow_mode::saturate:
-      return run_form<R, overflow_mode::saturate>(form, a, b, num_terms, num_outputs, q, out, c);
+      return run_modes<R, Exact, overflow_mode::saturate>(form, a, b, num_terms, num_outputs, q, out, c);
     case overflow_mode::saturate_symmetric:
-      return run_form<R, overflow_mode::saturate_symmetric>(form, a, b, num_terms, num_outputs, q, out, c);
+      return run_modes<R, Exact, overflow_mode::saturate_symmetric>(form, a, b, num_terms, num_outputs, q, out, c);
     case overflow_mode::saturate_zero:
-      return run_form<R, overflow_mode::saturate_zero>(form, a, b, num_terms, num_outputs, q, out, c);
+      return run_modes<R, Exact, overflow_mode::saturate_zero>(form, a, b, num_terms, num_outputs, q, out, c);
   }
   return 0;
 }
@@ -289,18 +415,18 @@ std::size_t many_vector_kernel(product_form form, const lane_operand& a, const l
   return 0;
 #else
 #define FXMIMO_MANY_ARGS form, a, b, num_terms, num_outputs, q, out, c
-  // With no fraction bits dropped every term is exact and no mode changes it: the floor
-  // instantiation (whose shift by 0 is the identity and whose rest is 0) serves them all.
-  const bool exact = a.frac + b.frac == q.fmt().frac_bits;
-  switch (exact ? rounding_mode::floor : q.spec().rounding) {
-    case rounding_mode::floor: return run_overflow<rounding_mode::floor>(FXMIMO_MANY_ARGS);
-    case rounding_mode::ceil: return run_overflow<rounding_mode::ceil>(FXMIMO_MANY_ARGS);
-    case rounding_mode::toward_zero: return run_overflow<rounding_mode::toward_zero>(FXMIMO_MANY_ARGS);
-    case rounding_mode::half_up: return run_overflow<rounding_mode::half_up>(FXMIMO_MANY_ARGS);
-    case rounding_mode::half_down: return run_overflow<rounding_mode::half_down>(FXMIMO_MANY_ARGS);
-    case rounding_mode::half_toward_zero: return run_overflow<rounding_mode::half_toward_zero>(FXMIMO_MANY_ARGS);
-    case rounding_mode::half_away: return run_overflow<rounding_mode::half_away>(FXMIMO_MANY_ARGS);
-    case rounding_mode::half_even: return run_overflow<rounding_mode::half_even>(FXMIMO_MANY_ARGS);
+  // With no fraction bits dropped every term is exact and no rounding mode changes it: one
+  // instantiation without the rounding step serves them all.
+  if (a.frac + b.frac == q.fmt().frac_bits) return run_overflow<rounding_mode::floor, true>(FXMIMO_MANY_ARGS);
+  switch (q.spec().rounding) {
+    case rounding_mode::floor: return run_overflow<rounding_mode::floor, false>(FXMIMO_MANY_ARGS);
+    case rounding_mode::ceil: return run_overflow<rounding_mode::ceil, false>(FXMIMO_MANY_ARGS);
+    case rounding_mode::toward_zero: return run_overflow<rounding_mode::toward_zero, false>(FXMIMO_MANY_ARGS);
+    case rounding_mode::half_up: return run_overflow<rounding_mode::half_up, false>(FXMIMO_MANY_ARGS);
+    case rounding_mode::half_down: return run_overflow<rounding_mode::half_down, false>(FXMIMO_MANY_ARGS);
+    case rounding_mode::half_toward_zero: return run_overflow<rounding_mode::half_toward_zero, false>(FXMIMO_MANY_ARGS);
+    case rounding_mode::half_away: return run_overflow<rounding_mode::half_away, false>(FXMIMO_MANY_ARGS);
+    case rounding_mode::half_even: return run_overflow<rounding_mode::half_even, false>(FXMIMO_MANY_ARGS);
   }
 #undef FXMIMO_MANY_ARGS
   return 0;

@@ -132,6 +132,11 @@ const many_case cases[] = {
     {"column_times_column", 16, 15, column, 16, 15, column, {true, 22, 26}, 105},
     // 32 x 30-bit words: products of 61 bits, the widest the vector form takes; shift 20.
     {"wide_words_32_by_30", 32, 31, column, 30, 29, shared, {true, 48, 40}, 106},
+    // A 32-bit shared operand (its negation needs 33 bits): the path without per-lane signs.
+    {"shared_32_bit_words", 30, 29, column, 32, 31, shared, {true, 48, 40}, 112},
+    // Exact terms into a wide accumulator that still saturates after many terms: the grouped
+    // overflow test (safe zone of 4 terms) enters and leaves its step-by-step fallback.
+    {"exact_terms_grouped_overflow_test", 16, 15, column, 16, 15, shared, {true, 36, 30}, 113},
     // Unsigned accumulator: the range starts at 0, wrap keeps W bits unsigned.
     {"unsigned_accumulator", 16, 15, column, 16, 15, shared, {false, 20, 26}, 107},
     // The largest shift (62): almost every term rounds to 0 or -1 by the sign and the mode.
