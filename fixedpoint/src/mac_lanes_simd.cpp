@@ -57,10 +57,11 @@ static_assert(sizeof(cword<std::int64_t>) == 2 * sizeof(std::int64_t), "cword<in
 
 /// The accumulator target, splatted.
 struct lane_limits {
-  V mask;          // 2^shift - 1: the dropped bits
-  V half;          // 2^(shift-1)
-  V bias;          // 2^62: x + bias >= 0 for every product, so a logical shift floors
-  V bias_shifted;  // 2^62 >> shift
+  V mask;           // 2^shift - 1: the dropped bits
+  V half;           // 2^(shift-1)
+  V half_less_one;  // 2^(shift-1) - 1
+  V bias;           // 2^62: x + bias >= 0 for every product, so a logical shift floors
+  V bias_shifted;   // 2^62 >> shift
   V lo, hi;
   V lo_trigger;    // values below it overflow: lo, or lo + 1 for signed saturate_symmetric
   V low_sat;       // what saturation puts below: lo, or -hi for signed saturate_symmetric
@@ -86,27 +87,32 @@ struct lane_tally {
   V min_seen;  // smallest value that overflowed below (lo_trigger when none)
 };
 
-/// The lanes that round_up_by_facts rounds up, from the facts of the dropped part as masks:
-/// nonzero, above half, exactly half, sign of the exact value, parity of the floor.
+/// The bias that makes round(x / 2^shift) by mode R equal floor((x + bias) / 2^shift): with
+/// x = q 2^shift + r, 0 <= r < 2^shift, half = 2^(shift-1), floor adds 0, ceil 2^shift - 1,
+/// half_up half, half_down half - 1, half_even half - 1 + (q mod 2) (bit `shift` of x),
+/// half_away half - [x < 0], half_toward_zero half - 1 + [x < 0], toward_zero
+/// (2^shift - 1) [x < 0]. The same decisions as round_up_by_facts (rounding.hpp).
 template <rounding_mode R>
-HWY_INLINE M round_up_lanes(D d, V x, V fl, V rest, M nonzero, const lane_limits& lim) {
+HWY_INLINE V rounding_bias(D d, V x, const lane_limits& lim) {
+  static_assert(R != rounding_mode::floor);
   const V zero = hn::Zero(d);
   if constexpr (R == rounding_mode::ceil) {
-    return nonzero;
+    return lim.mask;
   } else if constexpr (R == rounding_mode::toward_zero) {
-    return hn::And(x < zero, nonzero);
+    return hn::And(hn::VecFromMask(d, x < zero), lim.mask);
   } else if constexpr (R == rounding_mode::half_up) {
-    return hn::Or(rest > lim.half, rest == lim.half);
+    return lim.half;
   } else if constexpr (R == rounding_mode::half_down) {
-    return rest > lim.half;
+    return lim.half_less_one;
   } else if constexpr (R == rounding_mode::half_toward_zero) {
-    return hn::Or(rest > lim.half, hn::And(rest == lim.half, x < zero));
+    return hn::Sub(lim.half_less_one, hn::VecFromMask(d, x < zero));  // all ones = -1
   } else if constexpr (R == rounding_mode::half_away) {
-    return hn::Or(rest > lim.half, hn::AndNot(x < zero, rest == lim.half));
+    return hn::Add(lim.half, hn::VecFromMask(d, x < zero));
   } else {
     static_assert(R == rounding_mode::half_even);
-    const M odd = hn::And(fl, hn::Set(d, 1)) != zero;
-    return hn::Or(rest > lim.half, hn::And(rest == lim.half, odd));
+    const hn::RebindToUnsigned<D> du;
+    const V parity = hn::And(hn::BitCast(d, hn::ShiftRightSame(hn::BitCast(du, x), lim.shift)), hn::Set(d, 1));
+    return hn::Add(lim.half_less_one, parity);
   }
 }
 
@@ -115,19 +121,13 @@ template <rounding_mode R, bool Exact>
 HWY_INLINE V round_lanes(D d, V x, const lane_limits& lim, lane_tally& t) {
   if constexpr (Exact) return x;
   const hn::RebindToUnsigned<D> du;
-  const V rest = hn::And(x, lim.mask);
-  // floor(x / 2^shift): |x| <= 2^61 whenever the vector form applies, so x + 2^62 is
-  // non-negative and a logical shift of it (cheaper than an arithmetic one on AVX2) is exact.
-  const V fl =
-      hn::Sub(hn::BitCast(d, hn::ShiftRightSame(hn::Add(hn::BitCast(du, x), hn::BitCast(du, lim.bias)), lim.shift)),
-              lim.bias_shifted);
-  const M nonzero = rest != hn::Zero(d);
-  t.inexact = hn::Sub(t.inexact, hn::VecFromMask(d, nonzero));
-  if constexpr (R == rounding_mode::floor) {
-    return fl;
-  } else {
-    return hn::Sub(fl, hn::VecFromMask(d, round_up_lanes<R>(d, x, fl, rest, nonzero, lim)));  // all ones = -1
-  }
+  t.inexact = hn::Sub(t.inexact, hn::VecFromMask(d, hn::And(x, lim.mask) != hn::Zero(d)));
+  // floor((x + bias) / 2^shift): |x| <= 2^61 whenever the vector form applies and
+  // 0 <= bias < 2^shift <= 2^62, so x + bias + 2^62 is non-negative below 2^64 and a logical
+  // shift of it (cheaper than an arithmetic one on AVX2) is exact.
+  V biased = hn::Add(x, lim.bias);
+  if constexpr (R != rounding_mode::floor) biased = hn::Add(biased, rounding_bias<R>(d, x, lim));
+  return hn::Sub(hn::BitCast(d, hn::ShiftRightSame(hn::BitCast(du, biased), lim.shift)), lim.bias_shifted);
 }
 
 /// requantizer::overflow lane by lane.
@@ -286,6 +286,85 @@ HWY_INLINE void run_shared_block(D d, const lane_operand& x, const std::int64_t*
   for (std::size_t u = 0; u < U; ++u) hn::StoreU(acc[u], d, dst + u * words);
 }
 
+/// The target's limits splatted, for words that drop `shift` fraction bits; term_bound_bits
+/// bounds |term| <= 2^term_bound_bits (the MAC kernel's check_terms and safe zone; a
+/// requantisation passes 63, which asks for neither).
+lane_limits make_limits(D d, int shift, const requantizer<std::int64_t>& q, int term_bound_bits) {
+  const std::int64_t lo = q.min_word(), hi = q.max_word();
+  const bool is_signed = q.fmt().is_signed;
+  const bool symmetric = q.spec().overflow == overflow_mode::saturate_symmetric && is_signed;
+  const std::int64_t lo_trigger = symmetric ? lo + 1 : lo;
+  const bool check_terms = term_bound_bits >= 62 || (std::int64_t{1} << term_bound_bits) > hi ||
+                           -(std::int64_t{1} << term_bound_bits) < lo_trigger;
+  // The safe zone: an accumulator inside it stays in range for terms_per_group more terms.
+  const bool small_terms = term_bound_bits + group_bits <= 60;  // G B fits with room to spare
+  const std::int64_t group_bound = small_terms ? std::int64_t{1} << (term_bound_bits + group_bits) : 0;
+  const bool group_terms = !check_terms && small_terms && lo_trigger + group_bound <= hi - group_bound;
+  const std::int64_t safe_lo = lo_trigger + group_bound, safe_hi = hi - group_bound;
+  const auto bias = std::int64_t{1} << 62;
+  const std::uint64_t sign_bit = std::uint64_t{1} << 63;
+  // v + offset(low) <= top(low, high) as signed words exactly when low <= v <= high.
+  auto offset = [&](std::int64_t low) {
+    return hn::Set(d, static_cast<std::int64_t>(sign_bit - static_cast<std::uint64_t>(low)));
+  };
+  auto top = [&](std::int64_t low, std::int64_t high) {
+    return hn::Set(
+        d, static_cast<std::int64_t>(static_cast<std::uint64_t>(high) - static_cast<std::uint64_t>(low) + sign_bit));
+  };
+  const std::int64_t half = shift > 0 ? std::int64_t{1} << (shift - 1) : 0;
+  return {hn::Set(d, static_cast<std::int64_t>((std::uint64_t{1} << shift) - 1)),
+          hn::Set(d, half),
+          hn::Set(d, half - 1),
+          hn::Set(d, bias),
+          hn::Set(d, bias >> shift),
+          hn::Set(d, lo),
+          hn::Set(d, hi),
+          hn::Set(d, lo_trigger),
+          hn::Set(d, symmetric ? -hi : lo),
+          offset(lo_trigger),
+          top(lo_trigger, hi),
+          shift,
+          64 - q.fmt().word_bits,
+          is_signed,
+          check_terms,
+          group_terms,
+          offset(safe_lo),
+          top(safe_lo, safe_hi)};
+}
+
+/// The lanes' counts added to c as `requantized` requantisations of the scalar definition would
+/// add them.
+void merge_tally(D d, const lane_tally& t, const requantizer<std::int64_t>& q, std::uint64_t requantized, counters& c) {
+  std::vector<std::int64_t> lanes(hn::Lanes(d));
+  auto reduce = [&](V v, auto combine) {
+    hn::StoreU(v, d, lanes.data());
+    std::int64_t r = lanes[0];
+    for (std::size_t k = 1; k < lanes.size(); ++k) r = combine(r, lanes[k]);
+    return r;
+  };
+  auto add = [](std::int64_t x, std::int64_t y) { return x + y; };
+  const std::int64_t lo = q.min_word(), hi = q.max_word();
+  const bool symmetric = q.spec().overflow == overflow_mode::saturate_symmetric && q.fmt().is_signed;
+  counters local;
+  local.requantized = requantized;
+  local.overflowed = static_cast<std::uint64_t>(reduce(t.overflowed, add));
+  local.inexact = static_cast<std::uint64_t>(reduce(t.inexact, add));
+  const std::int64_t max_seen = reduce(t.max_seen, [](std::int64_t x, std::int64_t y) { return std::max(x, y); });
+  const std::int64_t min_seen = reduce(t.min_seen, [](std::int64_t x, std::int64_t y) { return std::min(x, y); });
+  // The excess as requantizer::overflow computes it: q - hi above, lo - q (in doubles) below,
+  // at least 1 for the most negative word under saturate_symmetric.
+  if (max_seen > hi) local.max_excess_lsb = static_cast<double>(max_seen - hi);
+  const std::int64_t lo_trigger = symmetric ? lo + 1 : lo;
+  if (min_seen < lo_trigger) {
+    // The twin of exact terms (shift 0) is dot_accumulate's 128-bit accumulator; its conversion
+    // to double (integer.hpp, to_double_approx) equals the 64-bit one on these values.
+    double excess = static_cast<double>(lo) - static_cast<double>(min_seen);
+    if (symmetric) excess = std::max(excess, 1.0);
+    local.max_excess_lsb = std::max(local.max_excess_lsb, excess);
+  }
+  c.merge(local);
+}
+
 /// Every whole vector of outputs; returns how many outputs it computed.
 template <rounding_mode R, bool Exact, overflow_mode O>
 std::size_t run_modes(product_form form, const lane_operand& a, const lane_operand& b, std::size_t num_terms,
@@ -295,42 +374,10 @@ std::size_t run_modes(product_form form, const lane_operand& a, const lane_opera
   const std::size_t per_vector = hn::Lanes(d) / 2;
   const std::size_t done = num_outputs / per_vector * per_vector;
   if (done == 0) return 0;
-  const int shift = a.frac + b.frac - q.fmt().frac_bits;
-  const std::int64_t lo = q.min_word(), hi = q.max_word();
-  const bool is_signed = q.fmt().is_signed;
-  const bool symmetric = O == overflow_mode::saturate_symmetric && is_signed;
-  const std::int64_t lo_trigger = symmetric ? lo + 1 : lo;
   // |p| <= 2^(a + b - 1) for words of a and b container bits; rounding by 2^shift keeps the
   // bound a power of two (or 1 once every bit is dropped).
-  const int bound_bits = std::max(a.bits + b.bits - 1 - shift, 0);
-  const std::int64_t term_bound = std::int64_t{1} << bound_bits;
-  const bool check_terms = term_bound > hi || -term_bound < lo_trigger;
-  // The safe zone: an accumulator inside it stays in range for terms_per_group more terms.
-  const bool small_terms = bound_bits + group_bits <= 60;  // G B fits with room to spare
-  const std::int64_t group_bound = small_terms ? term_bound * std::int64_t{terms_per_group} : 0;
-  const bool group_terms = !check_terms && small_terms && lo_trigger + group_bound <= hi - group_bound;
-  const std::int64_t safe_lo = lo_trigger + group_bound, safe_hi = hi - group_bound;
-  const auto bias = std::int64_t{1} << 62;
-  const std::uint64_t sign_bit = std::uint64_t{1} << 63;
-  const auto unsigned_lo = static_cast<std::uint64_t>(lo_trigger);
-  const lane_limits lim{hn::Set(d, static_cast<std::int64_t>((std::uint64_t{1} << shift) - 1)),
-                        hn::Set(d, shift > 0 ? std::int64_t{1} << (shift - 1) : 0),
-                        hn::Set(d, bias),
-                        hn::Set(d, bias >> shift),
-                        hn::Set(d, lo),
-                        hn::Set(d, hi),
-                        hn::Set(d, lo_trigger),
-                        hn::Set(d, symmetric ? -hi : lo),
-                        hn::Set(d, static_cast<std::int64_t>(sign_bit - unsigned_lo)),
-                        hn::Set(d, static_cast<std::int64_t>(static_cast<std::uint64_t>(hi) - unsigned_lo + sign_bit)),
-                        shift,
-                        64 - q.fmt().word_bits,
-                        is_signed,
-                        check_terms,
-                        group_terms,
-                        hn::Set(d, static_cast<std::int64_t>(sign_bit - static_cast<std::uint64_t>(safe_lo))),
-                        hn::Set(d, static_cast<std::int64_t>(static_cast<std::uint64_t>(safe_hi) -
-                                                             static_cast<std::uint64_t>(safe_lo) + sign_bit))};
+  const int shift = a.frac + b.frac - q.fmt().frac_bits;
+  const lane_limits lim = make_limits(d, shift, q, std::max(a.bits + b.bits - 1 - shift, 0));
   lane_tally t{hn::Zero(d), hn::Zero(d), lim.hi, lim.lo_trigger};
   std::size_t j = 0;
   const bool a_column = a.spread == lane_spread::column, b_column = b.spread == lane_spread::column;
@@ -357,48 +404,52 @@ std::size_t run_modes(product_form form, const lane_operand& a, const lane_opera
       case product_form::conj_both: run_all(std::integral_constant<product_form, product_form::conj_both>{}); break;
     }
   }
-
-  std::vector<std::int64_t> lanes(hn::Lanes(d));
-  auto reduce = [&](V v, auto combine) {
-    hn::StoreU(v, d, lanes.data());
-    std::int64_t r = lanes[0];
-    for (std::size_t k = 1; k < lanes.size(); ++k) r = combine(r, lanes[k]);
-    return r;
-  };
-  auto add = [](std::int64_t x, std::int64_t y) { return x + y; };
-  counters local;
-  local.requantized = 4 * num_terms * done;  // two requantisations per part per term, as the twin
-  local.overflowed = static_cast<std::uint64_t>(reduce(t.overflowed, add));
-  local.inexact = static_cast<std::uint64_t>(reduce(t.inexact, add));
-  const std::int64_t max_seen = reduce(t.max_seen, [](std::int64_t x, std::int64_t y) { return std::max(x, y); });
-  const std::int64_t min_seen = reduce(t.min_seen, [](std::int64_t x, std::int64_t y) { return std::min(x, y); });
-  // The excess as requantizer::overflow computes it: q - hi above, lo - q (in doubles) below,
-  // at least 1 for the most negative word under saturate_symmetric.
-  if (max_seen > hi) local.max_excess_lsb = static_cast<double>(max_seen - hi);
-  if (min_seen < lo_trigger) {
-    // The twin of exact terms (shift 0) is dot_accumulate's 128-bit accumulator; its conversion
-    // to double (integer.hpp, to_double_approx) equals the 64-bit one on these values.
-    double excess = static_cast<double>(lo) - static_cast<double>(min_seen);
-    if (symmetric) excess = std::max(excess, 1.0);
-    local.max_excess_lsb = std::max(local.max_excess_lsb, excess);
-  }
-  c.merge(local);
+  merge_tally(d, t, q, 4 * num_terms * done, c);  // two requantisations per part per term, as the twin
   return done;
 }
 
-template <rounding_mode R, bool Exact>
-std::size_t run_overflow(product_form form, const lane_operand& a, const lane_operand& b, std::size_t num_terms,
-                         std::size_t num_outputs, const requantizer<std::int64_t>& q, cword<std::int64_t>* out,
-                         counters& c) {
-  switch (q.spec().overflow) {
-    case overflow_mode::wrap:
-      return run_modes<R, Exact, overflow_mode::wrap>(form, a, b, num_terms, num_outputs, q, out, c);
-    case overflow_mode::saturate:
-      return run_modes<R, Exact, overflow_mode::saturate>(form, a, b, num_terms, num_outputs, q, out, c);
-    case overflow_mode::saturate_symmetric:
-      return run_modes<R, Exact, overflow_mode::saturate_symmetric>(form, a, b, num_terms, num_outputs, q, out, c);
-    case overflow_mode::saturate_zero:
-      return run_modes<R, Exact, overflow_mode::saturate_zero>(form, a, b, num_terms, num_outputs, q, out, c);
+/// Whole vectors of words requantised: out[i] = q(in[i]) dropping `shift` fraction bits.
+template <rounding_mode R, bool Exact, overflow_mode O>
+std::size_t requantize_modes(const std::int64_t* in, std::size_t n, int shift, const requantizer<std::int64_t>& q,
+                             std::int64_t* out, counters& c) {
+  const D d;
+  const std::size_t per_vector = hn::Lanes(d);
+  const std::size_t done = n / per_vector * per_vector;
+  if (done == 0) return 0;
+  const lane_limits lim = make_limits(d, shift, q, 63);
+  lane_tally t{hn::Zero(d), hn::Zero(d), lim.hi, lim.lo_trigger};
+  for (std::size_t i = 0; i < done; i += per_vector) {
+    hn::StoreU(overflow_lanes<O>(d, round_lanes<R, Exact>(d, hn::LoadU(d, in + i), lim, t), lim, t), d, out + i);
+  }
+  merge_tally(d, t, q, done, c);
+  return done;
+}
+
+/// job.template operator()<R, Exact, O>() for the target's modes; Exact (no fraction bit
+/// dropped, so no rounding mode changes a word) runs one instantiation for every rounding mode.
+template <class Job>
+std::size_t with_modes(bool exact, const target& spec, const Job& job) {
+  auto by_overflow = [&]<rounding_mode R, bool Exact>() -> std::size_t {
+    switch (spec.overflow) {
+      case overflow_mode::wrap: return job.template operator()<R, Exact, overflow_mode::wrap>();
+      case overflow_mode::saturate: return job.template operator()<R, Exact, overflow_mode::saturate>();
+      case overflow_mode::saturate_symmetric:
+        return job.template operator()<R, Exact, overflow_mode::saturate_symmetric>();
+      case overflow_mode::saturate_zero: return job.template operator()<R, Exact, overflow_mode::saturate_zero>();
+    }
+    return 0;
+  };
+  if (exact) return by_overflow.template operator()<rounding_mode::floor, true>();
+  switch (spec.rounding) {
+    case rounding_mode::floor: return by_overflow.template operator()<rounding_mode::floor, false>();
+    case rounding_mode::ceil: return by_overflow.template operator()<rounding_mode::ceil, false>();
+    case rounding_mode::toward_zero: return by_overflow.template operator()<rounding_mode::toward_zero, false>();
+    case rounding_mode::half_up: return by_overflow.template operator()<rounding_mode::half_up, false>();
+    case rounding_mode::half_down: return by_overflow.template operator()<rounding_mode::half_down, false>();
+    case rounding_mode::half_toward_zero:
+      return by_overflow.template operator()<rounding_mode::half_toward_zero, false>();
+    case rounding_mode::half_away: return by_overflow.template operator()<rounding_mode::half_away, false>();
+    case rounding_mode::half_even: return by_overflow.template operator()<rounding_mode::half_even, false>();
   }
   return 0;
 }
@@ -414,22 +465,23 @@ std::size_t many_vector_kernel(product_form form, const lane_operand& a, const l
   (void)form, (void)a, (void)b, (void)num_terms, (void)num_outputs, (void)q, (void)out, (void)c;
   return 0;
 #else
-#define FXMIMO_MANY_ARGS form, a, b, num_terms, num_outputs, q, out, c
-  // With no fraction bits dropped every term is exact and no rounding mode changes it: one
-  // instantiation without the rounding step serves them all.
-  if (a.frac + b.frac == q.fmt().frac_bits) return run_overflow<rounding_mode::floor, true>(FXMIMO_MANY_ARGS);
-  switch (q.spec().rounding) {
-    case rounding_mode::floor: return run_overflow<rounding_mode::floor, false>(FXMIMO_MANY_ARGS);
-    case rounding_mode::ceil: return run_overflow<rounding_mode::ceil, false>(FXMIMO_MANY_ARGS);
-    case rounding_mode::toward_zero: return run_overflow<rounding_mode::toward_zero, false>(FXMIMO_MANY_ARGS);
-    case rounding_mode::half_up: return run_overflow<rounding_mode::half_up, false>(FXMIMO_MANY_ARGS);
-    case rounding_mode::half_down: return run_overflow<rounding_mode::half_down, false>(FXMIMO_MANY_ARGS);
-    case rounding_mode::half_toward_zero: return run_overflow<rounding_mode::half_toward_zero, false>(FXMIMO_MANY_ARGS);
-    case rounding_mode::half_away: return run_overflow<rounding_mode::half_away, false>(FXMIMO_MANY_ARGS);
-    case rounding_mode::half_even: return run_overflow<rounding_mode::half_even, false>(FXMIMO_MANY_ARGS);
-  }
-#undef FXMIMO_MANY_ARGS
+  return with_modes(a.frac + b.frac == q.fmt().frac_bits, q.spec(),
+                    [&]<rounding_mode R, bool Exact, overflow_mode O>() {
+                      return run_modes<R, Exact, O>(form, a, b, num_terms, num_outputs, q, out, c);
+                    });
+#endif
+}
+
+std::size_t requantize_vector_kernel(const std::int64_t* in, std::size_t n, int from_frac,
+                                     const requantizer<std::int64_t>& q, std::int64_t* out, counters& c) {
+#if HWY_TARGET == HWY_SCALAR
+  (void)in, (void)n, (void)from_frac, (void)q, (void)out, (void)c;
   return 0;
+#else
+  const int shift = from_frac - q.fmt().frac_bits;
+  return with_modes(shift == 0, q.spec(), [&]<rounding_mode R, bool Exact, overflow_mode O>() {
+    return requantize_modes<R, Exact, O>(in, n, shift, q, out, c);
+  });
 #endif
 }
 
@@ -450,6 +502,7 @@ HWY_AFTER_NAMESPACE();
 namespace fxmimo::fixedpoint {
 
 HWY_EXPORT(many_vector_kernel);
+HWY_EXPORT(requantize_vector_kernel);
 HWY_EXPORT(many_vector_target_name);
 HWY_EXPORT(many_vector_outputs);
 
@@ -536,6 +589,20 @@ void dot_accumulate_many_dispatch(product_form form, const lane_operand& a, cons
 }
 
 }  // namespace detail
+
+bool requantize_vector_form_applies(int in_bits, int from_frac, const requantizer<std::int64_t>& q) {
+  const int shift = from_frac - q.fmt().frac_bits;
+  return in_bits >= 1 && in_bits <= 62 && shift >= 0 && shift <= 62 && fits_container<std::int64_t>(q.fmt(), 1);
+}
+
+void requantize_many(const std::int64_t* in, std::size_t n, int in_bits, int from_frac,
+                     const requantizer<std::int64_t>& q, std::int64_t* out, counters& c) {
+  std::size_t num_done = 0;
+  if (!chosen_kernel().twin && requantize_vector_form_applies(in_bits, from_frac, q)) {
+    num_done = HWY_DYNAMIC_DISPATCH(requantize_vector_kernel)(in, n, from_frac, q, out, c);
+  }
+  requantize_many_scalar(in + num_done, n - num_done, from_frac, q, out + num_done, c);
+}
 
 std::string many_kernel_target() { return chosen_kernel().name; }
 

@@ -165,6 +165,71 @@ TEST(mac_lanes_form, applies_exactly_where_documented) {
   }
 }
 
+// requantize_many (a vector of words from one format into another, as the DAC stage does)
+// against its scalar twin, the loop of requantizer calls: every rounding x overflow mode, signed
+// and unsigned targets, word counts around the vector width, and shifts from 0 (exact) to 62.
+// A quarter of the words are exact ties (q 2^s + 2^(s-1)), the rest cover the whole range, and
+// the targets are narrow enough to overflow often.
+struct requantize_case {
+  const char* name;
+  int in_bits, in_frac;
+  fp::format out;
+  bool vector_form;  // requantize_vector_form_applies
+};
+
+const requantize_case requantize_cases[] = {
+    {"tx_acc_to_dac", 20, 18, {true, 16, 15}, true},                // the DAC's shape: shift 3
+    {"shift_1_ties", 16, 15, {true, 12, 14}, true},                 // every odd word a tie, saturating
+    {"exact_no_bit_dropped", 24, 10, {true, 16, 10}, true},         // shift 0: the overflow step only
+    {"unsigned_target", 20, 12, {false, 8, 6}, true},               // negatives overflow below 0
+    {"widest_words_largest_shift", 62, 70, {true, 20, 8}, true},    // |x| up to 2^61, shift 62
+    {"words_of_63_bits_fall_back", 63, 40, {true, 32, 20}, false},  // beyond the biased shift
+    {"appended_bits_fall_back", 16, 10, {true, 24, 14}, false},     // shift < 0
+};
+
+std::int64_t draw_requantize_word(std::mt19937_64& rng, int bits, int shift) {
+  const std::int64_t w = draw_signed_word(rng, bits);
+  if (shift < 1 || shift >= bits - 1 || rng() % 4 != 0) return w;
+  // A tie: w's bits above `shift`, then exactly half an LSB of the target.
+  const auto tie =
+      static_cast<std::int64_t>((static_cast<std::uint64_t>(w) >> shift << shift) | (std::uint64_t{1} << (shift - 1)));
+  return tie;
+}
+
+TEST(mac_lanes_requantize, matches_the_scalar_twin_bit_for_bit) {
+  std::mt19937_64 rng(2027);
+  const std::size_t lanes = 2 * fp::many_kernel_outputs_per_vector();  // int64 words per vector
+  for (const requantize_case& tc : requantize_cases) {
+    for (fp::rounding_mode rnd : fp::all_rounding_modes) {
+      for (fp::overflow_mode ovf : fp::all_overflow_modes) {
+        const fp::requantizer<std::int64_t> q({tc.out, rnd, ovf});
+        EXPECT_EQ(fp::requantize_vector_form_applies(tc.in_bits, tc.in_frac, q), tc.vector_form) << tc.name;
+        const int shift = tc.in_frac - tc.out.frac_bits;
+        for (std::size_t n : {std::size_t{0}, std::size_t{1}, lanes - 1, lanes, lanes + 1, std::size_t{997}}) {
+          std::vector<std::int64_t> in(n);
+          for (std::int64_t& w : in) w = draw_requantize_word(rng, tc.in_bits, shift);
+          fp::counters c_twin{5, 3, 2, 0.5}, c_many = c_twin;
+          std::vector<std::int64_t> twin(n, -7), many(n, 7);
+          fp::requantize_many_scalar(in.data(), n, tc.in_frac, q, twin.data(), c_twin);
+          fp::requantize_many(in.data(), n, tc.in_bits, tc.in_frac, q, many.data(), c_many);
+          for (std::size_t i = 0; i < n; ++i) {
+            ASSERT_EQ(twin[i], many[i]) << tc.name << " " << fp::to_string(rnd) << "/" << fp::to_string(ovf) << " n "
+                                        << n << " word " << i << " in " << hex(in[i]) << " target "
+                                        << fp::many_kernel_target();
+          }
+          ASSERT_TRUE(c_twin == c_many) << tc.name << " " << fp::to_string(rnd) << "/" << fp::to_string(ovf)
+                                        << ": expected " << describe(c_twin) << ", got " << describe(c_many);
+          // In place, as a stage may run it.
+          fp::counters c_in_place{5, 3, 2, 0.5};
+          std::vector<std::int64_t> words = in;
+          fp::requantize_many(words.data(), n, tc.in_bits, tc.in_frac, q, words.data(), c_in_place);
+          ASSERT_EQ(words, twin) << tc.name << " in place";
+        }
+      }
+    }
+  }
+}
+
 std::string lower(std::string s) {
   std::transform(s.begin(), s.end(), s.begin(), [](unsigned char ch) { return static_cast<char>(std::tolower(ch)); });
   return s;

@@ -2,6 +2,7 @@
 // ROM, the estimator scales, the QAM symbols, the perfect-CSI estimate, the transmit gain), and
 // the DAC, a requantiser of the last transmit node.
 #include <type_traits>
+#include <vector>
 
 #include "../stage_support.hpp"
 #include "stages.hpp"
@@ -51,14 +52,13 @@ class requantizer_stage final : public stage {
     const word_matrix& w = *in.words;
     *out.words = word_matrix(w.rows, w.cols, node_is_complex(output(0)));
     const fp::requantizer<word> q(out.spec);
+    // Part by part through the vector form (the counters are sums and a maximum, so the order
+    // of the parts does not matter); a real input gives a complex output zero imaginary parts.
+    fp::requantize_many(w.re.data(), w.size(), in.bits(), in.frac(), q, out.words->re.data(), *out.counters);
     if (out.words->is_complex) {
-      for (std::size_t i = 0; i < w.size(); ++i) {
-        const cw v = fp::requantize(cw{w.re[i], w.is_complex ? w.im[i] : 0}, in.frac(), q, *out.counters);
-        out.words->re[i] = v.re;
-        out.words->im[i] = v.im;
-      }
-    } else {
-      for (std::size_t i = 0; i < w.size(); ++i) out.words->re[i] = q(w.re[i], in.frac(), *out.counters);
+      const std::vector<word> zeros(w.is_complex ? 0 : w.size(), 0);
+      const word* im = w.is_complex ? w.im.data() : zeros.data();
+      fp::requantize_many(im, w.size(), in.bits(), in.frac(), q, out.words->im.data(), *out.counters);
     }
   }
   void golden_view(golden_context& ctx) const override { ctx.set(output(0), ctx.value_of(source(0, 0))); }

@@ -87,6 +87,24 @@ void dot_accumulate_many(const lane_operand& a, const lane_operand& b, std::size
   detail::dot_accumulate_many_dispatch(Form, a, b, num_terms, num_outputs, q, out, c);
 }
 
+/// Many words of one format requantised at once: out[i] = q(in[i], from_frac, c), i < n (out
+/// may be in). The scalar twin is that loop of requantizer calls, the definition.
+inline void requantize_many_scalar(const std::int64_t* in, std::size_t n, int from_frac,
+                                   const requantizer<std::int64_t>& q, std::int64_t* out, counters& c) {
+  for (std::size_t i = 0; i < n; ++i) out[i] = q(in[i], from_frac, c);
+}
+
+/// True when requantize_many's vector form applies: words of at most 62 container bits (the
+/// rounding's biased shift needs |x| <= 2^61), 0..62 fraction bits dropped (appending bits is
+/// the twin's), and a target with a headroom bit in 64.
+bool requantize_vector_form_applies(int in_bits, int from_frac, const requantizer<std::int64_t>& q);
+
+/// out[i] = q(in[i], from_frac, c) for i < n; in_bits is the container width of every in[i]
+/// (trusted, like lane_operand::bits). Bit for bit and counter for counter the scalar twin,
+/// vectorised where it applies and FXMIMO_SIMD allows (the same choice as dot_accumulate_many).
+void requantize_many(const std::int64_t* in, std::size_t n, int in_bits, int from_frac,
+                     const requantizer<std::int64_t>& q, std::int64_t* out, counters& c);
+
 /// The implementation dot_accumulate_many runs on this machine: "scalar" (the twin, forced by
 /// FXMIMO_SIMD=scalar) or the vector target's name ("AVX2", "SSE4", ...; "SCALAR" is Highway's
 /// one-lane fallback, which hands every output to the twin).
