@@ -68,8 +68,12 @@ template <class T>
       using U = typename int_traits<T>::unsigned_type;
       const T q = floor_shift(x, s);
       const U rest = static_cast<U>(static_cast<U>(x) - static_cast<U>(shift_left(q, s)));
-      const remainder_class f = classify(rest, static_cast<U>(U{1} << (s - 1)));
-      return {apply_rounding(q, f, negative, mode), f != remainder_class::zero};
+      // The facts as flags, not a classified remainder: random low bits would mispredict the
+      // branches of a classification about half of the time.
+      const U half = static_cast<U>(U{1} << (s - 1));
+      const bool nonzero = rest != 0;
+      const bool up = round_up_by_facts(mode, nonzero, rest >= half, rest == half, negative, (q & 1) != 0);
+      return {static_cast<T>(q + static_cast<T>(up)), nonzero};
     }
     // s >= bits: |x| <= 2^(bits-1) <= 2^(s-1), so floor is 0 or -1, and x = -2^(s-1) (a tie)
     // happens only for s == bits and the type's most negative value.
