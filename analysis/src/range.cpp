@@ -109,7 +109,7 @@ range_results profile_ranges(const golden::scenario& scen, const datapath::datap
           }
           if (p.largest.size() > 2 * keep[i]) trim(p.largest, keep[i]);
         };
-        std::vector<bool> data_node(active.size(), false);
+        const std::vector<bool> data_node = plan.data_nodes();
         {
           golden::data_stream stream(scen, trial);
           golden::data_block block;
@@ -118,14 +118,12 @@ range_results profile_ranges(const golden::scenario& scen, const datapath::datap
             datapath::golden_data_values(plan, scen, trial, block, values, data_values);
             for (std::size_t i = 0; i < active.size(); ++i) {
               const Eigen::MatrixXcd& g = data_values[datapath::index_of(active[i])];
-              if (g.size() == 0) continue;
-              data_node[i] = true;
-              add_values(i, g);
+              if (data_node[datapath::index_of(active[i])]) add_values(i, g);
             }
           }
         }
         for (std::size_t i = 0; i < active.size(); ++i)
-          if (!data_node[i]) add_values(i, values[datapath::index_of(active[i])]);
+          if (!data_node[datapath::index_of(active[i])]) add_values(i, values[datapath::index_of(active[i])]);
         const std::lock_guard lock(mutex);
         for (std::size_t i = 0; i < active.size(); ++i) {
           node_profile& p = profile[i];

@@ -112,8 +112,8 @@ trial_summary summarise_trial(const datapath::datapath_plan& plan, const golden:
                               std::vector<std::vector<datapath::word_matrix>>* keep_words) {
   const golden::trial_data& trial = g.trial;
   auto again = [&](datapath::node_id id) { return earlier == nullptr || (*recomputed)[datapath::index_of(id)]; };
-  const std::vector<bool> data_stage = plan.data_stages();
-  std::vector<datapath::node_id> data_nodes;
+  const std::vector<bool> data_stage = plan.data_stages(), data_node = plan.data_nodes();
+  std::vector<datapath::node_id> data_nodes;               // in plan order
   std::vector<bool> run_stage(plan.stages.size(), false);  // the data stages to run
   for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage) {
     if (!data_stage[i_stage]) continue;
@@ -126,9 +126,7 @@ trial_summary summarise_trial(const datapath::datapath_plan& plan, const golden:
   if (!earlier_words) {
     for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage) run_stage[i_stage] = data_stage[i_stage];
   }
-  const auto in_data_phase = [&](datapath::node_id id) {
-    return std::find(data_nodes.begin(), data_nodes.end(), id) != data_nodes.end();
-  };
+  const auto in_data_phase = [&](datapath::node_id id) { return data_node[datapath::index_of(id)]; };
   const auto measured_now = [&](datapath::node_id id) {
     return !in_data_phase(id) ? again(id) : !earlier_words || again(id);
   };

@@ -108,12 +108,10 @@ std::vector<Eigen::MatrixXcd> golden_block_values(const datapath_plan& plan, con
 void golden_data_values(const datapath_plan& plan, const golden::scenario& scen, const golden::trial_data& trial,
                         const golden::data_block& block, const std::vector<Eigen::MatrixXcd>& block_values,
                         std::vector<Eigen::MatrixXcd>& values) {
-  const std::vector<bool> data = plan.data_stages();
+  const std::vector<bool> data = plan.data_stages(), data_node = plan.data_nodes();
   values.resize(node_count());
-  for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage) {
-    if (!data[i_stage]) continue;
-    for (const port& p : plan.stages[i_stage]->ports()) values[index_of(p.node)].resize(0, 0);
-  }
+  for (std::size_t i = 0; i < values.size(); ++i)
+    if (data_node[i]) values[i].resize(0, 0);
   golden_context ctx{scen, trial, values, &block, &block_values};
   for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage)
     if (data[i_stage]) plan.stages[i_stage]->golden_view(ctx);

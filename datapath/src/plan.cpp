@@ -62,6 +62,16 @@ std::vector<bool> datapath_plan::stages_downstream_of(const std::vector<node_id>
   return out;
 }
 
+std::vector<bool> datapath_plan::data_nodes() const {
+  const std::vector<bool> data = data_stages();
+  std::vector<bool> out(node_count(), false);
+  for (std::size_t i_stage = 0; i_stage < stages.size(); ++i_stage) {
+    if (!data[i_stage]) continue;
+    for (const port& p : stages[i_stage]->ports()) out[index_of(p.node)] = true;
+  }
+  return out;
+}
+
 std::vector<bool> datapath_plan::data_stages() const {
   std::vector<bool> data_node(node_count(), false), out(stages.size(), false);
   for (std::size_t i_stage = 0; i_stage < stages.size(); ++i_stage) {

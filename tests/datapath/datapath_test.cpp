@@ -162,6 +162,28 @@ dac_backoff_db = 0.0
   EXPECT_TRUE(words(d::node_id::inv_factor).re == std::vector<std::int64_t>{0});
 }
 
+// The data nodes of every example scenario's plan are exactly the stage outputs with the symbol
+// dimension (README "The datapath as data": they exist one symbol block at a time); the rest of
+// the plan runs once per trial.
+TEST(datapath, data_nodes_are_the_outputs_with_the_symbol_dimension) {
+  for (const char* name : {"rooftop-64.toml", "tower-128-neumann.toml", "village-16-mf.toml", "campus-3-hex.toml",
+                           "metro-7-shadowed.toml"}) {
+    const g::scenario scen = g::load_scenario_file(std::string(FXMIMO_SOURCE_DIR) + "/examples/" + name);
+    const d::datapath_plan plan = d::stages_for(scen);
+    const std::vector<bool> data_node = plan.data_nodes();
+    int num_data = 0;
+    for (const auto& s : plan.stages) {
+      for (const d::port& p : s->ports()) {
+        const auto dims = d::dims_of(p.node);
+        EXPECT_EQ(data_node[d::index_of(p.node)], dims[0] == d::dim::symbol || dims[1] == d::dim::symbol)
+            << name << ": " << d::node_name(p.node);
+        num_data += data_node[d::index_of(p.node)] ? 1 : 0;
+      }
+    }
+    EXPECT_GE(num_data, 3) << name << ": symbols, tx_acc and dac at least";
+  }
+}
+
 TEST(datapath, wide_formats_converge_to_the_golden_model) {
   // With 50 fraction bits everywhere the fixed datapath must compute the golden algorithm.
   // Bound on SQNR (derived): each value carries at most ~10^3 rounding errors of one LSB

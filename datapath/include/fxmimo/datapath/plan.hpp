@@ -34,6 +34,9 @@ struct datapath_plan {
   /// plan order within each group. Throws std::logic_error when a stage outside the data phase
   /// reads a data node (it would need the whole block of N symbols).
   [[nodiscard]] std::vector<bool> data_stages() const;
+  /// Per node (index_of): whether a data stage outputs it, i.e. its words exist one symbol block
+  /// at a time (the data nodes).
+  [[nodiscard]] std::vector<bool> data_nodes() const;
   /// Inserts `s` before the stage that computes `id` and points every later reader of
   /// `replaced` at `replacement` (for a stage placed between two others; both may be the same
   /// node id to insert without rewiring). Throws std::invalid_argument when no stage computes id.
