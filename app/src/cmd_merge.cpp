@@ -68,7 +68,12 @@ std::vector<named_part> checked_parts(const std::vector<std::string>& files) {
   std::map<std::size_t, const named_part*> by_shard;
   for (const named_part& p : parts) {
     const nlohmann::json origin = report::origin_json(p.part.origin);
-    if (const std::string d = first_difference(first_origin, origin); !d.empty()) {
+    if (const std::string d = first_difference(first_origin, origin); d == "scenario.sha256") {
+      throw usage_error(fmt::format(
+          "{}: not a part of the same computation as {}: another scenario file (SHA-256 {}... there, {}... here)",
+          p.file, first.file, first.part.origin.scenario_sha256.substr(0, 12),
+          p.part.origin.scenario_sha256.substr(0, 12)));
+    } else if (!d.empty()) {
       throw usage_error(fmt::format("{}: not a part of the same computation as {}: {} is {} there, {} here", p.file,
                                     first.file, d, shown(first_origin, d), shown(origin, d)));
     }

@@ -71,14 +71,18 @@ report::part_origin part_origin_of(const std::string& command, const scenario_in
 void write_part(const shard_options& opt, const report::part_record& part) {
   write_file_atomically(opt.out_path, report::to_json(part).dump(1) + "\n");
   const bool run = part.origin.command == "run";
-  const std::string what = run ? "trials" : "points";
+  const std::string unit = run ? "trial" : "point";
+  const auto units = [&](std::uint64_t n) { return fmt::format("{} {}{}", n, unit, n == 1 ? "" : "s"); };
+  const std::uint64_t last = part.first + part.count() - 1;
   std::string share;
   if (part.count() == 0) {
-    share = fmt::format("none of the {} {} (more shards than {})", part.total, what, what);
+    share = fmt::format("none of the {} (more shards than {}s)", units(part.total), unit);
   } else if (run) {  // trials by their index, as --trials and vectors --trials count them
-    share = fmt::format("trials {} to {} of 0 to {}", part.first, part.first + part.count() - 1, part.total - 1);
-  } else {  // points by their row in the sweep's table
-    share = fmt::format("points {} to {} of {}", part.first + 1, part.first + part.count(), part.total);
+    share = part.count() == 1 ? fmt::format("trial {} of 0 to {}", part.first, part.total - 1)
+                              : fmt::format("trials {} to {} of 0 to {}", part.first, last, part.total - 1);
+  } else {  // points by their row in the sweep's table, from 1
+    share = part.count() == 1 ? fmt::format("point {} of {}", part.first + 1, part.total)
+                              : fmt::format("points {} to {} of {}", part.first + 1, last + 1, part.total);
   }
   fmt::print("{}: shard {}/{}: {}; wrote {}\n", part.origin.command, part.shard.index, part.shard.count, share,
              opt.out_path);
