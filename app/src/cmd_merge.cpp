@@ -3,6 +3,7 @@
 // as the command without --shard does.
 #include <fmt/core.h>
 
+#include <algorithm>
 #include <map>
 
 #include "commands.hpp"
@@ -99,17 +100,20 @@ std::vector<named_part> checked_parts(const std::vector<std::string>& files) {
     if (!by_shard.contains(i)) missing.push_back(fmt::format("{}/{}", i, count));
   }
   if (!missing.empty()) {
-    std::string list, given;
-    for (const std::string& m : missing) list += (list.empty() ? "" : ", ") + m;
-    for (std::size_t i = 0; i < parts.size() && i < 8; ++i) given += (i == 0 ? "" : ", ") + parts[i].file;
-    if (parts.size() > 8) given += fmt::format(" and {} more", parts.size() - 8);
+    // At most 8 of each, so that the message stays one line.
+    const auto listed = [](const std::vector<std::string>& names) {
+      std::string out;
+      for (std::size_t i = 0; i < names.size() && i < 8; ++i) out += (i == 0 ? "" : ", ") + names[i];
+      return names.size() > 8 ? out + fmt::format(" and {} more", names.size() - 8) : out;
+    };
+    const std::string list = listed(missing), given = listed(files);
     throw usage_error(fmt::format("{} {} {} missing (given: {}): merge needs every shard once",
                                   missing.size() == 1 ? "shard" : "shards", list, missing.size() == 1 ? "is" : "are",
                                   given));
   }
-  std::vector<named_part> ordered;
-  for (const auto& [index, p] : by_shard) ordered.push_back(*p);
-  return ordered;
+  std::sort(parts.begin(), parts.end(),
+            [](const named_part& a, const named_part& b) { return a.part.shard.index < b.part.shard.index; });
+  return parts;
 }
 
 /// The trials or points a computation has in all, from its options (a part's share.total must agree).
@@ -119,15 +123,15 @@ std::size_t expected_total(const report::part_origin& o) {
   return o.bits_hi < o.bits_lo ? 0 : o.nodes.size() * static_cast<std::size_t>(o.bits_hi - o.bits_lo + 1);
 }
 
-int merge_run(const std::vector<named_part>& parts, const scenario_input& in, const merge_options& opt) {
+int merge_run(std::vector<named_part>& parts, const scenario_input& in, const merge_options& opt) {
   if (!opt.csv_path.empty()) throw usage_error("--csv is for the parts of a sweep; a run writes JSON (-o) only");
   const std::vector<datapath::node_id> nodes = datapath::active_nodes(in.scen);
   std::vector<analysis::trial_summary> per_trial;
-  for (const named_part& p : parts) {
+  for (named_part& p : parts) {
     if (!p.part.trials.empty() && p.part.trial_nodes != nodes) {
       throw usage_error(fmt::format("{}: its trials hold other nodes than the datapath of its scenario", p.file));
     }
-    for (analysis::trial_summary t : p.part.trials) {
+    for (analysis::trial_summary& t : p.part.trials) {
       if (t.sinr_golden.size() != static_cast<std::size_t>(in.scen.cells.num_users)) {
         throw usage_error(fmt::format("{}: trial {} holds figures of {} users; its scenario has {}", p.file,
                                       t.trial_index, t.sinr_golden.size(), in.scen.cells.num_users));
@@ -191,7 +195,7 @@ int merge_sweep(const std::vector<named_part>& parts, const scenario_input& in, 
 }
 
 int run_merge(const merge_options& opt) {
-  const std::vector<named_part> parts = checked_parts(opt.parts);
+  std::vector<named_part> parts = checked_parts(opt.parts);
   const report::part_origin& o = parts.front().part.origin;
   const scenario_input in = parse_scenario_input(o.scenario_text, o.scenario_source);
   if (const std::size_t total = expected_total(o); parts.front().part.total != total) {

@@ -60,6 +60,7 @@ std::optional<analysis::shard> shard_of(const shard_options& opt, std::initializ
 
 report::part_origin part_origin_of(const std::string& command, const scenario_input& in, int trials) {
   report::part_origin o;
+  o.program = "fxmimo " FXMIMO_VERSION;
   o.command = command;
   o.scenario_source = in.doc.source_name;
   o.scenario_text = in.text();

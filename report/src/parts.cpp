@@ -242,7 +242,8 @@ json origin_json(const part_origin& o) {
     options["key"] = o.key;
     options["values"] = o.values;
   }
-  return {{"command", o.command},
+  return {{"program", o.program},
+          {"command", o.command},
           {"scenario", {{"source", o.scenario_source}, {"sha256", o.scenario_sha256}}},
           {"options", options}};
 }
@@ -280,6 +281,7 @@ part_record part_from_json(const checked_json& doc) {
     doc["schema"].fail(fmt::format("schema {} is not supported (this fxmimo reads schema {})", schema, parts_schema));
   part_record p;
   part_origin& o = p.origin;
+  o.program = doc["program"].text();
   o.command = doc["command"].text();
   if (o.command != "run" && o.command != "sweep") doc["command"].fail("expected \"run\" or \"sweep\"");
   const checked_json scenario = doc["scenario"];

@@ -27,6 +27,7 @@ inline constexpr int parts_schema = 1;
 /// origin. Options that do not change results (--threads, --cache-budget, --max-memory,
 /// --max-work, the output paths, --shard) are not part of it.
 struct part_origin {
+  std::string program;          ///< "fxmimo VERSION" that wrote it: versions may compute other bits
   std::string command;          ///< "run" or "sweep"
   std::string scenario_source;  ///< the scenario path as given (a run's results name it)
   std::string scenario_sha256;  ///< of scenario_text
