@@ -6,6 +6,7 @@
 #   ./run.sh bench            build, then run the Google Benchmark programs
 #   ./run.sh asan             build and test under address + undefined-behaviour sanitizers
 #   ./run.sh fuzz [SECONDS]   build the libFuzzer targets (clang), fuzz every parser SECONDS (600)
+#   ./run.sh slurm            install Slurm and munge, build, run the Slurm examples on a local cluster
 # Environment: FXMIMO_WERROR=ON turns warnings into errors (CI sets it).
 set -euo pipefail
 cd "$(dirname "${BASH_SOURCE[0]}")"
@@ -78,15 +79,21 @@ case $command in
     ctest --preset asan -j "$jobs" "$@"
     ;;
   help | -h | --help)
-    sed -n '2,9p' "$0" | sed 's/^# \{0,1\}//'
+    sed -n '2,10p' "$0" | sed 's/^# \{0,1\}//'
     ;;
   fuzz)
     install_packages "${required_packages[@]}" clang
     configure_and_build fuzz
     exec tests/fuzz/run_fuzzers.sh "${1:-600}" "${@:2}"
     ;;
+  slurm)
+    # The ctest label slurm: a one-node cluster (.ci/local-slurm) runs the job-array example.
+    install_packages "${required_packages[@]}" slurm-wlm munge
+    configure_and_build release --target fxmimo
+    ctest --preset release -L slurm "$@"
+    ;;
   *)
-    echo "run.sh: unknown command '$command' (expected demo, test, bench, asan or fuzz)" >&2
+    echo "run.sh: unknown command '$command' (expected demo, test, bench, asan, fuzz or slurm)" >&2
     exit 2
     ;;
 esac

@@ -299,39 +299,50 @@ void for_each_index_parallel(std::size_t count, unsigned num_threads, const std:
 
 namespace {
 
-/// Evaluates every trial (on `num_threads` threads) and reduces in trial order: the same sums in
-/// the same order for any thread count, with the cache or without.
-run_results run_and_reduce(const golden::scenario& scen, const datapath::datapath_config& config,
-                           const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
-                           const progress_callback& progress,
-                           const std::function<trial_summary(std::uint64_t)>& evaluate);
+/// Evaluates every trial (on `num_threads` threads) into its own slot, in the order given.
+std::vector<trial_summary> evaluate_each(const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
+                                         const progress_callback& progress,
+                                         const std::function<trial_summary(std::uint64_t)>& evaluate) {
+  std::vector<trial_summary> per_trial(trial_indices.size());
+  for_each_index_parallel(
+      trial_indices.size(), num_threads, [&](std::size_t i) { per_trial[i] = evaluate(trial_indices[i]); }, progress);
+  return per_trial;
+}
 
 }  // namespace
 
+std::vector<trial_summary> evaluate_trials(const golden::scenario& scen, const datapath::datapath_config& config,
+                                           const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
+                                           const progress_callback& progress) {
+  return evaluate_each(trial_indices, num_threads, progress,
+                       [&](std::uint64_t t) { return evaluate_trial(scen, config, t); });
+}
+
+// Every trial in its own slot, then reduced in trial order: the same sums in the same order for
+// any thread count, with the cache or without, in one process or from shards.
 run_results run_trials(const golden::scenario& scen, const datapath::datapath_config& config,
                        const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
                        const progress_callback& progress) {
-  return run_and_reduce(scen, config, trial_indices, num_threads, progress,
-                        [&](std::uint64_t t) { return evaluate_trial(scen, config, t); });
+  if (trial_indices.empty()) throw std::invalid_argument("no trials to run");
+  return reduce_trials(scen, config, trial_indices,
+                       evaluate_trials(scen, config, trial_indices, num_threads, progress));
 }
 
 run_results run_trials(trial_cache& cache, const datapath::datapath_config& config,
                        const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
                        const progress_callback& progress) {
-  return run_and_reduce(cache.scenario(), config, trial_indices, num_threads, progress,
-                        [&](std::uint64_t t) { return evaluate_trial(cache, config, t); });
+  if (trial_indices.empty()) throw std::invalid_argument("no trials to run");
+  return reduce_trials(cache.scenario(), config, trial_indices,
+                       evaluate_each(trial_indices, num_threads, progress,
+                                     [&](std::uint64_t t) { return evaluate_trial(cache, config, t); }));
 }
 
-namespace {
-
-run_results run_and_reduce(const golden::scenario& scen, const datapath::datapath_config& config,
-                           const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
-                           const progress_callback& progress,
-                           const std::function<trial_summary(std::uint64_t)>& evaluate) {
-  if (trial_indices.empty()) throw std::invalid_argument("no trials to run");
-  std::vector<trial_summary> per_trial(trial_indices.size());
-  for_each_index_parallel(
-      trial_indices.size(), num_threads, [&](std::size_t i) { per_trial[i] = evaluate(trial_indices[i]); }, progress);
+run_results reduce_trials(const golden::scenario& scen, const datapath::datapath_config& config,
+                          const std::vector<std::uint64_t>& trial_indices,
+                          const std::vector<trial_summary>& per_trial) {
+  if (per_trial.empty()) throw std::invalid_argument("no trials to run");
+  if (per_trial.size() != trial_indices.size())
+    throw std::logic_error(fmt::format("{} trial figures for {} trials", per_trial.size(), trial_indices.size()));
   run_results out;
   out.scenario_name = scen.name;
   out.scenario_source = scen.source_name;
@@ -437,7 +448,5 @@ run_results run_and_reduce(const golden::scenario& scen, const datapath::datapat
   }
   return out;
 }
-
-}  // namespace
 
 }  // namespace fxmimo::analysis

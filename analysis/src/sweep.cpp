@@ -20,6 +20,12 @@ std::string_view to_string(sweep_axis axis) {
   return "?";
 }
 
+std::optional<sweep_axis> parse_sweep_axis(std::string_view name) {
+  for (sweep_axis axis : {sweep_axis::frac, sweep_axis::word, sweep_axis::int_bits})
+    if (to_string(axis) == name) return axis;
+  return std::nullopt;
+}
+
 fp::format swept_format(const fp::format& base, sweep_axis axis, int bits) {
   fp::format f = base;
   const int int_bits = base.int_bits();
@@ -41,24 +47,33 @@ fp::format swept_format(const fp::format& base, sweep_axis axis, int bits) {
   return f;
 }
 
+std::size_t sweep_point_count(const std::vector<datapath::node_id>& nodes, int lo, int hi) {
+  return lo > hi ? 0 : nodes.size() * static_cast<std::size_t>(hi - lo + 1);
+}
+
 sweep_results run_sweep(const golden::scenario& scen, const datapath::datapath_config& config,
                         const std::vector<datapath::node_id>& nodes, int lo, int hi, sweep_axis axis,
                         const std::vector<std::uint64_t>& trials, unsigned num_threads,
-                        const progress_callback& progress, std::optional<double> cache_budget_bytes) {
+                        const progress_callback& progress, std::optional<double> cache_budget_bytes,
+                        std::optional<index_range> points) {
   if (lo > hi) throw std::invalid_argument(fmt::format("empty bit range {}:{}", lo, hi));
-  // Check every point before running any, so a bad range fails at once.
+  // Check every point before running any, so a bad range fails at once (in every shard alike).
   for (datapath::node_id id : nodes)
     for (int b = lo; b <= hi; ++b) (void)swept_format(config[id].spec.fmt, axis, b);
+  const index_range run = points.value_or(all_indices(sweep_point_count(nodes, lo, hi)));
+  if (run.end > sweep_point_count(nodes, lo, hi)) throw std::logic_error("sweep points beyond the sweep");
   sweep_results out;
   out.scenario_name = scen.name;
   out.num_trials = trials.size();
   out.axis = axis;
-  const std::size_t total = nodes.size() * static_cast<std::size_t>(hi - lo + 1) * trials.size();
+  const std::size_t total = run.size() * trials.size();
   std::size_t before = 0;
   // Golden once per trial; each point reruns only the stages downstream of its node.
   trial_cache cache(scen, cache_budget_bytes.value_or(default_cache_budget_bytes()));
+  std::size_t i_point = 0;
   for (datapath::node_id id : nodes) {
-    for (int b = lo; b <= hi; ++b) {
+    for (int b = lo; b <= hi; ++b, ++i_point) {
+      if (i_point < run.begin || i_point >= run.end) continue;
       datapath::datapath_config c = config;
       c[id].spec.fmt = swept_format(config[id].spec.fmt, axis, b);
       c[id].is_default = false;
@@ -88,7 +103,7 @@ sweep_results run_sweep(const golden::scenario& scen, const datapath::datapath_c
 key_sweep_results run_key_sweep(const std::vector<golden::scenario>& scenarios, const std::vector<std::string>& values,
                                 const std::string& key, const datapath::datapath_config& config,
                                 const std::vector<std::uint64_t>& trials, unsigned num_threads,
-                                const progress_callback& progress) {
+                                const progress_callback& progress, std::optional<index_range> points) {
   if (scenarios.empty() || scenarios.size() != values.size())
     throw std::invalid_argument("a key sweep needs one scenario per value");
   const std::vector<datapath::node_id> nodes = datapath::active_nodes(scenarios.front());
@@ -97,13 +112,15 @@ key_sweep_results run_key_sweep(const std::vector<golden::scenario>& scenarios, 
       throw std::invalid_argument(fmt::format(
           "{} = {} changes the datapath's nodes (the algorithm); sweep keys that keep them", key, values[i]));
   }
+  const index_range run = points.value_or(all_indices(scenarios.size()));
+  if (run.end > scenarios.size()) throw std::logic_error("key sweep points beyond the sweep");
   key_sweep_results out;
   out.scenario_name = scenarios.front().name;
   out.key = key;
   out.num_trials = trials.size();
-  const std::size_t total = scenarios.size() * trials.size();
+  const std::size_t total = run.size() * trials.size();
   std::size_t before = 0;
-  for (std::size_t i = 0; i < scenarios.size(); ++i) {
+  for (std::size_t i = run.begin; i < run.end; ++i) {
     const run_results r = run_trials(scenarios[i], config, trials, num_threads, [&](std::size_t done, std::size_t) {
       if (progress) progress(before + done, total);
     });

@@ -3,6 +3,7 @@
 
 #include <filesystem>
 #include <fstream>
+#include <numeric>
 
 #include "commands.hpp"
 #include "fxmimo/analysis/range.hpp"
@@ -15,7 +16,9 @@
 #include "output_files.hpp"
 #include "progress.hpp"
 #include "resource_guard.hpp"
+#include "results_output.hpp"
 #include "scenario_input.hpp"
+#include "shards.hpp"
 
 namespace fxmimo::cli {
 
@@ -27,6 +30,7 @@ struct run_options {
   unsigned num_threads = 0;
   std::string json_path;
   resource_options resources;
+  shard_options sharding;
 };
 
 analysis::run_results run_scenario(const scenario_input& in, int num_trials, unsigned num_threads) {
@@ -36,14 +40,34 @@ analysis::run_results run_scenario(const scenario_input& in, int num_trials, uns
                               [&](std::size_t done, std::size_t total) { progress.update(done, total); });
 }
 
+/// `run --shard I/N`: the shard's share of the trials, each trial's figures as they stand before
+/// the reduction, written as a part.
+int run_run_shard(const run_options& opt, const scenario_input& in, const analysis::shard& shard) {
+  const int trials = in.trials_or_default(opt.num_trials);
+  const analysis::index_range share = shard.share(static_cast<std::size_t>(trials));
+  if (!share.empty()) check_resources(in, {share.size(), 1, opt.num_threads, 0}, opt.resources);
+  std::vector<std::uint64_t> indices(share.size());
+  std::iota(indices.begin(), indices.end(), share.begin);
+  report::part_record part;
+  part.origin = part_origin_of("run", in, trials);
+  part.shard = shard;
+  part.total = static_cast<std::uint64_t>(trials);
+  part.first = share.begin;
+  part.trial_nodes = datapath::active_nodes(in.scen);
+  progress_line progress("trials");
+  part.trials = analysis::evaluate_trials(in.scen, in.config, indices, opt.num_threads,
+                                          [&](std::size_t done, std::size_t total) { progress.update(done, total); });
+  write_part(opt.sharding, part);
+  return exit_ok;
+}
+
 int run_run(const run_options& opt) {
+  const std::optional<analysis::shard> shard = shard_of(opt.sharding, {opt.json_path});
   const scenario_input in = load_scenario_input(opt.scenario_path);
+  if (shard) return run_run_shard(opt, in, *shard);
   check_resources(in, {static_cast<std::size_t>(in.trials_or_default(opt.num_trials)), 1, opt.num_threads, 0},
                   opt.resources);
-  const analysis::run_results results = run_scenario(in, opt.num_trials, opt.num_threads);
-  fmt::print("{}", report::format_run_table(results));
-  if (!opt.json_path.empty())
-    write_file_atomically(opt.json_path, report::to_json(report::make_record(results)).dump(2) + "\n");
+  print_and_write(run_scenario(in, opt.num_trials, opt.num_threads), opt.json_path);
   return exit_ok;
 }
 
@@ -135,13 +159,17 @@ void add_run_command(CLI::App& app) {
   cmd->add_option("--threads", opt->num_threads, "Worker threads (default: all cores)");
   cmd->add_option("--json", opt->json_path, "Also write the results as JSON to this file");
   add_resource_options(cmd, opt->resources);
+  add_shard_options(cmd, opt->sharding);
   cmd->footer(
       "Prints one row per datapath node (format, rounding, overflow, SQNR against the golden model,\n"
       "largest error in LSBs, overflow count), then per-user SINR and EVM golden/fixed, and the\n"
       "implementation EVM at the DAC beside the 3GPP base-station EVM limit.\n"
+      "With --shard I/N the run computes the I-th of N contiguous blocks of the trials and writes their\n"
+      "figures to -o; fxmimo merge on the N parts prints and writes what the run without --shard does.\n"
       "Examples:\n"
       "  fxmimo run -c examples/rooftop-64.toml\n"
-      "  fxmimo run -c examples/tower-128-neumann.toml --trials 50 --threads 2 --json run.json");
+      "  fxmimo run -c examples/tower-128-neumann.toml --trials 50 --threads 2 --json run.json\n"
+      "  fxmimo run -c examples/tower-128-neumann.toml --trials 50 --shard 2/4 -o part-2.json");
   cmd->callback([opt] { run_guarded("run", [opt] { return run_run(*opt); }); });
 }
 

@@ -2,6 +2,7 @@
 #include <fmt/core.h>
 
 #include <charconv>
+#include <numeric>
 
 #include "commands.hpp"
 #include "fxmimo/analysis/range.hpp"
@@ -14,7 +15,9 @@
 #include "output_files.hpp"
 #include "progress.hpp"
 #include "resource_guard.hpp"
+#include "results_output.hpp"
 #include "scenario_input.hpp"
+#include "shards.hpp"
 
 namespace fxmimo::cli {
 
@@ -76,7 +79,19 @@ struct sweep_options {
   std::string json_path;
   std::string csv_path;
   resource_options resources;
+  shard_options sharding;
 };
+
+/// The part of a sweep shard: its origin and share; the caller adds the points.
+report::part_record sweep_part(const sweep_options& opt, const scenario_input& in, const analysis::shard& shard,
+                               std::size_t total_points) {
+  report::part_record part;
+  part.origin = part_origin_of("sweep", in, in.trials_or_default(opt.num_trials));
+  part.shard = shard;
+  part.total = total_points;
+  part.first = shard.share(total_points).begin;
+  return part;
+}
 
 std::pair<int, int> parse_bit_range(const std::string& text) {
   const auto colon = text.find(':');
@@ -116,7 +131,8 @@ std::vector<datapath::node_id> parse_node_list(const std::string& text, const go
 std::vector<std::string> split_values(std::string_view text);
 
 /// `sweep --key KEY --values V1,V2,...`: one run of the scenario per value.
-int run_key_sweep_command(const sweep_options& opt, const scenario_input& in) {
+int run_key_sweep_command(const sweep_options& opt, const scenario_input& in,
+                          const std::optional<analysis::shard>& shard) {
   if (!opt.nodes_text.empty() || !opt.bits_text.empty())
     throw usage_error("give either --node and --bits (a width) or --key and --values (a scenario key), not both");
   if (opt.values_text.empty()) throw usage_error("--key needs --values V1,V2,..., e.g. --values 32,64,128");
@@ -127,59 +143,72 @@ int run_key_sweep_command(const sweep_options& opt, const scenario_input& in) {
     scenarios.push_back(golden::parse_scenario(golden::with_overrides(in.doc, {{opt.key, v}})));
   }
   const int trials = in.trials_or_default(opt.num_trials);
-  for (const golden::scenario& scen : scenarios) {
-    const scenario_input point{in.doc, scen, in.config};
+  const analysis::index_range points = shard ? shard->share(values.size()) : analysis::all_indices(values.size());
+  for (std::size_t i = points.begin; i < points.end; ++i) {
+    const scenario_input point{in.doc, scenarios[i], in.config};
     check_resources(point, {static_cast<std::size_t>(trials), 1, opt.num_threads, 0}, opt.resources);
   }
   progress_line progress("sweep trials");
   analysis::key_sweep_results r;
   try {
-    r = analysis::run_key_sweep(scenarios, values, opt.key, in.config, analysis::first_trials(trials), opt.num_threads,
-                                [&](std::size_t d, std::size_t t) { progress.update(d, t); });
+    r = analysis::run_key_sweep(
+        scenarios, values, opt.key, in.config, analysis::first_trials(trials), opt.num_threads,
+        [&](std::size_t d, std::size_t t) { progress.update(d, t); }, points);
   } catch (const std::invalid_argument& e) {
     throw usage_error(e.what());
   }
-  fmt::print("{}", report::format_key_sweep_table(r));
-  if (!opt.json_path.empty())
-    write_file_atomically(opt.json_path, report::to_json(report::make_record(r)).dump(2) + "\n");
-  if (!opt.csv_path.empty()) write_file_atomically(opt.csv_path, report::to_csv(r));
+  if (shard) {
+    report::part_record part = sweep_part(opt, in, *shard, values.size());
+    part.origin.key = opt.key;
+    part.origin.values = values;
+    part.key_points = std::move(r.points);
+    write_part(opt.sharding, part);
+    return exit_ok;
+  }
+  print_and_write(r, opt.json_path, opt.csv_path);
   return exit_ok;
 }
 
 int run_sweep_command(const sweep_options& opt) {
+  const std::optional<analysis::shard> shard = shard_of(opt.sharding, {opt.json_path, opt.csv_path});
   const scenario_input in = load_scenario_input(opt.scenario_path);
-  if (!opt.key.empty()) return run_key_sweep_command(opt, in);
+  if (!opt.key.empty()) return run_key_sweep_command(opt, in, shard);
   if (!opt.values_text.empty()) throw usage_error("--values needs --key KEY");
   if (opt.nodes_text.empty() || opt.bits_text.empty())
     throw usage_error(
         "give --node NAMES and --bits A:B (a width), or --key KEY and --values V1,V2,... (a scenario key)");
   const auto nodes = parse_node_list(opt.nodes_text, in.scen);
   const auto [lo, hi] = parse_bit_range(opt.bits_text);
-  analysis::sweep_axis axis = analysis::sweep_axis::frac;
-  if (opt.vary == "word")
-    axis = analysis::sweep_axis::word;
-  else if (opt.vary == "int")
-    axis = analysis::sweep_axis::int_bits;
-  else if (opt.vary != "frac")
-    throw usage_error(fmt::format("bad --vary '{}': expected frac, word or int", opt.vary));
-  check_resources(in,
-                  {static_cast<std::size_t>(in.trials_or_default(opt.num_trials)),
-                   nodes.size() * static_cast<std::size_t>(hi - lo + 1), opt.num_threads, 0},
-                  opt.resources);
+  const std::optional<analysis::sweep_axis> axis = analysis::parse_sweep_axis(opt.vary);
+  if (!axis) throw usage_error(fmt::format("bad --vary '{}': expected frac, word or int", opt.vary));
+  const std::size_t total_points = analysis::sweep_point_count(nodes, lo, hi);
+  const analysis::index_range points = shard ? shard->share(total_points) : analysis::all_indices(total_points);
+  if (!points.empty()) {
+    check_resources(in,
+                    {static_cast<std::size_t>(in.trials_or_default(opt.num_trials)), points.size(), opt.num_threads, 0},
+                    opt.resources);
+  }
   const std::optional<double> budget = cache_budget_bytes(opt.resources);
   progress_line progress("sweep trials");
   analysis::sweep_results r;
   try {
     r = analysis::run_sweep(
-        in.scen, in.config, nodes, lo, hi, axis, analysis::first_trials(in.trials_or_default(opt.num_trials)),
-        opt.num_threads, [&](std::size_t d, std::size_t t) { progress.update(d, t); }, budget);
+        in.scen, in.config, nodes, lo, hi, *axis, analysis::first_trials(in.trials_or_default(opt.num_trials)),
+        opt.num_threads, [&](std::size_t d, std::size_t t) { progress.update(d, t); }, budget, points);
   } catch (const std::invalid_argument& e) {
     throw usage_error(e.what());
   }
-  fmt::print("{}", report::format_sweep_table(r));
-  if (!opt.json_path.empty())
-    write_file_atomically(opt.json_path, report::to_json(report::make_record(r)).dump(2) + "\n");
-  if (!opt.csv_path.empty()) write_file_atomically(opt.csv_path, report::to_csv(r));
+  if (shard) {
+    report::part_record part = sweep_part(opt, in, *shard, total_points);
+    for (datapath::node_id id : nodes) part.origin.nodes.emplace_back(datapath::node_name(id));
+    part.origin.bits_lo = lo;
+    part.origin.bits_hi = hi;
+    part.origin.vary = std::string(analysis::to_string(*axis));
+    part.points = std::move(r.points);
+    write_part(opt.sharding, part);
+    return exit_ok;
+  }
+  print_and_write(r, opt.json_path, opt.csv_path);
   return exit_ok;
 }
 
@@ -404,15 +433,19 @@ void add_sweep_command(CLI::App& app) {
   cmd->add_option("--csv", opt->csv_path, "Write the points as CSV");
   add_resource_options(cmd, opt->resources);
   add_cache_option(cmd, opt->resources);
+  add_shard_options(cmd, opt->sharding);
   cmd->footer(
       "Each point is exactly `fxmimo run` of the scenario with that one width changed, or (--key) with that one\n"
       "scenario key set; a key sweep prints golden SINR, golden interference over signal, SINR loss and the\n"
       "integer bits the accumulating nodes need at each value.\n"
+      "With --shard I/N the sweep computes the I-th of N contiguous blocks of its points (the table's rows) and\n"
+      "writes them to -o; fxmimo merge on the N parts prints and writes what the sweep without --shard does.\n"
       "Examples:\n"
       "  fxmimo sweep -c examples/rooftop-64.toml --node weights,dac --bits 8:16\n"
       "  fxmimo sweep -c examples/rooftop-64.toml --node gram --bits 6:12 --vary int --json gram.json\n"
       "  fxmimo sweep -c examples/rooftop-64.toml --node all --bits 10:14 --trials 8 --csv all.csv\n"
-      "  fxmimo sweep -c examples/village-16-mf.toml --key array.antennas --values 16,32,64,128,256 --json m.json");
+      "  fxmimo sweep -c examples/village-16-mf.toml --key array.antennas --values 16,32,64,128,256 --json m.json\n"
+      "  fxmimo sweep -c examples/rooftop-64.toml --node all --bits 10:14 --shard 3/8 -o part-3.json");
   cmd->callback([opt] { run_guarded("sweep", [opt] { return run_sweep_command(*opt); }); });
 }
 

@@ -71,6 +71,7 @@ void register_commands(CLI::App& app) {
   add_demo_command(app);
   add_range_command(app);
   add_sweep_command(app);
+  add_merge_command(app);
   add_tune_command(app);
   add_check_command(app);
   add_diff_command(app);

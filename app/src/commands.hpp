@@ -34,5 +34,6 @@ void add_check_command(CLI::App& app);
 void add_diff_command(CLI::App& app);
 void add_vectors_command(CLI::App& app);
 void add_report_command(CLI::App& app);
+void add_merge_command(CLI::App& app);
 
 }  // namespace fxmimo::cli

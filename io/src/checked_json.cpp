@@ -8,6 +8,8 @@
 #include <fstream>
 #include <sstream>
 
+#include "fxmimo/io/exact_double.hpp"
+
 namespace fxmimo::io {
 
 namespace fp = fxmimo::fixedpoint;
@@ -99,6 +101,13 @@ std::optional<double> checked_json::number_or_null() const {
   if (value_->is_null()) return std::nullopt;
   if (!value_->is_number()) fail("expected a number or null");
   return value_->get<double>();
+}
+
+double checked_json::exact_double() const {
+  const std::optional<double> v = value_->is_string() ? parse_exact_double(value_->get<std::string>()) : std::nullopt;
+  if (!v)
+    fail("expected a double written exactly, as a string such as \"0x1.8p+1\", \"-inf\" or \"nan:7ff8000000000000\"");
+  return *v;
 }
 
 long long checked_json::integer(long long lo, long long hi) const {

@@ -41,11 +41,36 @@ std::string replaced(std::string text, const std::string& from, const std::strin
   return text;
 }
 
-/// The inputs every case may use: a good scenario, vector sets, dumps, results files, and broken
-/// copies of each.
+/// Partial results of good.toml (made once by the program, copied into each case): shards 1..3
+/// of a 3-trial run, shard 2 of the same run with 4 trials, of 2 shards, and of another scenario.
+const fs::path& made_parts() {
+  static const fs::path dir = [] {
+    const fs::path d = fxmimo::test::scratch_dir("bad_input_parts");
+    const std::string good = read_text(source / "examples" / "dpi" / "kiosk-8.toml");
+    write(d / "good.toml", good);
+    write(d / "other.toml", replaced(good, "seed = 2718", "seed = 2719"));
+    std::string script = "cd '" + d.string() + "'";
+    const std::string exe = " && '" + std::string(FXMIMO_EXE) + "' run --trials ";
+    for (int i = 1; i <= 3; ++i)
+      script += exe + "3 -c good.toml --shard " + std::to_string(i) + "/3 -o run-" + std::to_string(i) + ".json";
+    script += exe + "4 -c good.toml --shard 2/3 -o trials4-2.json";
+    script += exe + "3 -c good.toml --shard 2/2 -o half-2.json";
+    script += exe + "3 -c other.toml --shard 2/3 -o other-2.json";
+    script += " >/dev/null && rm good.toml other.toml";
+    EXPECT_EQ(std::system(script.c_str()), 0) << script;
+    return d;
+  }();
+  return dir;
+}
+
+/// The inputs every case may use: a good scenario, vector sets, dumps, results files, partial
+/// results, and broken copies of each.
 void prepare(const fs::path& dir) {
   const std::string good = read_text(source / "examples" / "dpi" / "kiosk-8.toml");
   write(dir / "good.toml", good);
+  for (const auto& e : fs::directory_iterator(made_parts())) fs::copy(e.path(), dir / e.path().filename());
+  fs::copy(dir / "run-2.json", dir / "run-2-again.json");
+  write(dir / "edited-2.json", replaced(read_text(dir / "run-2.json"), "seed = 2718", "seed = 2717"));
   fs::copy(source / "tests" / "fixtures" / "vec-hex", dir / "vec", fs::copy_options::recursive);
   fs::copy(source / "tests" / "fixtures" / "vec-npy", dir / "vecnpy", fs::copy_options::recursive);
   fs::copy(source / "tests" / "cli" / "readme_inputs" / "sim", dir / "sim", fs::copy_options::recursive);
@@ -237,7 +262,31 @@ const bad_input catalogue[] = {
     bad_input{"report_missing_key", "report missing_key.json -o r.html", "missing_key.json: users: missing"},
     bad_input{"report_empty_file", "report empty.json -o r.html", "empty.json: not valid JSON"},
     bad_input{"report_unwritable_output", "report run.json -o nodir/r.html", "nodir/r.html: cannot write"},
-    bad_input{"report_directory_as_input", "report adir -o r.html", "adir: is a directory"}};
+    bad_input{"report_directory_as_input", "report adir -o r.html", "adir: is a directory"},
+    // Shards and their merge.
+    bad_input{"shard_zero", "run -c good.toml --shard 0/3 -o p.json", "bad --shard '0/3': expected I/N"},
+    bad_input{"shard_beyond_count", "sweep -c good.toml --node dac --bits 8:9 --shard 4/3 -o p.json",
+              "bad --shard '4/3'"},
+    bad_input{"shard_not_a_fraction", "run -c good.toml --shard 2 -o p.json", "bad --shard '2'"},
+    bad_input{"shard_without_out", "run -c good.toml --shard 1/2", "--shard 1/2 needs -o PART.json"},
+    bad_input{"shard_beside_json", "run -c good.toml --shard 1/2 -o p.json --json r.json",
+              "'r.json' is written by fxmimo merge"},
+    bad_input{"out_without_shard", "sweep -c good.toml --node dac --bits 8:9 -o p.json", "needs --shard I/N"},
+    bad_input{"merge_missing_shard", "merge run-1.json run-3.json -o m.json",
+              "shard 2/3 is missing (given: run-1.json, run-3.json)"},
+    bad_input{"merge_duplicated_shard", "merge run-1.json run-2.json run-2-again.json run-3.json -o m.json",
+              "run-2-again.json: shard 2/3 again (also run-2.json)"},
+    bad_input{"merge_other_scenario", "merge run-1.json other-2.json run-3.json -o m.json",
+              "other-2.json: not a part of the same computation as run-1.json: another scenario file (SHA-256"},
+    bad_input{"merge_other_options", "merge run-1.json trials4-2.json run-3.json -o m.json",
+              "trials4-2.json: not a part of the same computation as run-1.json: options.trials is 3 there, 4 here"},
+    bad_input{"merge_other_shard_count", "merge run-1.json half-2.json run-3.json -o m.json",
+              "half-2.json: shard 2/2, but run-1.json is shard 1/3"},
+    bad_input{"merge_edited_part", "merge run-1.json edited-2.json run-3.json -o m.json",
+              "edited-2.json: scenario.text does not have the SHA-256"},
+    bad_input{"merge_not_a_part", "merge run.json -o m.json", "run.json: top level: not a partial results file"},
+    bad_input{"merge_unwritable_output", "merge run-1.json run-2.json run-3.json -o nodir/m.json",
+              "nodir/m.json: cannot write"}};
 
 INSTANTIATE_TEST_SUITE_P(Catalogue, BadInput, ::testing::ValuesIn(catalogue),
                          [](const ::testing::TestParamInfo<bad_input>& param_info) {

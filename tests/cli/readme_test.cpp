@@ -79,9 +79,10 @@ INSTANTIATE_TEST_SUITE_P(blocks, readme, testing::ValuesIn(readme_examples()),
                          });
 
 TEST(readme_examples, are_found) {
-  // The README shows at least the demo, run, range, sweep, tune, quant, report and vectors.
+  // The README shows at least the demo, run, range, sweep, merge, tune, quant, report and vectors.
   const std::vector<readme_example> all = readme_examples();
-  for (const char* command : {"demo", "run", "range", "sweep", "tune", "quant", "report", "vectors", "check", "diff"}) {
+  for (const char* command :
+       {"demo", "run", "range", "sweep", "merge", "tune", "quant", "report", "vectors", "check", "diff"}) {
     bool found = false;
     for (const readme_example& e : all) found = found || e.command.rfind(std::string("fxmimo ") + command, 0) == 0;
     EXPECT_TRUE(found) << "no README block runs fxmimo " << command;

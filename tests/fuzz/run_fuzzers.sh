@@ -9,7 +9,7 @@
 set -euo pipefail
 root=$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd)
 build=$root/build/fuzz
-all_targets=(scenario format quant dump manifest npy results cli)
+all_targets=(scenario format quant dump manifest npy results part cli)
 parallel=2
 
 if [[ $# -lt 1 || ! $1 =~ ^[0-9]+$ || $1 -eq 0 ]]; then

@@ -131,6 +131,19 @@ run_results run_trials(trial_cache& cache, const datapath::datapath_config& conf
                        const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
                        const progress_callback& progress = {});
 
+/// The per-trial figures of the given trials, evaluated on `num_threads` threads (0: all
+/// cores), in the order of `trial_indices` (any number, none included): what run_trials reduces,
+/// and what a shard of a run (`run --shard`) writes.
+std::vector<trial_summary> evaluate_trials(const golden::scenario& scen, const datapath::datapath_config& config,
+                                           const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
+                                           const progress_callback& progress = {});
+
+/// Reduces per-trial figures in the order given (per_trial[i] of trial_indices[i]; at least one)
+/// into a run's results: run_trials is evaluate_trials then this, so figures read back from
+/// shards reduce to the same bits as one process.
+run_results reduce_trials(const golden::scenario& scen, const datapath::datapath_config& config,
+                          const std::vector<std::uint64_t>& trial_indices, const std::vector<trial_summary>& per_trial);
+
 /// 0, 1, ..., n-1.
 std::vector<std::uint64_t> first_trials(int n);
 

@@ -7,6 +7,7 @@
 #include <vector>
 
 #include "fxmimo/analysis/runner.hpp"
+#include "fxmimo/analysis/shard.hpp"
 
 namespace fxmimo::analysis {
 
@@ -14,6 +15,8 @@ namespace fxmimo::analysis {
 /// kept), or integer bits (fraction bits kept).
 enum class sweep_axis { frac, word, int_bits };
 std::string_view to_string(sweep_axis axis);
+/// The axis named "frac", "word" or "int"; nullopt for anything else.
+std::optional<sweep_axis> parse_sweep_axis(std::string_view name);
 
 /// `base` with the swept quantity set to `bits`; throws std::invalid_argument when the result
 /// is not a datapath format (fewer than 2 or more than 64 word bits).
@@ -37,14 +40,21 @@ struct sweep_results {
   std::vector<sweep_point> points;  ///< node by node, bits rising
 };
 
+/// The number of points of a sweep over `nodes` and bits lo..hi: node by node, bits rising
+/// (point i is node i / (hi - lo + 1) at bits lo + i % (hi - lo + 1)).
+std::size_t sweep_point_count(const std::vector<datapath::node_id>& nodes, int lo, int hi);
+
 /// Runs the sweep: for each node and each bits in [lo, hi], run_trials with that one format
 /// changed. Progress counts trials over all points. The points share a trial_cache of
 /// `cache_budget_bytes` (default_cache_budget_bytes when absent; 0 keeps nothing): results are
-/// the same with any budget.
+/// the same with any budget. With `points` (a shard's share), only those points are run and
+/// returned; every point's format is checked all the same, and each point's results are those of
+/// the whole sweep.
 sweep_results run_sweep(const golden::scenario& scen, const datapath::datapath_config& config,
                         const std::vector<datapath::node_id>& nodes, int lo, int hi, sweep_axis axis,
                         const std::vector<std::uint64_t>& trials, unsigned num_threads,
-                        const progress_callback& progress = {}, std::optional<double> cache_budget_bytes = {});
+                        const progress_callback& progress = {}, std::optional<double> cache_budget_bytes = {},
+                        std::optional<index_range> points = {});
 
 /// A sweep over a scenario key (an operating point, not a width): each point is exactly `fxmimo
 /// run` of the scenario with KEY = value, every width as configured.
@@ -68,10 +78,11 @@ struct key_sweep_results {
 };
 
 /// Runs one point per scenario (the same scenario with the key set to values[i]); the scenarios
-/// must share the datapath's nodes. Progress counts trials over all points.
+/// must share the datapath's nodes. Progress counts trials over all points. With `points` (a
+/// shard's share), only those values are run and returned (every scenario is checked).
 key_sweep_results run_key_sweep(const std::vector<golden::scenario>& scenarios, const std::vector<std::string>& values,
                                 const std::string& key, const datapath::datapath_config& config,
                                 const std::vector<std::uint64_t>& trials, unsigned num_threads,
-                                const progress_callback& progress = {});
+                                const progress_callback& progress = {}, std::optional<index_range> points = {});
 
 }  // namespace fxmimo::analysis

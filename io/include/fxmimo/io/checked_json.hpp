@@ -58,9 +58,10 @@ class checked_json {
   /// The keys of an object, in the document's (sorted) order; fails unless an object.
   std::vector<std::string> keys() const;
 
-  std::string text() const;                             ///< a string
-  double number() const;                                ///< any JSON number
-  std::optional<double> number_or_null() const;         ///< a number, or null (non-finite values are written as null)
+  std::string text() const;                      ///< a string
+  double number() const;                         ///< any JSON number
+  std::optional<double> number_or_null() const;  ///< a number, or null (non-finite values are written as null)
+  double exact_double() const;  ///< a string exact_double_text wrote (exact_double.hpp): the same 64 bits
   long long integer(long long lo, long long hi) const;  ///< an integer in [lo, hi]
   int int_value() const;                                ///< an integer in the range of int
   std::uint64_t count() const;                          ///< a non-negative integer
