@@ -113,14 +113,14 @@ trial_summary summarise_trial(const datapath::datapath_plan& plan, const golden:
   const golden::trial_data& trial = g.trial;
   auto again = [&](datapath::node_id id) { return earlier == nullptr || (*recomputed)[datapath::index_of(id)]; };
   const std::vector<bool> data_stage = plan.data_stages(), data_node = plan.data_nodes();
-  std::vector<datapath::node_id> data_nodes;               // in plan order
+  std::vector<datapath::node_id> data_nodes;  // in plan order
+  for (datapath::node_id id : plan.nodes())
+    if (data_node[datapath::index_of(id)]) data_nodes.push_back(id);
   std::vector<bool> run_stage(plan.stages.size(), false);  // the data stages to run
   for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage) {
     if (!data_stage[i_stage]) continue;
-    for (const datapath::port& p : plan.stages[i_stage]->ports()) {
-      data_nodes.push_back(p.node);
+    for (const datapath::port& p : plan.stages[i_stage]->ports())
       run_stage[i_stage] = run_stage[i_stage] || again(p.node);
-    }
   }
   const bool earlier_words = earlier != nullptr && !earlier->data_words.empty();
   if (!earlier_words) {

@@ -4,6 +4,8 @@
 #include <fmt/core.h>
 
 #include <algorithm>
+#include <optional>
+#include <span>
 
 #include "fxmimo/datapath/node_table.hpp"
 #include "fxmimo/io/exact_double.hpp"
@@ -113,59 +115,86 @@ analysis::trial_summary trial_from_json(const checked_json& j, std::vector<datap
 
 // --- a sweep's points
 
-json summary_json(const analysis::run_summary& s) {
-  json out = {{"sinr_golden_db", exact(s.sinr_golden_db)},
-              {"sinr_fixed_db", exact(s.sinr_fixed_db)},
-              {"sinr_loss_db", exact(s.sinr_loss_db)},
-              {"evm_golden_pct", exact(s.evm_golden_pct)},
-              {"evm_fixed_pct", exact(s.evm_fixed_pct)},
-              {"evm_impl_pct", exact(s.evm_impl_pct)},
-              {"tx_power_error_db", exact(s.tx_power_error_db)},
-              {"max_abs_tx_power_error_db", exact(s.max_abs_tx_power_error_db)},
-              {"rms_tx_power_error_db", exact(s.rms_tx_power_error_db)}};
-  if (s.evm_limit_pct) out["evm_limit_pct"] = exact(*s.evm_limit_pct);
+/// The double members of a results struct and their keys: one table serves both directions.
+template <class S>
+struct double_field {
+  const char* key;
+  double S::*member;
+};
+template <class S>
+struct optional_field {
+  const char* key;
+  std::optional<double> S::*member;
+};
+
+template <class S>
+struct exact_fields {
+  std::span<const double_field<S>> doubles;
+  std::span<const optional_field<S>> optionals;  // written only when present
+};
+
+template <class S>
+json fields_json(const S& s, const exact_fields<S>& f) {
+  json out = json::object();
+  for (const auto& d : f.doubles) out[d.key] = exact(s.*d.member);
+  for (const auto& o : f.optionals)
+    if (s.*o.member) out[o.key] = exact(*(s.*o.member));
   return out;
 }
 
-analysis::run_summary summary_from_json(const checked_json& j) {
-  analysis::run_summary s;
-  s.sinr_golden_db = j["sinr_golden_db"].exact_double();
-  s.sinr_fixed_db = j["sinr_fixed_db"].exact_double();
-  s.sinr_loss_db = j["sinr_loss_db"].exact_double();
-  s.evm_golden_pct = j["evm_golden_pct"].exact_double();
-  s.evm_fixed_pct = j["evm_fixed_pct"].exact_double();
-  s.evm_impl_pct = j["evm_impl_pct"].exact_double();
-  s.tx_power_error_db = j["tx_power_error_db"].exact_double();
-  s.max_abs_tx_power_error_db = j["max_abs_tx_power_error_db"].exact_double();
-  s.rms_tx_power_error_db = j["rms_tx_power_error_db"].exact_double();
-  if (const auto v = j.find("evm_limit_pct")) s.evm_limit_pct = v->exact_double();
+template <class S>
+void fields_from_json(const checked_json& j, const exact_fields<S>& f, S& s) {
+  for (const auto& d : f.doubles) s.*d.member = j[d.key].exact_double();
+  for (const auto& o : f.optionals)
+    if (const auto v = j.find(o.key)) s.*o.member = v->exact_double();
+}
+
+using analysis::run_distribution;
+using analysis::run_summary;
+
+constexpr double_field<run_summary> summary_doubles[] = {
+    {"sinr_golden_db", &run_summary::sinr_golden_db},
+    {"sinr_fixed_db", &run_summary::sinr_fixed_db},
+    {"sinr_loss_db", &run_summary::sinr_loss_db},
+    {"evm_golden_pct", &run_summary::evm_golden_pct},
+    {"evm_fixed_pct", &run_summary::evm_fixed_pct},
+    {"evm_impl_pct", &run_summary::evm_impl_pct},
+    {"tx_power_error_db", &run_summary::tx_power_error_db},
+    {"max_abs_tx_power_error_db", &run_summary::max_abs_tx_power_error_db},
+    {"rms_tx_power_error_db", &run_summary::rms_tx_power_error_db}};
+constexpr optional_field<run_summary> summary_optionals[] = {{"evm_limit_pct", &run_summary::evm_limit_pct}};
+constexpr exact_fields<run_summary> summary_fields{summary_doubles, summary_optionals};
+
+constexpr double_field<run_distribution> distribution_doubles[] = {
+    {"sinr_loss_p5_db", &run_distribution::sinr_loss_p5_db},
+    {"sinr_loss_p50_db", &run_distribution::sinr_loss_p50_db},
+    {"sinr_loss_p95_db", &run_distribution::sinr_loss_p95_db},
+    {"evm_impl_p95_pct", &run_distribution::evm_impl_p95_pct},
+    {"evm_impl_max_pct", &run_distribution::evm_impl_max_pct}};
+constexpr optional_field<run_distribution> distribution_optionals[] = {
+    {"gram_condition_p50", &run_distribution::gram_condition_p50},
+    {"gram_condition_p95", &run_distribution::gram_condition_p95},
+    {"gram_condition_max", &run_distribution::gram_condition_max}};
+constexpr exact_fields<run_distribution> distribution_fields{distribution_doubles, distribution_optionals};
+
+json summary_json(const run_summary& s) { return fields_json(s, summary_fields); }
+
+run_summary summary_from_json(const checked_json& j) {
+  run_summary s;
+  fields_from_json(j, summary_fields, s);
   return s;
 }
 
-json distribution_json(const analysis::run_distribution& d) {
-  json out = {{"sinr_loss_p5_db", exact(d.sinr_loss_p5_db)},
-              {"sinr_loss_p50_db", exact(d.sinr_loss_p50_db)},
-              {"sinr_loss_p95_db", exact(d.sinr_loss_p95_db)},
-              {"sinr_loss_percentiles_db", exact_list(d.sinr_loss_percentiles_db)},
-              {"evm_impl_p95_pct", exact(d.evm_impl_p95_pct)},
-              {"evm_impl_max_pct", exact(d.evm_impl_max_pct)}};
-  if (d.gram_condition_p50) out["gram_condition_p50"] = exact(*d.gram_condition_p50);
-  if (d.gram_condition_p95) out["gram_condition_p95"] = exact(*d.gram_condition_p95);
-  if (d.gram_condition_max) out["gram_condition_max"] = exact(*d.gram_condition_max);
+json distribution_json(const run_distribution& d) {
+  json out = fields_json(d, distribution_fields);
+  out["sinr_loss_percentiles_db"] = exact_list(d.sinr_loss_percentiles_db);
   return out;
 }
 
-analysis::run_distribution distribution_from_json(const checked_json& j) {
-  analysis::run_distribution d;
-  d.sinr_loss_p5_db = j["sinr_loss_p5_db"].exact_double();
-  d.sinr_loss_p50_db = j["sinr_loss_p50_db"].exact_double();
-  d.sinr_loss_p95_db = j["sinr_loss_p95_db"].exact_double();
+run_distribution distribution_from_json(const checked_json& j) {
+  run_distribution d;
+  fields_from_json(j, distribution_fields, d);
   d.sinr_loss_percentiles_db = exact_list_from(j["sinr_loss_percentiles_db"]);
-  d.evm_impl_p95_pct = j["evm_impl_p95_pct"].exact_double();
-  d.evm_impl_max_pct = j["evm_impl_max_pct"].exact_double();
-  if (const auto v = j.find("gram_condition_p50")) d.gram_condition_p50 = v->exact_double();
-  if (const auto v = j.find("gram_condition_p95")) d.gram_condition_p95 = v->exact_double();
-  if (const auto v = j.find("gram_condition_max")) d.gram_condition_max = v->exact_double();
   return d;
 }
 
