@@ -12,7 +12,8 @@ set -euo pipefail
 cd "$(dirname "${BASH_SOURCE[0]}")"
 
 required_packages=(g++ cmake ninja-build pkg-config libeigen3-dev libboost-dev libfmt-dev libgtest-dev libgmock-dev
-  libbenchmark-dev libcli11-dev libtomlplusplus-dev nlohmann-json3-dev libsystemc-dev libssl-dev libhwy-dev)
+  libbenchmark-dev libcli11-dev libtomlplusplus-dev nlohmann-json3-dev libsystemc-dev libssl-dev libhwy-dev
+  libopenmpi-dev openmpi-bin)
 # Used by tests that skip themselves, with a message, where absent: RTL simulators (Icarus,
 # Verilator, GHDL), NumPy and pytest with pybind11 (the Python module), xmllint (JUnit schema),
 # headless Chromium (renders the HTML report).

@@ -7,12 +7,14 @@
 #include <functional>
 #include <mutex>
 
+#include "fxmimo/analysis/processes.hpp"
 #include "fxmimo/analysis/runner.hpp"
 #include "fxmimo/analysis/statistics.hpp"
 #include "fxmimo/analysis/tail.hpp"
 #include "fxmimo/datapath/datapath.hpp"
 #include "fxmimo/golden/precoder.hpp"
 #include "fxmimo/golden/trial.hpp"
+#include "wire.hpp"
 
 namespace fxmimo::analysis {
 
@@ -85,58 +87,103 @@ range_results profile_ranges(const golden::scenario& scen, const datapath::datap
     const auto sizes = values_per_trial(scen);
     for (std::size_t i = 0; i < active.size(); ++i) keep[i] = values_to_keep(sizes[i].second * trials, overflow_prob);
   }
-  for_each_index_parallel(
-      trials, num_threads,
-      [&](std::size_t t) {
-        const golden::trial_data trial = golden::run_trial(scen, t);
-        const auto values = datapath::golden_block_values(plan, scen, trial);
-        if (trial.gram.size() > 0) conditions[t] = golden::condition_number(trial.gram);
-        // This trial's profile of each node, over its values (a data node's block by block).
-        std::vector<node_profile> mine(active.size());
-        auto add_values = [&](std::size_t i, const Eigen::MatrixXcd& g) {
-          const bool complex_node = datapath::node_is_complex(active[i]);
-          node_profile& p = mine[i];
-          for (Eigen::Index e = 0; e < g.size(); ++e) {
-            for (const double v : {std::abs(g(e).real()), complex_node ? std::abs(g(e).imag()) : -1.0}) {
-              if (v < 0) continue;
-              ++p.count;
-              p.largest.push_back(v);
-              if (v == 0.0) continue;
-              p.max_abs = std::max(p.max_abs, v);
-              ++p.histogram[static_cast<std::size_t>(
-                  std::clamp(static_cast<int>(std::floor(std::log2(v))), hist_min, hist_max) - hist_min)];
+  // In a process group (processes.hpp) this process profiles its share of the trials and the
+  // profiles are merged as the threads' are: sums, maxima and the largest values of all.
+  const index_range share = own_share(trials);
+  auto profile_share = [&] {
+    for_each_index_parallel(
+        share.size(), num_threads,
+        [&](std::size_t k) {
+          const std::size_t t = share.begin + k;
+          const golden::trial_data trial = golden::run_trial(scen, t);
+          const auto values = datapath::golden_block_values(plan, scen, trial);
+          if (trial.gram.size() > 0) conditions[t] = golden::condition_number(trial.gram);
+          // This trial's profile of each node, over its values (a data node's block by block).
+          std::vector<node_profile> mine(active.size());
+          auto add_values = [&](std::size_t i, const Eigen::MatrixXcd& g) {
+            const bool complex_node = datapath::node_is_complex(active[i]);
+            node_profile& p = mine[i];
+            for (Eigen::Index e = 0; e < g.size(); ++e) {
+              for (const double v : {std::abs(g(e).real()), complex_node ? std::abs(g(e).imag()) : -1.0}) {
+                if (v < 0) continue;
+                ++p.count;
+                p.largest.push_back(v);
+                if (v == 0.0) continue;
+                p.max_abs = std::max(p.max_abs, v);
+                ++p.histogram[static_cast<std::size_t>(
+                    std::clamp(static_cast<int>(std::floor(std::log2(v))), hist_min, hist_max) - hist_min)];
+              }
+            }
+            if (p.largest.size() > 2 * keep[i]) trim(p.largest, keep[i]);
+          };
+          const std::vector<bool> data_node = plan.data_nodes();
+          {
+            golden::data_stream stream(scen, trial);
+            golden::data_block block;
+            std::vector<Eigen::MatrixXcd> data_values;
+            while (stream.next(block)) {
+              datapath::golden_data_values(plan, scen, trial, block, values, data_values);
+              for (std::size_t i = 0; i < active.size(); ++i) {
+                const Eigen::MatrixXcd& g = data_values[datapath::index_of(active[i])];
+                if (data_node[datapath::index_of(active[i])]) add_values(i, g);
+              }
             }
           }
-          if (p.largest.size() > 2 * keep[i]) trim(p.largest, keep[i]);
-        };
-        const std::vector<bool> data_node = plan.data_nodes();
-        {
-          golden::data_stream stream(scen, trial);
-          golden::data_block block;
-          std::vector<Eigen::MatrixXcd> data_values;
-          while (stream.next(block)) {
-            datapath::golden_data_values(plan, scen, trial, block, values, data_values);
-            for (std::size_t i = 0; i < active.size(); ++i) {
-              const Eigen::MatrixXcd& g = data_values[datapath::index_of(active[i])];
-              if (data_node[datapath::index_of(active[i])]) add_values(i, g);
-            }
+          for (std::size_t i = 0; i < active.size(); ++i)
+            if (!data_node[datapath::index_of(active[i])]) add_values(i, values[datapath::index_of(active[i])]);
+          const std::lock_guard lock(mutex);
+          for (std::size_t i = 0; i < active.size(); ++i) {
+            node_profile& p = profile[i];
+            trim(mine[i].largest, keep[i]);
+            p.keep = keep[i];
+            p.count += mine[i].count;
+            p.max_abs = std::max(p.max_abs, mine[i].max_abs);
+            for (std::size_t b = 0; b < p.histogram.size(); ++b) p.histogram[b] += mine[i].histogram[b];
+            p.largest.insert(p.largest.end(), mine[i].largest.begin(), mine[i].largest.end());
+            if (p.largest.size() > 2 * keep[i]) trim(p.largest, keep[i]);
           }
-        }
-        for (std::size_t i = 0; i < active.size(); ++i)
-          if (!data_node[datapath::index_of(active[i])]) add_values(i, values[datapath::index_of(active[i])]);
-        const std::lock_guard lock(mutex);
-        for (std::size_t i = 0; i < active.size(); ++i) {
-          node_profile& p = profile[i];
-          trim(mine[i].largest, keep[i]);
-          p.keep = keep[i];
-          p.count += mine[i].count;
-          p.max_abs = std::max(p.max_abs, mine[i].max_abs);
-          for (std::size_t b = 0; b < p.histogram.size(); ++b) p.histogram[b] += mine[i].histogram[b];
-          p.largest.insert(p.largest.end(), mine[i].largest.begin(), mine[i].largest.end());
-          if (p.largest.size() > 2 * keep[i]) trim(p.largest, keep[i]);
-        }
-      },
-      progress);
+        },
+        progress);
+  };
+  if (const process_group* group = current_process_group(); group == nullptr || group->size() <= 1) {
+    profile_share();
+  } else {
+    const std::vector<std::string> shares = exchange_shares([&] {
+      profile_share();
+      wire::writer w;
+      for (std::size_t i = 0; i < active.size(); ++i) {
+        trim(profile[i].largest, keep[i]);
+        w.put(profile[i].count);
+        w.put(profile[i].max_abs);
+        w.put_vector(profile[i].histogram);
+        w.put_vector(profile[i].largest);
+      }
+      w.put_vector(std::vector<double>(conditions.begin() + static_cast<std::ptrdiff_t>(share.begin),
+                                       conditions.begin() + static_cast<std::ptrdiff_t>(share.end)));
+      return w.take();
+    });
+    std::vector<node_profile> merged(active.size());
+    std::size_t at = 0;
+    for (const std::string& bytes : shares) {
+      wire::reader r(bytes);
+      for (std::size_t i = 0; i < active.size(); ++i) {
+        node_profile& p = merged[i];
+        p.keep = keep[i];
+        p.count += r.get<std::uint64_t>();
+        p.max_abs = std::max(p.max_abs, r.get<double>());
+        const std::vector<std::uint64_t> histogram = r.get_vector<std::uint64_t>();
+        if (histogram.size() != p.histogram.size()) throw std::logic_error("a range share has another histogram");
+        for (std::size_t b = 0; b < histogram.size(); ++b) p.histogram[b] += histogram[b];
+        const std::vector<double> largest = r.get_vector<double>();
+        p.largest.insert(p.largest.end(), largest.begin(), largest.end());
+        trim(p.largest, keep[i]);
+      }
+      for (const double c : r.get_vector<double>()) conditions.at(at++) = c;
+      if (!r.at_end()) throw std::logic_error("a range share has bytes after its profile");
+    }
+    if (at != trials) throw std::logic_error("the range shares do not hold every trial once");
+    profile = std::move(merged);
+  }
 
   range_results out;
   out.scenario_name = scen.name;

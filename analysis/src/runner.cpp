@@ -9,12 +9,14 @@
 #include <mutex>
 #include <thread>
 
+#include "fxmimo/analysis/processes.hpp"
 #include "fxmimo/analysis/resources.hpp"
 #include "fxmimo/analysis/statistics.hpp"
 #include "fxmimo/analysis/trial_cache.hpp"
 #include "fxmimo/golden/link_metrics.hpp"
 #include "fxmimo/golden/precoder.hpp"
 #include "fxmimo/golden/trial.hpp"
+#include "wire.hpp"
 
 namespace fxmimo::analysis {
 
@@ -299,14 +301,72 @@ void for_each_index_parallel(std::size_t count, unsigned num_threads, const std:
 
 namespace {
 
-/// Evaluates every trial (on `num_threads` threads) into its own slot, in the order given.
+// Trial figures as processes exchange them (wire.hpp).
+void put_trials(wire::writer& w, const std::vector<trial_summary>& trials) {
+  static_assert(std::is_trivially_copyable_v<node_result>);
+  w.put<std::uint64_t>(trials.size());
+  for (const trial_summary& t : trials) {
+    w.put(t.trial_index);
+    w.put_vector(t.nodes);
+    w.put_vector(t.sinr_golden);
+    w.put_vector(t.sinr_fixed);
+    w.put_vector(t.evm_golden_pct);
+    w.put_vector(t.evm_fixed_pct);
+    w.put(t.evm_impl);
+    w.put(t.tx_power_error_db);
+    w.put(t.neumann_radius);
+    w.put(t.gram_condition);
+  }
+}
+
+void get_trials(wire::reader& r, std::vector<trial_summary>& out) {
+  const auto n = r.get<std::uint64_t>();
+  for (std::uint64_t i = 0; i < n; ++i) {
+    trial_summary t;
+    t.trial_index = r.get<std::uint64_t>();
+    t.nodes = r.get_vector<node_result>();
+    t.sinr_golden = r.get_vector<double>();
+    t.sinr_fixed = r.get_vector<double>();
+    t.evm_golden_pct = r.get_vector<double>();
+    t.evm_fixed_pct = r.get_vector<double>();
+    t.evm_impl = r.get<double>();
+    t.tx_power_error_db = r.get<double>();
+    t.neumann_radius = r.get<double>();
+    t.gram_condition = r.get<double>();
+    out.push_back(std::move(t));
+  }
+}
+
+/// Evaluates every trial (on `num_threads` threads) into its own slot, in the order given. In a
+/// process group (processes.hpp) this process evaluates its contiguous share and receives the
+/// others', so every process holds every trial's figures in the order given.
 std::vector<trial_summary> evaluate_each(const std::vector<std::uint64_t>& trial_indices, unsigned num_threads,
                                          const progress_callback& progress,
                                          const std::function<trial_summary(std::uint64_t)>& evaluate) {
-  std::vector<trial_summary> per_trial(trial_indices.size());
-  for_each_index_parallel(
-      trial_indices.size(), num_threads, [&](std::size_t i) { per_trial[i] = evaluate(trial_indices[i]); }, progress);
-  return per_trial;
+  auto evaluate_range = [&](index_range share) {
+    std::vector<trial_summary> per_trial(share.size());
+    for_each_index_parallel(
+        share.size(), num_threads, [&](std::size_t i) { per_trial[i] = evaluate(trial_indices[share.begin + i]); },
+        progress);
+    return per_trial;
+  };
+  const process_group* group = current_process_group();
+  if (group == nullptr || group->size() <= 1) return evaluate_range(all_indices(trial_indices.size()));
+  const index_range share = own_share(trial_indices.size());
+  const std::vector<std::string> shares = exchange_shares([&] {
+    wire::writer w;
+    put_trials(w, evaluate_range(share));
+    return w.take();
+  });
+  std::vector<trial_summary> all;
+  all.reserve(trial_indices.size());
+  for (const std::string& bytes : shares) {
+    wire::reader r(bytes);
+    get_trials(r, all);
+    if (!r.at_end()) throw std::logic_error("a share of trial figures has bytes after its trials");
+  }
+  if (all.size() != trial_indices.size()) throw std::logic_error("the shares do not hold every trial once");
+  return all;
 }
 
 }  // namespace

@@ -6,6 +6,7 @@
 #include <cstdio>
 #include <stdexcept>
 
+#include "fxmimo/analysis/processes.hpp"
 #include "fxmimo/analysis/resources.hpp"
 
 namespace fxmimo::cli {
@@ -29,9 +30,23 @@ bool runs_trials(const std::string& command) {
   return false;
 }
 
+/// The commands that spread their trials over the processes of an MPI job (README "On several
+/// processes (MPI)"); the others run on one process.
+bool spreads_over_processes(const std::string& command) {
+  for (const char* name : {"run", "range", "sweep", "tune"}) {
+    if (command == name) return true;
+  }
+  return false;
+}
+
 }  // namespace
 
 int last_exit_code() { return exit_code; }
+
+bool writes_outputs() {
+  const analysis::process_group* group = analysis::current_process_group();
+  return group == nullptr || group->rank() == 0;
+}
 
 void run_guarded(const std::string& command, const std::function<int()>& body) {
   if (runs_trials(command)) {
@@ -39,6 +54,13 @@ void run_guarded(const std::string& command, const std::function<int()>& body) {
     std::signal(SIGTERM, on_stop_signal);
   }
   try {
+    if (const analysis::process_group* group = analysis::current_process_group();
+        group != nullptr && group->size() > 1 && !spreads_over_processes(command)) {
+      throw usage_error(fmt::format(
+          "runs on one process, not on the {} of this MPI job (run, range, sweep and tune spread over processes); "
+          "start it without mpirun",
+          group->size()));
+    }
     exit_code = body();
     analysis::throw_if_stop_requested();  // a stop during the last writes: say so, exit as stopped
   } catch (const analysis::stop_requested& e) {
@@ -48,6 +70,10 @@ void run_guarded(const std::string& command, const std::function<int()>& body) {
                : e.signal == SIGTERM ? "SIGTERM"
                                      : fmt::format("signal {}", e.signal));
     exit_code = 128 + e.signal;
+  } catch (const analysis::process_failure& e) {
+    std::fflush(stdout);
+    fmt::print(stderr, "fxmimo {}: {}; nothing was written\n", command, e.what());
+    exit_code = exit_process_failed;
   } catch (const std::invalid_argument& e) {  // a logic_error by type, but bad input by use here
     std::fflush(stdout);
     fmt::print(stderr, "fxmimo {}: {}\n", command, e.what());

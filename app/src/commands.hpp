@@ -12,7 +12,8 @@ namespace fxmimo::cli {
 inline constexpr int exit_ok = 0;
 inline constexpr int exit_check_failed = 1;
 inline constexpr int exit_usage = 2;
-inline constexpr int exit_internal = 3;  ///< a broken invariant inside fxmimo (a logic_error)
+inline constexpr int exit_internal = 3;        ///< a broken invariant inside fxmimo (a logic_error)
+inline constexpr int exit_process_failed = 4;  ///< another process of an MPI job failed
 
 /// Bad input the user can fix: printed as "fxmimo CMD: message", exit code 2.
 struct usage_error : std::runtime_error {
@@ -21,6 +22,9 @@ struct usage_error : std::runtime_error {
 
 void register_commands(CLI::App& app);
 int last_exit_code();
+/// Whether this process writes the command's output files: alone, or rank 0 of an MPI job
+/// (the other ranks compute their shares and write nothing).
+bool writes_outputs();
 /// Runs a command body; its return value (or 2 after an exception) becomes the exit code.
 void run_guarded(const std::string& command, const std::function<int()>& body);
 

@@ -13,7 +13,9 @@ namespace fxmimo::cli {
 
 /// Writes text through a temporary file beside `path` and a rename: a reader never sees half a
 /// file, and a failed run leaves an earlier file untouched.
+/// In an MPI job only rank 0 writes (writes_outputs); the others return at once.
 inline void write_file_atomically(const std::filesystem::path& path, const std::string& text) {
+  if (!writes_outputs()) return;
   const std::filesystem::path temp = path.string() + ".partial";
   {
     std::ofstream out(temp, std::ios::binary | std::ios::trunc);

@@ -44,8 +44,8 @@ int run_program(int argc, char** argv) {
   app.set_version_flag("--version", FXMIMO_VERSION);
   app.footer(
       "Run 'fxmimo COMMAND --help' for a command's options and examples.\n"
-      "Exit codes: 0 ok, 1 a check failed, 2 bad usage or input, 3 internal error, 130/143 stopped by\n"
-      "SIGINT/SIGTERM.");
+      "Exit codes: 0 ok, 1 a check failed, 2 bad usage or input, 3 internal error, 4 another process of\n"
+      "an MPI job failed, 130/143 stopped by SIGINT/SIGTERM.");
   cli::register_commands(app);
   std::vector<std::string> args(argv, argv + argc);
   for (std::size_t i = 1; i < args.size() && args[i] != "--"; ++i) {

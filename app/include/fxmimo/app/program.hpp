@@ -6,7 +6,7 @@
 namespace fxmimo::app {
 
 /// Parses the command line and runs one command. Returns the exit code: 0 ok, 1 a check
-/// failed, 2 bad usage or input, 3 an internal error.
+/// failed, 2 bad usage or input, 3 an internal error, 4 another process of an MPI job failed.
 int run_program(int argc, char** argv);
 
 }  // namespace fxmimo::app
