@@ -4,8 +4,8 @@
 #   ./run.sh demo [ARGS...]   build, then run `fxmimo demo ARGS...`
 #   ./run.sh test             build, then run the whole test suite (ctest)
 #   ./run.sh bench            build, then run the Google Benchmark programs
-#   ./run.sh asan             build and test under address + undefined-behaviour sanitizers
-#   ./run.sh fuzz [SECONDS]   build the libFuzzer targets (clang), fuzz every parser SECONDS (600)
+#   ./run.sh asan             build and test under address + undefined-behaviour sanitizers (clang)
+#   ./run.sh fuzz [SECONDS]   build the sanitizer tree's libFuzzer targets, fuzz every parser SECONDS (600)
 #   ./run.sh slurm            install Slurm and munge, build, run the Slurm examples on a local cluster
 # Environment: FXMIMO_WERROR=ON turns warnings into errors (CI sets it).
 set -euo pipefail
@@ -75,7 +75,7 @@ case $command in
     done
     ;;
   asan)
-    install_packages "${required_packages[@]}" "${optional_packages[@]}"
+    install_packages "${required_packages[@]}" "${optional_packages[@]}" clang
     configure_and_build asan
     ctest --preset asan -j "$jobs" "$@"
     ;;
@@ -84,7 +84,7 @@ case $command in
     ;;
   fuzz)
     install_packages "${required_packages[@]}" clang
-    configure_and_build fuzz
+    configure_and_build asan --target fuzz_programs
     exec tests/fuzz/run_fuzzers.sh "${1:-600}" "${@:2}"
     ;;
   slurm)

@@ -166,10 +166,13 @@ void add_run_command(CLI::App& app) {
       "implementation EVM at the DAC beside the 3GPP base-station EVM limit.\n"
       "With --shard I/N the run computes the I-th of N contiguous blocks of the trials and writes their\n"
       "figures to -o; fxmimo merge on the N parts prints and writes what the run without --shard does.\n"
+      "Under mpirun (a build with MPI) the trials are spread over the ranks; rank 0 prints and writes, and the\n"
+      "results are byte for byte those of one process.\n"
       "Examples:\n"
       "  fxmimo run -c examples/rooftop-64.toml\n"
       "  fxmimo run -c examples/tower-128-neumann.toml --trials 50 --threads 2 --json run.json\n"
-      "  fxmimo run -c examples/tower-128-neumann.toml --trials 50 --shard 2/4 -o part-2.json");
+      "  fxmimo run -c examples/tower-128-neumann.toml --trials 50 --shard 2/4 -o part-2.json\n"
+      "  mpirun -np 3 fxmimo run -c examples/metro-7-shadowed.toml --trials 300 --threads 1 --json run.json");
   cmd->callback([opt] { run_guarded("run", [opt] { return run_run(*opt); }); });
 }
 

@@ -411,7 +411,8 @@ void add_range_command(CLI::App& app) {
       "  fxmimo range -c examples/rooftop-64.toml\n"
       "  fxmimo range -c examples/rooftop-64.toml --range-trials 200 --overflow-prob 1e-4 --write-scenario "
       "ranged.toml\n"
-      "  fxmimo range -c examples/rooftop-64.toml --range-budget 600");
+      "  fxmimo range -c examples/rooftop-64.toml --range-budget 600\n"
+      "  mpirun -np 4 fxmimo range -c examples/rooftop-64.toml --range-trials 20000 --threads 1");
   cmd->callback([opt] { run_guarded("range", [opt] { return run_range(*opt); }); });
 }
 
@@ -445,7 +446,8 @@ void add_sweep_command(CLI::App& app) {
       "  fxmimo sweep -c examples/rooftop-64.toml --node gram --bits 6:12 --vary int --json gram.json\n"
       "  fxmimo sweep -c examples/rooftop-64.toml --node all --bits 10:14 --trials 8 --csv all.csv\n"
       "  fxmimo sweep -c examples/village-16-mf.toml --key array.antennas --values 16,32,64,128,256 --json m.json\n"
-      "  fxmimo sweep -c examples/rooftop-64.toml --node all --bits 10:14 --shard 3/8 -o part-3.json");
+      "  fxmimo sweep -c examples/rooftop-64.toml --node all --bits 10:14 --shard 3/8 -o part-3.json\n"
+      "  mpirun -np 4 fxmimo sweep -c examples/rooftop-64.toml --node all --bits 10:14 --threads 1 --json all.json");
   cmd->callback([opt] { run_guarded("sweep", [opt] { return run_sweep_command(*opt); }); });
 }
 
@@ -511,6 +513,7 @@ void add_tune_command(CLI::App& app) {
       "Integer bits come from range profiling; fraction bits from a per-node minimum and greedy add/remove passes.\n"
       "The verification runs on fresh trials, none seen by the search or the range profile, and prints the\n"
       "overflow-rate bound it proves. Exit code 1 when the choice does not meet the limits on those trials.\n"
+      "Under mpirun (a build with MPI) every evaluation's trials are spread over the ranks, with the same result.\n"
       "Examples:\n"
       "  fxmimo tune -c examples/rooftop-64.toml --max-sinr-loss 0.05 --max-evm 0.5 -o tuned.toml\n"
       "  fxmimo tune -c examples/tower-128-neumann.toml --modulation scenario --evm-budget 0.2 --cost area -o t.toml "
@@ -518,7 +521,8 @@ void add_tune_command(CLI::App& app) {
       "  fxmimo tune -c examples/rooftop-64.toml --max-evm 0.5 -o tuned.toml --junit tune.xml\n"
       "  fxmimo tune -c examples/rooftop-64.toml --max-evm 0.5 --max-sinr-loss 0.2 --sinr-loss-at 95 -o t.toml\n"
       "  fxmimo tune -c examples/village-16-mf.toml --max-evm 1 --corner data.snr_db=10,20,30 \\\n"
-      "      --corner 'cells.users_per_cell=2,4' --corner 'cells.user_gains_db=[0.0, 6.0, 2.0, 4.0]' -o t.toml");
+      "      --corner 'cells.users_per_cell=2,4' --corner 'cells.user_gains_db=[0.0, 6.0, 2.0, 4.0]' -o t.toml\n"
+      "  mpirun -np 8 fxmimo tune -c examples/metro-7-shadowed.toml --modulation scenario --threads 1 -o m.toml");
   cmd->callback([opt] { run_guarded("tune", [opt] { return run_tune(*opt); }); });
 }
 

@@ -17,6 +17,7 @@
 
 #include "fxmimo/analysis/runner.hpp"
 #include "fxmimo/golden/scenario.hpp"
+#include "sanitizers.hpp"
 
 namespace fs = std::filesystem;
 using namespace fxmimo;
@@ -77,16 +78,7 @@ double peak_rss_of_run(const std::string& scenario_text, const std::string& name
   return static_cast<double>(usage.ru_maxrss) * 1024.0;  // kilobytes on Linux (getrusage(2))
 }
 
-bool under_sanitizers() {
-#if defined(__SANITIZE_ADDRESS__)
-  return true;
-#elif defined(__has_feature)
-#if __has_feature(address_sanitizer)
-  return true;
-#endif
-#endif
-  return false;
-}
+bool under_sanitizers() { return fxmimo::test::built_with_asan(); }
 
 }  // namespace
 

@@ -12,6 +12,7 @@
 #include "../vectors/test_support.hpp"
 #include "fxmimo/vectors/vector_set.hpp"
 #include "fxmimo_dpi.h"
+#include "sanitizers.hpp"
 
 namespace {
 
@@ -149,11 +150,7 @@ fs::path floor_scenario(const fs::path& dir) {
   return dir / "floor.toml";
 }
 
-#if defined(__SANITIZE_ADDRESS__)
-constexpr bool sanitized = true;
-#else
-constexpr bool sanitized = false;
-#endif
+constexpr bool sanitized = fxmimo::test::built_with_asan();
 
 TEST(DpiScoreboard, PassesOnTheExampleBlockAndCatchesAPlantedTruncation) {
   if (!have_program("verilator")) GTEST_SKIP() << "Verilator (Debian package verilator) is not installed";

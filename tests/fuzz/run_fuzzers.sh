@@ -1,14 +1,14 @@
 #!/usr/bin/env bash
-# Runs the built libFuzzer programs of build/fuzz (preset fuzz; this script builds nothing).
+# Runs the built libFuzzer programs of build/asan (preset asan; this script builds nothing).
 #   tests/fuzz/run_fuzzers.sh SECONDS [TARGET...]     (default: every target)
-# Each target runs for SECONDS on a scratch corpus build/fuzz/corpus-work/NAME, seeded from the
+# Each target runs for SECONDS on a scratch corpus build/asan/corpus-work/NAME, seeded from the
 # committed tests/fuzz/corpus/NAME (never written to), two targets at a time. Crashes, leaks,
 # sanitizer reports, timeouts (10 s) and out-of-memory (2 GB) inputs land in
-# build/fuzz/findings/NAME/. Prints executions, seconds and the verdict per target; exits 1 when
+# build/asan/findings/NAME/. Prints executions, seconds and the verdict per target; exits 1 when
 # any target found something (0 with FXMIMO_FUZZ_REPORT_ONLY=1, which only reports), 2 on bad usage.
 set -euo pipefail
 root=$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd)
-build=$root/build/fuzz
+build=$root/build/asan
 all_targets=(scenario format quant dump manifest npy results part cli)
 parallel=2
 
@@ -22,7 +22,7 @@ targets=("$@")
 [[ ${#targets[@]} -eq 0 ]] && targets=("${all_targets[@]}")
 for name in "${targets[@]}"; do
   if [[ ! -x $build/tests/fuzz/fuzz_$name ]]; then
-    echo "run_fuzzers.sh: $build/tests/fuzz/fuzz_$name is not built (cmake --preset fuzz && cmake --build --preset fuzz)" >&2
+    echo "run_fuzzers.sh: $build/tests/fuzz/fuzz_$name is not built (cmake --preset asan && cmake --build --preset asan --target fuzz_programs)" >&2
     exit 2
   fi
 done

@@ -417,7 +417,8 @@ TEST_P(tune_section, widths_cost_margins_and_the_verdict_of_the_re_verification)
   EXPECT_EQ(verdict.find(tc.not_verdict), std::string::npos) << verdict;
   const json widths = table_starting(page, "node");
   for (const auto& [node, n] : tune["nodes"].items()) {
-    const auto row = std::find_if(widths.begin(), widths.end(), [&](const json& r) { return r[0] == node; });
+    const std::string name = node;  // a lambda may not capture a structured binding (clang 14)
+    const auto row = std::find_if(widths.begin(), widths.end(), [&](const json& r) { return r[0] == name; });
     ASSERT_NE(row, widths.end()) << node;
     EXPECT_EQ((*row)[1], n["format"]);
     EXPECT_EQ((*row)[2], std::to_string(n["word_bits"].get<int>()));

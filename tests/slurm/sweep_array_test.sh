@@ -4,12 +4,15 @@
 # submitted with sbatch --wait and its parts merged here, then examples/slurm/submit-sweep.sh
 # (array and dependent merge job); both merged outputs (JSON, CSV, the printed table) must equal
 # byte for byte what the same sweep without --shard writes (the program's own unsharded run).
-#   tests/slurm/sweep_array_test.sh FXMIMO WORK_DIR
+# In a build with MPI, also examples/slurm/tune-mpi.sbatch on 2 tasks (srun --mpi=pmix): its
+# tuned scenario and JSON must equal the same tune in one process.
+#   tests/slurm/sweep_array_test.sh FXMIMO WORK_DIR [HAVE_MPI: ON or OFF]
 # Exit 77 (ctest: skipped) where Slurm or munge is not installed or root is not to be had;
 # `./run.sh slurm` installs them and runs this test (ctest label slurm).
 set -euo pipefail
 exe=$1
 work=$2
+have_mpi=${3:-OFF}
 source_dir=$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd)
 export PATH="$PATH:/usr/local/sbin:/usr/sbin:/sbin"
 start=$SECONDS
@@ -59,4 +62,19 @@ same "sbatch --wait --array=1-3, then fxmimo merge" whole.json array.json whole.
 FXMIMO=$exe FXMIMO_SWEEP=$sweep FXMIMO_PARTS=$work/job-parts FXMIMO_RESULTS=$work/job SBATCH_WAIT=1 \
   timeout 120 examples/slurm/submit-sweep.sh 5 --cpus-per-task=1
 same "submit-sweep.sh 5 (array and dependent merge job)" whole.json job.json whole.csv job.csv
+
+# 3. The MPI tune on two tasks of one job, against the same tune in one process.
+if [[ $have_mpi == ON ]]; then
+  tune="-c examples/rooftop-64.toml --trials 4 --range-trials 100 --verify-trials 6 --max-sinr-loss 0.3 --max-evm 2"
+  # shellcheck disable=SC2086
+  "$exe" tune $tune -o alone.toml --json alone.json >alone.txt || [[ $? -eq 1 ]]
+  FXMIMO=$exe FXMIMO_TUNE="$tune -o ranks.toml --json ranks.json" \
+    timeout 180 sbatch --wait --ntasks=2 --cpus-per-task=1 --output="$work/tune-%j.log" examples/slurm/tune-mpi.sbatch ||
+    [[ $? -eq 1 ]] || { echo "slurm test: FAILED: the MPI tune job failed:"; cat "$work"/tune-*.log; exit 1; }
+  cmp alone.toml ranks.toml && cmp alone.json ranks.json ||
+    { echo "slurm test: FAILED: the MPI tune on 2 tasks differs from one process"; exit 1; }
+  echo "slurm test: tune-mpi.sbatch on 2 tasks (srun --mpi=pmix): byte-identical to one process"
+else
+  echo "slurm test: tune-mpi.sbatch not run: this fxmimo was built without MPI"
+fi
 echo "slurm test: passed in $((SECONDS - start)) s"
