@@ -31,19 +31,20 @@ process_failure::process_failure(std::size_t rank, std::size_t size, const std::
 
 process_group* current_process_group() { return current; }
 
+bool spread_over_processes() { return current != nullptr && current->size() > 1; }
+
 process_group_scope::process_group_scope(process_group* group) : previous_(current) { current = group; }
 
 process_group_scope::~process_group_scope() { current = previous_; }
 
 index_range own_share(std::size_t count) {
-  const process_group* g = current;
-  if (g == nullptr || g->size() <= 1) return all_indices(count);
-  return shard{g->rank() + 1, g->size()}.share(count);
+  if (!spread_over_processes()) return all_indices(count);
+  return shard{current->rank() + 1, current->size()}.share(count);
 }
 
 std::vector<std::string> exchange_shares(const std::function<std::string()>& compute) {
+  if (!spread_over_processes()) return {compute()};
   process_group* g = current;
-  if (g == nullptr || g->size() <= 1) return {compute()};
   std::string mine(1, share_ok);
   try {
     mine += compute();
@@ -76,8 +77,8 @@ std::vector<std::string> exchange_shares(const std::function<std::string()>& com
 }
 
 int finish_in_group(int exit_code, const std::string& message) {
+  if (!spread_over_processes()) return exit_code;
   process_group* g = current;
-  if (g == nullptr || g->size() <= 1) return exit_code;
   const std::string mine = process_finished + std::to_string(exit_code) + " " + message;
   // Processes still inside the command answer with a share; they stop at this round (their
   // exchange throws) and come here, so the rounds end when every process is done.

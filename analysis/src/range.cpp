@@ -66,21 +66,30 @@ range_results profile_ranges(const golden::scenario& scen, const datapath::datap
   // percentiles and the tail fit read. Counts, maxima and histograms are sums and maxima; the
   // kept values are the `keep` largest of all, a multiset that does not depend on the order the
   // trials finish in, so the profile is the same for any thread count.
+  auto trim = [](std::vector<double>& v, std::size_t keep) {
+    if (v.size() <= keep) return;
+    std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(keep), v.end(), std::greater<>());
+    v.resize(keep);
+  };
   struct node_profile {
     std::uint64_t count = 0;
     double max_abs = 0.0;
     std::vector<std::uint64_t> histogram = std::vector<std::uint64_t>(hist_max - hist_min + 1, 0);
     std::size_t keep = 0;
     std::vector<double> largest;
+    /// Adds another part's profile of the same node (a trial's, or a process's share).
+    void absorb(const node_profile& other, std::size_t keep_count, const decltype(trim)& trim_to) {
+      keep = keep_count;
+      count += other.count;
+      max_abs = std::max(max_abs, other.max_abs);
+      for (std::size_t b = 0; b < histogram.size(); ++b) histogram[b] += other.histogram[b];
+      largest.insert(largest.end(), other.largest.begin(), other.largest.end());
+      if (largest.size() > 2 * keep) trim_to(largest, keep);
+    }
   };
   std::vector<node_profile> profile(active.size());
   std::vector<double> conditions(trials, 0.0);  // per trial; 0 without a Gram
   std::mutex mutex;
-  auto trim = [](std::vector<double>& v, std::size_t keep) {
-    if (v.size() <= keep) return;
-    std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(keep), v.end(), std::greater<>());
-    v.resize(keep);
-  };
   // Values per trial of each node (a data node's over all N symbols), for how many to keep.
   std::vector<std::size_t> keep(active.size());
   {
@@ -133,19 +142,13 @@ range_results profile_ranges(const golden::scenario& scen, const datapath::datap
             if (!data_node[datapath::index_of(active[i])]) add_values(i, values[datapath::index_of(active[i])]);
           const std::lock_guard lock(mutex);
           for (std::size_t i = 0; i < active.size(); ++i) {
-            node_profile& p = profile[i];
             trim(mine[i].largest, keep[i]);
-            p.keep = keep[i];
-            p.count += mine[i].count;
-            p.max_abs = std::max(p.max_abs, mine[i].max_abs);
-            for (std::size_t b = 0; b < p.histogram.size(); ++b) p.histogram[b] += mine[i].histogram[b];
-            p.largest.insert(p.largest.end(), mine[i].largest.begin(), mine[i].largest.end());
-            if (p.largest.size() > 2 * keep[i]) trim(p.largest, keep[i]);
+            profile[i].absorb(mine[i], keep[i], trim);
           }
         },
         progress);
   };
-  if (const process_group* group = current_process_group(); group == nullptr || group->size() <= 1) {
+  if (!spread_over_processes()) {
     profile_share();
   } else {
     const std::vector<std::string> shares = exchange_shares([&] {
@@ -167,16 +170,14 @@ range_results profile_ranges(const golden::scenario& scen, const datapath::datap
     for (const std::string& bytes : shares) {
       wire::reader r(bytes);
       for (std::size_t i = 0; i < active.size(); ++i) {
-        node_profile& p = merged[i];
-        p.keep = keep[i];
-        p.count += r.get<std::uint64_t>();
-        p.max_abs = std::max(p.max_abs, r.get<double>());
-        const std::vector<std::uint64_t> histogram = r.get_vector<std::uint64_t>();
-        if (histogram.size() != p.histogram.size()) throw std::logic_error("a range share has another histogram");
-        for (std::size_t b = 0; b < histogram.size(); ++b) p.histogram[b] += histogram[b];
-        const std::vector<double> largest = r.get_vector<double>();
-        p.largest.insert(p.largest.end(), largest.begin(), largest.end());
-        trim(p.largest, keep[i]);
+        node_profile theirs;
+        theirs.count = r.get<std::uint64_t>();
+        theirs.max_abs = r.get<double>();
+        const std::size_t bins = theirs.histogram.size();
+        theirs.histogram = r.get_vector<std::uint64_t>();
+        if (theirs.histogram.size() != bins) throw std::logic_error("a range share has another histogram");
+        theirs.largest = r.get_vector<double>();
+        merged[i].absorb(theirs, keep[i], trim);
       }
       for (const double c : r.get_vector<double>()) conditions.at(at++) = c;
       if (!r.at_end()) throw std::logic_error("a range share has bytes after its profile");

@@ -350,8 +350,7 @@ std::vector<trial_summary> evaluate_each(const std::vector<std::uint64_t>& trial
         progress);
     return per_trial;
   };
-  const process_group* group = current_process_group();
-  if (group == nullptr || group->size() <= 1) return evaluate_range(all_indices(trial_indices.size()));
+  if (!spread_over_processes()) return evaluate_range(all_indices(trial_indices.size()));
   const index_range share = own_share(trial_indices.size());
   const std::vector<std::string> shares = exchange_shares([&] {
     wire::writer w;

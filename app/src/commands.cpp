@@ -23,21 +23,20 @@ extern "C" void on_stop_signal(int signal_number) {
   std::signal(signal_number, SIG_DFL);
 }
 
-bool runs_trials(const std::string& command) {
-  for (const char* name : {"run", "demo", "range", "sweep", "tune", "vectors"}) {
+bool one_of(const std::string& command, std::initializer_list<const char*> names) {
+  for (const char* name : names) {
     if (command == name) return true;
   }
   return false;
 }
 
+bool runs_trials(const std::string& command) {
+  return one_of(command, {"run", "demo", "range", "sweep", "tune", "vectors"});
+}
+
 /// The commands that spread their trials over the processes of an MPI job (README "On several
 /// processes (MPI)"); the others run on one process.
-bool spreads_over_processes(const std::string& command) {
-  for (const char* name : {"run", "range", "sweep", "tune"}) {
-    if (command == name) return true;
-  }
-  return false;
-}
+bool spreads_over_processes(const std::string& command) { return one_of(command, {"run", "range", "sweep", "tune"}); }
 
 }  // namespace
 
@@ -54,12 +53,11 @@ void run_guarded(const std::string& command, const std::function<int()>& body) {
     std::signal(SIGTERM, on_stop_signal);
   }
   try {
-    if (const analysis::process_group* group = analysis::current_process_group();
-        group != nullptr && group->size() > 1 && !spreads_over_processes(command)) {
+    if (analysis::spread_over_processes() && !spreads_over_processes(command)) {
       throw usage_error(fmt::format(
           "runs on one process, not on the {} of this MPI job (run, range, sweep and tune spread over processes); "
           "start it without mpirun",
-          group->size()));
+          analysis::current_process_group()->size()));
     }
     exit_code = body();
     analysis::throw_if_stop_requested();  // a stop during the last writes: say so, exit as stopped

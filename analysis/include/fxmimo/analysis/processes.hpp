@@ -7,7 +7,7 @@
 /// computes, for any number of processes. Without a group (the default), the process is alone.
 ///
 /// The analysis room knows no transport: the program supplies the group (the app room's MPI
-/// group, app/src/mpi_processes.cpp), and tests may supply their own.
+/// group, app/src/mpi_job.cpp), and tests may supply their own.
 
 #include <cstddef>
 #include <functional>
@@ -47,6 +47,9 @@ class process_failure : public std::runtime_error {
 /// The group the calling thread's analysis spreads over (the thread that runs the command; the
 /// trial threads it starts never exchange); nullptr when alone.
 process_group* current_process_group();
+
+/// Whether the calling thread's work is spread over a group of more than one process.
+bool spread_over_processes();
 
 /// Makes `group` the current one for the scope's lifetime (the previous one after it).
 class process_group_scope {
