@@ -10,6 +10,7 @@
 
 #include "fxmimo/golden/precoder.hpp"
 #include "stages/stages.hpp"
+#include "stages/units.hpp"
 
 namespace fxmimo::datapath {
 
@@ -121,6 +122,9 @@ datapath_plan stages_for(const golden::scenario& scen) {
   plan.dims.symbol = scen.data.num_symbols;
   plan.dims.term_user = neumann ? scen.cells.num_users * (scen.precoder.neumann_terms - 1) : 0;
   plan.dims.power_group = per_antenna ? scen.array.num_antennas : 1;
+  if (uses_inverse)
+    detail::divide_root_unit(fixedpoint::newton_function::reciprocal, scen.units.inv_diag_recip).set_dims(plan.dims);
+  detail::divide_root_unit(fixedpoint::newton_function::rsqrt, scen.units.norm).set_dims(plan.dims);
 
   auto& s = plan.stages;
   s.push_back(make_golden_converter(node_id::adc, [](const golden::trial_data& t) { return t.adc; }));
@@ -139,15 +143,15 @@ datapath_plan stages_for(const golden::scenario& scen) {
     const bool loaded = scen.precoder.kind == golden::precoder_kind::rzf;
     s.push_back(detail::make_gram(loaded ? std::optional<double>(scen.rzf_regularizer()) : std::nullopt));
     if (neumann) {
-      s.push_back(detail::make_neumann(scen.precoder.neumann_terms));
+      s.push_back(detail::make_neumann(scen.precoder.neumann_terms, scen.units.inv_diag_recip));
     } else {
       // LDL^H (the golden model's reference inversion is also realised by LDL^H here).
-      s.push_back(detail::make_ldl());
+      s.push_back(detail::make_ldl(scen.units.inv_diag_recip));
       s.push_back(detail::make_ldl_solves());
     }
   }
   s.push_back(detail::make_precoder(uses_inverse));
-  s.push_back(detail::make_power(per_antenna));
+  s.push_back(detail::make_power(per_antenna, scen.units.norm));
   const double p_dig = golden::digital_power(scen);
   const double gain = std::sqrt(per_antenna ? p_dig / scen.array.num_antennas : p_dig);
   s.push_back(make_golden_converter(

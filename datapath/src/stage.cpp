@@ -19,6 +19,10 @@ int dimension_sizes::size(dim d) const {
     case dim::symbol: return symbol;
     case dim::term_user: return term_user;
     case dim::power_group: return power_group;
+    case dim::recip_entry: return recip_entry;
+    case dim::recip_step: return recip_step;
+    case dim::rsqrt_entry: return rsqrt_entry;
+    case dim::rsqrt_step: return rsqrt_step;
     case dim::one: return 1;
   }
   throw std::logic_error("dimension_sizes::size: unknown dimension");
@@ -32,6 +36,10 @@ std::string_view dimension_sizes::name(dim d) const {
     case dim::symbol: return "symbol";
     case dim::term_user: return "term_user";
     case dim::power_group: return power_group == 1 ? "one" : "antenna";
+    case dim::recip_entry: return "rom_entry";
+    case dim::recip_step: return "newton_step";
+    case dim::rsqrt_entry: return "rom_entry";
+    case dim::rsqrt_step: return "newton_step";
     case dim::one: return "one";
   }
   throw std::logic_error("dimension_sizes::name: unknown dimension");

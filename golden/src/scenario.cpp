@@ -557,6 +557,31 @@ toml::table parse_toml(std::string_view text, const std::string& source_name) {
   }
 }
 
+namespace {
+
+void read_units(const checked_table& root, scenario& scen) {
+  const checked_table u(root.file(), sub_table(root, "units"), "units");
+  u.only({"inv_diag_recip", "norm"});
+  const auto read_one = [&](const char* name, unit_choice& out) {
+    if (!u.has(name)) return;
+    const checked_table t(root.file(), sub_table(u, name), std::string("units.") + name);
+    t.only({"kind", "seed_bits", "steps"});
+    out.newton = t.required("kind", t.choice<bool>("kind", {{"exact", false}, {"newton", true}}));
+    if (!out.newton) {
+      for (std::string_view key : {"seed_bits", "steps"})
+        if (t.has(key)) t.fail(key, "only used with kind = \"newton\"");
+    }
+    out.seed_bits = static_cast<int>(t.integer("seed_bits", 1, 16).value_or(6));
+    out.steps = static_cast<int>(t.integer("steps", 0, 8).value_or(2));
+  };
+  if (scen.precoder.kind == precoder_kind::mf && u.has("inv_diag_recip"))
+    u.fail("inv_diag_recip", "the matched-filter precoder inverts nothing (kind = \"mf\")");
+  read_one("inv_diag_recip", scen.units.inv_diag_recip);
+  read_one("norm", scen.units.norm);
+}
+
+}  // namespace
+
 scenario_document parse_scenario_document(std::string text, std::string source_name) {
   toml::table root = parse_toml(text, source_name);
   return {std::move(source_name), std::move(text), std::move(root)};
@@ -614,7 +639,7 @@ scenario parse_scenario(const scenario_document& doc) {
   const std::string& source_name = doc.source_name;
   const checked_table root(source_name, doc.root, "");
   root.only({"name", "seed", "trials", "array", "cells", "channel", "pilots", "estimator", "precoder", "data",
-             "frontend", "nodes"});
+             "frontend", "units", "nodes"});
 
   scenario scen;
   scen.source_name = source_name;
@@ -641,6 +666,7 @@ scenario parse_scenario(const scenario_document& doc) {
   read_precoder(root, scen);
   read_data(root, scen);
   read_frontend(root, scen);
+  read_units(root, scen);
   return scen;
 }
 

@@ -1,7 +1,7 @@
 // LDL^H of G, column by column (Golub & Van Loan, Matrix Computations, Alg. 4.1.2, complex
 // form), each sum in ldl_acc's accumulation order with G's entry as its first term:
 //   d_j  = Q(... Q(Q(G_jj) - Q(|l_j0|^2 d_0)) ... - Q(|l_j,j-1|^2 d_{j-1}))    [ldl_acc]
-//   r_j  = Q(1 / d_j)                                                       [inv_diag_recip]
+//   r_j  = Q(1 / d_j)  (or the table + Newton unit of [units.inv_diag_recip])  [inv_diag_recip]
 //   n_ij = Q(... Q(Q(G_ij) - Q(l_i0 conj(l_j0) d_0)) ...), i > j              [ldl_acc]
 //   l_ij = Q(n_ij r_j)                                                     [inv_factor]
 #include "fxmimo/golden/ldl.hpp"
@@ -9,6 +9,7 @@
 #include "../stage_support.hpp"
 #include "fxmimo/fixedpoint/divide.hpp"
 #include "stages.hpp"
+#include "units.hpp"
 
 namespace fxmimo::datapath::detail {
 
@@ -16,10 +17,9 @@ namespace {
 
 class ldl_stage final : public stage {
  public:
-  ldl_stage()
-      : stage("ldl", {{node_id::ldl_acc, {node_id::gram, node_id::inv_factor}},
-                      {node_id::inv_diag_recip, {node_id::ldl_acc}},
-                      {node_id::inv_factor, {node_id::ldl_acc, node_id::inv_diag_recip}}}) {}
+  explicit ldl_stage(const golden::unit_choice& recip_unit)
+      : stage("ldl", ldl_ports(divide_root_unit(fp::newton_function::reciprocal, recip_unit))),
+        unit_(fp::newton_function::reciprocal, recip_unit) {}
   /// Terms |l|^2 d and l conj(l) d (three factors), n_ij r_j, and G's entry with two headroom bits.
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
     const int factor = bits_of(c, node_id::inv_factor), acc = bits_of(c, node_id::ldl_acc);
@@ -27,13 +27,18 @@ class ldl_stage final : public stage {
                      product_bits({acc, bits_of(c, node_id::inv_diag_recip)}, factor), bits_of(c, source(0, 0)) + 2});
   }
   [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
-    return 4 * word_bits_of(c, node_id::inv_factor) * word_bits_of(c, node_id::inv_factor);
+    return 4 * word_bits_of(c, node_id::inv_factor) * word_bits_of(c, node_id::inv_factor) + unit_.multiplier_cost(c);
   }
   void compute(fixed_context& ctx) const override {
     const node_state g = state(ctx, source(0, 0));
     node_state acc_node = state(ctx, node_id::ldl_acc), recip = state(ctx, node_id::inv_diag_recip),
                factor = state(ctx, node_id::inv_factor);
-    with_width(work_bits(ctx.config), [&](auto tag) { run<decltype(tag)>(g, acc_node, recip, factor); });
+    divide_root_unit::session session = unit_.start(ctx, g.words->rows);
+    with_width(work_bits(ctx.config), [&](auto tag) {
+      run<decltype(tag)>(g, acc_node, recip, factor,
+                         [&](int j, word d, int d_frac) { return unit_.evaluate(session, j, d, d_frac, recip); });
+    });
+    unit_.finish(session);
   }
   void golden_view(golden_context& ctx) const override {
     const golden::ldl_factors f = ctx.trial.ldl ? *ctx.trial.ldl : golden::ldl_decompose(ctx.trial.gram);
@@ -49,12 +54,22 @@ class ldl_stage final : public stage {
     }
     ctx.set(node_id::ldl_acc, acc);
     ctx.set(node_id::inv_diag_recip, f.diag.cwiseInverse().cast<std::complex<double>>());
+    unit_.golden_view(ctx, f.diag);
     ctx.set(node_id::inv_factor, strict);
   }
 
  private:
-  template <class P>
-  static void run(const node_state& g, node_state& acc_node, node_state& recip, node_state& factor) {
+  static std::vector<port> ldl_ports(const divide_root_unit& unit) {
+    std::vector<port> p{{node_id::ldl_acc, {node_id::gram, node_id::inv_factor}}};
+    for (port& q : unit.ports(node_id::ldl_acc)) p.push_back(std::move(q));
+    p.push_back({node_id::inv_factor, {node_id::ldl_acc, node_id::inv_diag_recip}});
+    return p;
+  }
+
+  /// `reciprocal(j, d_j, frac)`: the unit's word r_j.
+  template <class P, class Reciprocal>
+  static void run(const node_state& g, node_state& acc_node, node_state& recip, node_state& factor,
+                  Reciprocal&& reciprocal) {
     const word_matrix& gm = *g.words;
     const int num_users = gm.rows;
     *acc_node.words = word_matrix(num_users, num_users, true);
@@ -77,8 +92,7 @@ class ldl_stage final : public stage {
       }
       d[static_cast<std::size_t>(j)] = fp::convert_int<word>(acc.result(*acc_node.counters).re);
       put(*acc_node.words, j, j, {d[static_cast<std::size_t>(j)], 0});
-      const word r =
-          fp::divide<word>(1, 0, d[static_cast<std::size_t>(j)], acc_node.frac(), recip.spec, *recip.counters);
+      const word r = reciprocal(j, d[static_cast<std::size_t>(j)], acc_node.frac());
       recip.words->re[static_cast<std::size_t>(j)] = r;
       for (int i = j + 1; i < num_users; ++i) {
         acc.reset();
@@ -95,10 +109,14 @@ class ldl_stage final : public stage {
       }
     }
   }
+
+  divide_root_unit unit_;
 };
 
 }  // namespace
 
-std::shared_ptr<stage> make_ldl() { return std::make_shared<ldl_stage>(); }
+std::shared_ptr<stage> make_ldl(const golden::unit_choice& recip_unit) {
+  return std::make_shared<ldl_stage>(recip_unit);
+}
 
 }  // namespace fxmimo::datapath::detail

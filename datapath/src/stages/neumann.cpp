@@ -1,19 +1,20 @@
 // Neumann series of T terms with D = diag(G), each sum in its node's accumulation order:
-//   r_i = Q(1 / G_ii)                      [inv_diag_recip]
+//   r_i = Q(1 / G_ii)  (or the table + Newton unit of [units.inv_diag_recip])  [inv_diag_recip]
 //   B_ij = Q(delta_ij - r_i G_ij)          [inv_iter]
 //   T_1 = B diag(r), T_n = B T_{n-1}: T_n[i,c] = sum over j (index order) of Q(B_ij T_{n-1}[j,c])  [inv_term]
 //   X[i,c] = Q(... Q(Q(diag(r)[i,c]) + Q(T_1[i,c])) ... + Q(T_{T-1}[i,c]))   [inv_out]
 #include "../stage_support.hpp"
 #include "fxmimo/fixedpoint/divide.hpp"
 #include "stages.hpp"
+#include "units.hpp"
 
 namespace fxmimo::datapath::detail {
 
 namespace {
 
-std::vector<port> neumann_ports(int num_terms) {
-  std::vector<port> p{{node_id::inv_diag_recip, {node_id::gram}},
-                      {node_id::inv_iter, {node_id::gram, node_id::inv_diag_recip}}};
+std::vector<port> neumann_ports(int num_terms, const divide_root_unit& unit) {
+  std::vector<port> p = unit.ports(node_id::gram);
+  p.push_back({node_id::inv_iter, {node_id::gram, node_id::inv_diag_recip}});
   if (num_terms > 1) p.push_back({node_id::inv_term, {node_id::inv_iter, node_id::inv_diag_recip}});
   p.push_back({node_id::inv_out, num_terms > 1 ? std::vector<node_id>{node_id::inv_diag_recip, node_id::inv_term}
                                                : std::vector<node_id>{node_id::inv_diag_recip}});
@@ -22,7 +23,10 @@ std::vector<port> neumann_ports(int num_terms) {
 
 class neumann_stage final : public stage {
  public:
-  explicit neumann_stage(int num_terms) : stage("neumann", neumann_ports(num_terms)), num_terms_(num_terms) {}
+  neumann_stage(int num_terms, const golden::unit_choice& recip_unit)
+      : stage("neumann", neumann_ports(num_terms, divide_root_unit(fp::newton_function::reciprocal, recip_unit))),
+        num_terms_(num_terms),
+        unit_(fp::newton_function::reciprocal, recip_unit) {}
   /// r G products, B T products, the sum of T terms with two headroom bits, and the exact 1 of
   /// I at r G's fraction bits.
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
@@ -34,7 +38,7 @@ class neumann_stage final : public stage {
                      c[node_id::inv_diag_recip].spec.fmt.frac_bits + c[node_id::gram].spec.fmt.frac_bits + 2});
   }
   [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
-    return 4 * word_bits_of(c, node_id::inv_iter) * word_bits_of(c, node_id::inv_term);
+    return 4 * word_bits_of(c, node_id::inv_iter) * word_bits_of(c, node_id::inv_term) + unit_.multiplier_cost(c);
   }
   /// Only the current term is stored (K x K), whatever T.
   [[nodiscard]] double storage_words(node_id id, const dimension_sizes& dims) const override {
@@ -45,6 +49,12 @@ class neumann_stage final : public stage {
     const node_state g = state(ctx, node_id::gram);
     node_state recip = state(ctx, node_id::inv_diag_recip), iter = state(ctx, node_id::inv_iter),
                term = state(ctx, node_id::inv_term), out = state(ctx, node_id::inv_out);
+    const word_matrix& gm = *g.words;
+    *recip.words = word_matrix(gm.rows, 1, false);
+    divide_root_unit::session session = unit_.start(ctx, gm.rows);
+    for (int i = 0; i < gm.rows; ++i)
+      recip.words->re[static_cast<std::size_t>(i)] = unit_.evaluate(session, i, get(gm, i, i).re, g.frac(), recip);
+    unit_.finish(session);
     with_width(work_bits(ctx.config), [&](auto tag) { run<decltype(tag)>(g, recip, iter, term, out); });
   }
   void golden_view(golden_context& ctx) const override {
@@ -53,6 +63,7 @@ class neumann_stage final : public stage {
     const Eigen::MatrixXcd identity = Eigen::MatrixXcd::Identity(num_users, num_users);
     const Eigen::VectorXd recip = gram.diagonal().real().cwiseInverse();
     ctx.set(node_id::inv_diag_recip, recip.cast<std::complex<double>>());
+    unit_.golden_view(ctx, gram.diagonal().real());
     const Eigen::MatrixXcd b = identity - recip.cast<std::complex<double>>().asDiagonal() * gram;
     ctx.set(node_id::inv_iter, b);
     const int num_extra = num_terms_ - 1;
@@ -70,16 +81,12 @@ class neumann_stage final : public stage {
 
  private:
   template <class P>
-  void run(const node_state& g, node_state& recip, node_state& iter, node_state& term_node, node_state& out) const {
+  void run(const node_state& g, const node_state& recip, node_state& iter, node_state& term_node,
+           node_state& out) const {
     const word_matrix& gm = *g.words;
     const int num_users = gm.rows;
-    *recip.words = word_matrix(num_users, 1, false);
     *iter.words = word_matrix(num_users, num_users, true);
     *out.words = word_matrix(num_users, num_users, true);
-    for (int i = 0; i < num_users; ++i) {
-      recip.words->re[static_cast<std::size_t>(i)] =
-          fp::divide<word>(1, 0, get(gm, i, i).re, g.frac(), recip.spec, *recip.counters);
-    }
     const fp::requantizer<P> q_iter(iter.spec);
     const int rg_frac = recip.frac() + g.frac();
     for (int i = 0; i < num_users; ++i) {
@@ -148,10 +155,13 @@ class neumann_stage final : public stage {
   }
 
   int num_terms_;
+  divide_root_unit unit_;
 };
 
 }  // namespace
 
-std::shared_ptr<stage> make_neumann(int num_terms) { return std::make_shared<neumann_stage>(num_terms); }
+std::shared_ptr<stage> make_neumann(int num_terms, const golden::unit_choice& recip_unit) {
+  return std::make_shared<neumann_stage>(num_terms, recip_unit);
+}
 
 }  // namespace fxmimo::datapath::detail

@@ -1,8 +1,10 @@
 // Power normalisation: power_acc = sum (rows m, then users k, index order, or the node's
-// accumulation order) of Q(|W[m,k]|^2), one sum (total) or one per antenna; norm = Q(1 / sqrt(power_acc)).
+// accumulation order) of Q(|W[m,k]|^2), one sum (total) or one per antenna; norm = Q(1 / sqrt(power_acc)),
+// or the table + Newton unit of [units.norm].
 #include "../stage_support.hpp"
 #include "fxmimo/fixedpoint/divide.hpp"
 #include "stages.hpp"
+#include "units.hpp"
 
 namespace fxmimo::datapath::detail {
 
@@ -10,15 +12,16 @@ namespace {
 
 class power_stage final : public stage {
  public:
-  explicit power_stage(bool per_antenna)
-      : stage("power", {{node_id::power_acc, {node_id::precoder}}, {node_id::norm, {node_id::power_acc}}}),
-        per_antenna_(per_antenna) {}
+  power_stage(bool per_antenna, const golden::unit_choice& rsqrt_unit)
+      : stage("power", power_ports(divide_root_unit(fp::newton_function::rsqrt, rsqrt_unit))),
+        per_antenna_(per_antenna),
+        unit_(fp::newton_function::rsqrt, rsqrt_unit) {}
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
     const int pre = bits_of(c, source(0, 0));
     return product_bits({pre, pre}, bits_of(c, node_id::power_acc)) + 1;
   }
   [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
-    return 2 * word_bits_of(c, source(0, 0)) * word_bits_of(c, source(0, 0));
+    return 2 * word_bits_of(c, source(0, 0)) * word_bits_of(c, source(0, 0)) + unit_.multiplier_cost(c);
   }
   /// |W|^2 = re^2 + im^2 < 2^(2m + 1), + 1 for the most negative words; log2(M K) for the sum.
   [[nodiscard]] std::optional<growth_rule> growth(node_id id, const datapath_config& c,
@@ -50,11 +53,14 @@ class power_stage final : public stage {
           power.words->re[static_cast<std::size_t>(i_ant)] = fp::convert_int<word>(acc.result(*power.counters));
       }
       if (!per_antenna_) power.words->re[0] = fp::convert_int<word>(acc.result(*power.counters));
-      for (int i = 0; i < num_sums; ++i) {
-        norm.words->re[static_cast<std::size_t>(i)] =
-            fp::rsqrt<word>(power.words->re[static_cast<std::size_t>(i)], power.frac(), norm.spec, *norm.counters);
-      }
     });
+    const int num_sums = power.words->rows;
+    divide_root_unit::session session = unit_.start(ctx, num_sums);
+    for (int i = 0; i < num_sums; ++i) {
+      norm.words->re[static_cast<std::size_t>(i)] =
+          unit_.evaluate(session, i, power.words->re[static_cast<std::size_t>(i)], power.frac(), norm);
+    }
+    unit_.finish(session);
   }
   void golden_view(golden_context& ctx) const override {
     const Eigen::MatrixXcd& w = ctx.trial.precoder;
@@ -62,14 +68,24 @@ class power_stage final : public stage {
         per_antenna_ ? Eigen::VectorXd(w.rowwise().squaredNorm()) : Eigen::VectorXd::Constant(1, w.squaredNorm());
     ctx.set(node_id::power_acc, power.cast<std::complex<double>>());
     ctx.set(node_id::norm, power.cwiseSqrt().cwiseInverse().cast<std::complex<double>>());
+    unit_.golden_view(ctx, power);
   }
 
  private:
+  static std::vector<port> power_ports(const divide_root_unit& unit) {
+    std::vector<port> p{{node_id::power_acc, {node_id::precoder}}};
+    for (port& q : unit.ports(node_id::power_acc)) p.push_back(std::move(q));
+    return p;
+  }
+
   bool per_antenna_;
+  divide_root_unit unit_;
 };
 
 }  // namespace
 
-std::shared_ptr<stage> make_power(bool per_antenna) { return std::make_shared<power_stage>(per_antenna); }
+std::shared_ptr<stage> make_power(bool per_antenna, const golden::unit_choice& rsqrt_unit) {
+  return std::make_shared<power_stage>(per_antenna, rsqrt_unit);
+}
 
 }  // namespace fxmimo::datapath::detail

@@ -11,15 +11,16 @@ namespace fxmimo::datapath::detail {
 
 // make_golden_converter and make_requantizer (converters.cpp) are public: stage_kit.hpp.
 
-std::shared_ptr<stage> make_correlator();                             // correlator.cpp: pilot_acc
-std::shared_ptr<stage> make_estimate();                               // estimate.cpp: chan_est (LS, MMSE)
-std::shared_ptr<stage> make_gram(std::optional<double> rzf_loading);  // gram.cpp
-std::shared_ptr<stage> make_ldl();                                    // ldl.cpp: ldl_acc, inv_diag_recip, inv_factor
-std::shared_ptr<stage> make_ldl_solves();                             // solves.cpp: inv_fwd, inv_out
-std::shared_ptr<stage> make_neumann(int num_terms);                   // neumann.cpp
-std::shared_ptr<stage> make_precoder(bool uses_inverse);              // precoder.cpp
-std::shared_ptr<stage> make_power(bool per_antenna);                  // power.cpp: power_acc, norm
-std::shared_ptr<stage> make_weights();                                // weights.cpp
-std::shared_ptr<stage> make_transmit();                               // transmit.cpp: tx_acc
+std::shared_ptr<stage> make_correlator();                                // correlator.cpp: pilot_acc
+std::shared_ptr<stage> make_estimate();                                  // estimate.cpp: chan_est (LS, MMSE)
+std::shared_ptr<stage> make_gram(std::optional<double> rzf_loading);     // gram.cpp
+std::shared_ptr<stage> make_ldl(const golden::unit_choice& recip_unit);  // ldl.cpp: ldl_acc, the unit, inv_factor
+std::shared_ptr<stage> make_ldl_solves();                                // solves.cpp: inv_fwd, inv_out
+std::shared_ptr<stage> make_neumann(int num_terms, const golden::unit_choice& recip_unit);  // neumann.cpp
+std::shared_ptr<stage> make_precoder(bool uses_inverse);                                    // precoder.cpp
+std::shared_ptr<stage> make_power(bool per_antenna,
+                                  const golden::unit_choice& rsqrt_unit);  // power.cpp: power_acc, the unit, norm
+std::shared_ptr<stage> make_weights();                                     // weights.cpp
+std::shared_ptr<stage> make_transmit();                                    // transmit.cpp: tx_acc
 
 }  // namespace fxmimo::datapath::detail

@@ -25,6 +25,10 @@ enum class node_id : std::uint16_t {
   chan_est,        ///< channel estimate H_hat = pilot_acc * est_scale (M x K)
   gram,            ///< G = H_hat^H H_hat (+ regulariser), summed over antennas (K x K)
   ldl_acc,         ///< LDL^H accumulator: d_j on the diagonal, l_ij d_j below (K x K)
+  recip_rom,       ///< seed ROM of a table + Newton reciprocal unit (2^a)
+  recip_mant,      ///< its normalised input mantissa m in [1/2, 1] (K)
+  recip_prod,      ///< its products p_k = m x_k, steps side by side (K x n)
+  recip_iter,      ///< its iterates x_k+1 = x_k (2 - p_k), steps side by side (K x n)
   inv_diag_recip,  ///< 1 / d_j (LDL) or 1 / G_jj (Neumann) (K)
   inv_factor,      ///< L, strictly lower part (K x K)
   inv_fwd,         ///< forward substitution L y = e_c, all columns: L^-1 (K x K)
@@ -33,6 +37,11 @@ enum class node_id : std::uint16_t {
   inv_out,         ///< G^-1 (K x K)
   precoder,        ///< W before scaling: conj(H_hat) (MF) or conj(H_hat G^-1) (M x K)
   power_acc,       ///< sum |W|^2, total (1) or per antenna (M)
+  rsqrt_rom,       ///< seed ROM of a table + Newton reciprocal square root unit (2^a)
+  rsqrt_mant,      ///< its normalised input mantissa m in [1/4, 1] (1 or M)
+  rsqrt_sq,        ///< its squares s_k = x_k^2, steps side by side (1 or M x n)
+  rsqrt_prod,      ///< its products p_k = m s_k (1 or M x n)
+  rsqrt_iter,      ///< its iterates x_k+1 = x_k (3 - p_k) / 2 (1 or M x n)
   norm,            ///< 1 / sqrt(power_acc) (1 or M)
   tx_gain,         ///< constant sqrt(P_dig) (total) or sqrt(P_dig / M) (per antenna)
   weights,         ///< W * norm * tx_gain (M x K)
@@ -50,6 +59,10 @@ enum class dim : std::uint8_t {
   symbol,        ///< N
   term_user,     ///< K (T - 1): Neumann terms n = 1..T-1 side by side, column (n-1) K + c
   power_group,   ///< M with per-antenna power normalisation, else 1 (named antenna or one)
+  recip_entry,   ///< 2^a: entries of the reciprocal unit's seed ROM
+  recip_step,    ///< n: the reciprocal unit's Newton steps
+  rsqrt_entry,   ///< 2^a: entries of the reciprocal square root unit's seed ROM
+  rsqrt_step,    ///< n: its Newton steps
   one,           ///< 1: a column vector's second dimension, left out of vector files
 };
 
@@ -115,6 +128,30 @@ inline constexpr std::array reference_node_table{
              {dim::user, dim::user},
              node_role::accumulator,
              "LDL^H accumulator: d_j on the diagonal, l_ij d_j below"},
+    node_row{node_id::recip_rom,
+             "recip_rom",
+             false,
+             {dim::recip_entry, dim::one},
+             node_role::rom,
+             "seed ROM of the reciprocal unit: 1 / (midpoint of entry i's mantissa interval)"},
+    node_row{node_id::recip_mant,
+             "recip_mant",
+             false,
+             {dim::user, dim::one},
+             node_role::register_,
+             "reciprocal unit: input magnitude normalised by its leading-one position, in [1/2, 1]"},
+    node_row{node_id::recip_prod,
+             "recip_prod",
+             false,
+             {dim::user, dim::recip_step},
+             node_role::register_,
+             "reciprocal unit: p_k = recip_mant x_k, Newton steps side by side"},
+    node_row{node_id::recip_iter,
+             "recip_iter",
+             false,
+             {dim::user, dim::recip_step},
+             node_role::register_,
+             "reciprocal unit: x_k+1 = x_k (2 - p_k), Newton steps side by side"},
     node_row{node_id::inv_diag_recip,
              "inv_diag_recip",
              false,
@@ -158,6 +195,36 @@ inline constexpr std::array reference_node_table{
              {dim::power_group, dim::one},
              node_role::accumulator,
              "sum |W|^2, total or per antenna"},
+    node_row{node_id::rsqrt_rom,
+             "rsqrt_rom",
+             false,
+             {dim::rsqrt_entry, dim::one},
+             node_role::rom,
+             "seed ROM of the reciprocal square root unit: 1 / sqrt(midpoint of entry i's interval)"},
+    node_row{node_id::rsqrt_mant,
+             "rsqrt_mant",
+             false,
+             {dim::power_group, dim::one},
+             node_role::register_,
+             "rsqrt unit: input normalised by an even shift, in [1/4, 1]"},
+    node_row{node_id::rsqrt_sq,
+             "rsqrt_sq",
+             false,
+             {dim::power_group, dim::rsqrt_step},
+             node_role::register_,
+             "rsqrt unit: s_k = x_k^2, Newton steps side by side"},
+    node_row{node_id::rsqrt_prod,
+             "rsqrt_prod",
+             false,
+             {dim::power_group, dim::rsqrt_step},
+             node_role::register_,
+             "rsqrt unit: p_k = rsqrt_mant s_k, Newton steps side by side"},
+    node_row{node_id::rsqrt_iter,
+             "rsqrt_iter",
+             false,
+             {dim::power_group, dim::rsqrt_step},
+             node_role::register_,
+             "rsqrt unit: x_k+1 = x_k (3 - p_k) / 2, Newton steps side by side"},
     node_row{node_id::norm, "norm", false, {dim::power_group, dim::one}, node_role::register_, "1 / sqrt(power_acc)"},
     node_row{node_id::tx_gain,
              "tx_gain",

@@ -93,6 +93,21 @@ struct frontend_config {
   double dac_backoff_db = 12.0;  ///< per-antenna transmit RMS below full scale 1.0, dB
 };
 
+/// How a divide or root node is built (`[units.NODE]`): the exact unit (the result rounded once,
+/// fixedpoint/divide.hpp) or a table + Newton-Raphson unit (fixedpoint/newton.hpp) with a seed
+/// ROM of 2^seed_bits entries and `steps` iterations.
+struct unit_choice {
+  bool newton = false;
+  int seed_bits = 6;
+  int steps = 2;
+};
+
+/// The divide and root units of the datapath.
+struct units_config {
+  unit_choice inv_diag_recip;  ///< 1 / d_j (LDL^H) or 1 / G_jj (Neumann): a reciprocal
+  unit_choice norm;            ///< 1 / sqrt(power_acc): a reciprocal square root
+};
+
 /// One parsed and validated scenario.
 struct scenario {
   std::string name;
@@ -107,6 +122,7 @@ struct scenario {
   precoder_config precoder;
   data_config data;
   frontend_config frontend;
+  units_config units;
 
   /// rho_p in linear units.
   double pilot_snr() const;
