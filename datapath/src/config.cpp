@@ -33,11 +33,13 @@ datapath_config parse_datapath_config(const golden::scenario_document& doc) {
     for (const auto& [field_key, field] : t.table()) {
       const std::string_view field_name = field_key.str();
       const bool known = field_name == "format" || field_name == "rounding" || field_name == "overflow";
-      const bool order_key = field_name == "order" || field_name == "lanes";
+      const bool order_key = field_name == "order" || field_name == "lanes" || field_name == "term_format" ||
+                             field_name == "term_rounding";
       if (known || (order_key && accumulates)) continue;
       t.fail(field_name,
              fmt::format("unknown key (expected {}{})",
-                         accumulates ? "format, rounding, overflow, order, lanes" : "format, rounding, overflow",
+                         accumulates ? "format, rounding, overflow, order, lanes, term_format, term_rounding"
+                                     : "format, rounding, overflow",
                          order_key ? fmt::format(": {} is not an accumulator", name) : ""));
     }
     node_setting setting{default_target(), {}, false};
@@ -76,6 +78,22 @@ datapath_config parse_datapath_config(const golden::scenario_document& doc) {
     } else if (setting.order.order == fp::accumulation_order::lanes) {
       t.fail("lanes", "missing: order = \"lanes\" needs lanes = P (e.g. lanes = 4)");
     }
+    if (const auto f = t.string("term_format")) {
+      try {
+        setting.order.term_format = fp::parse_format(*f);
+      } catch (const fp::format_error& e) {
+        t.fail("term_format", e.what());
+      }
+      if (setting.order.term_format->container_bits() > max_node_word_bits)
+        t.fail("term_format", fmt::format("'{}' needs {} bits; terms hold at most 64 (signed) or 63 (unsigned)", *f,
+                                          setting.order.term_format->word_bits));
+    }
+    if (const auto r = t.string("term_rounding")) {
+      if (!setting.order.term_format) t.fail("term_rounding", "only used with a term_format");
+      const auto mode = fp::parse_rounding_mode(*r);
+      if (!mode) t.fail("term_rounding", fmt::format("bad rounding '{}' (expected {})", *r, fp::list_rounding_modes()));
+      setting.order.term_rounding = *mode;
+    }
     config[*id] = setting;
   }
   return config;
@@ -96,10 +114,15 @@ std::string value_text(std::string_view key, const node_setting& s) {
     return s.order.order == fp::accumulation_order::sequential ? ""
                                                                : fmt::format("\"{}\"", fp::to_string(s.order.order));
   if (key == "lanes") return s.order.order == fp::accumulation_order::lanes ? std::to_string(s.order.lanes) : "";
+  if (key == "term_format")
+    return s.order.term_format ? fmt::format("\"{}\"", fp::to_q_string(*s.order.term_format)) : "";
+  if (key == "term_rounding")
+    return s.order.term_format ? fmt::format("\"{}\"", fp::to_string(s.order.term_rounding)) : "";
   return "";
 }
 
-constexpr std::array<std::string_view, 5> setting_keys{"format", "rounding", "overflow", "order", "lanes"};
+constexpr std::array<std::string_view, 7> setting_keys{"format", "rounding",    "overflow",     "order",
+                                                       "lanes",  "term_format", "term_rounding"};
 
 }  // namespace
 

@@ -29,7 +29,11 @@ struct node_state {
   word_matrix* words;
   [[nodiscard]] int frac() const { return spec.fmt.frac_bits; }
   [[nodiscard]] int bits() const { return spec.fmt.container_bits(); }
-  [[nodiscard]] bool sequential() const { return order.order == fp::accumulation_order::sequential; }
+  /// The plain sequential MAC, which the dot and vector kernels compute: sequential order and no
+  /// term format (every other accumulator goes through fp::accumulator).
+  [[nodiscard]] bool sequential() const {
+    return order.order == fp::accumulation_order::sequential && !order.term_format;
+  }
 };
 
 inline node_state state(fixed_context& ctx, node_id id) {

@@ -42,7 +42,7 @@ void PrintTo(const example& e, std::ostream* os) { *os << e.path; }
 
 /// One random change of a node's setting: integer and fraction bits moved by -3..3 (word kept
 /// within 2..64 bits, so that overflow and wide words both occur), a random rounding and
-/// overflow mode, and for an accumulator a random order.
+/// overflow mode, and for an accumulator a random order and, a third of the time, a term format.
 void change_node(d::node_setting& s, d::node_id id, std::mt19937_64& rng) {
   std::uniform_int_distribution<int> step(-3, 3);
   const fp::format f = s.spec.fmt;
@@ -54,6 +54,14 @@ void change_node(d::node_setting& s, d::node_id id, std::mt19937_64& rng) {
   if (d::role_of(id) == d::node_role::accumulator) {
     s.order.order = fp::all_accumulation_orders[rng() % fp::all_accumulation_orders.size()];
     s.order.lanes = s.order.order == fp::accumulation_order::lanes ? static_cast<int>(2 + rng() % 4) : 1;
+    // Now and then narrow product terms: the node's format with 1..4 fraction bits fewer.
+    s.order.term_format.reset();
+    if (rng() % 3 == 0) {
+      const fp::format term =
+          s.spec.fmt.with_int_frac(s.spec.fmt.int_bits(), s.spec.fmt.frac_bits - 1 - int(rng() % 4));
+      if (term.word_bits >= 2) s.order.term_format = term;
+      s.order.term_rounding = fp::all_rounding_modes[rng() % fp::all_rounding_modes.size()];
+    }
   }
   s.is_default = false;
 }

@@ -53,6 +53,30 @@ lanes = 4
             std::string::npos);
 }
 
+TEST(config, reads_term_formats_and_writes_them_back) {
+  const char* text = R"([nodes.tx_acc]
+format = "Q1.14"
+term_format = "Q1.10"
+
+[nodes.gram]
+format = "Q9.10"
+order = "pairwise"
+term_format = "Q9.8"
+term_rounding = "half_even"
+)";
+  const d::datapath_config c = d::parse_datapath_config(text, "terms.toml");
+  ASSERT_TRUE(c[d::node_id::tx_acc].order.term_format.has_value());
+  EXPECT_EQ(*c[d::node_id::tx_acc].order.term_format, fp::parse_format("Q1.10"));
+  EXPECT_EQ(c[d::node_id::tx_acc].order.term_rounding, fp::rounding_mode::floor);  // the default: a truncated port
+  EXPECT_EQ(c[d::node_id::gram].order.term_rounding, fp::rounding_mode::half_even);
+  EXPECT_FALSE(c[d::node_id::pilot_acc].order.term_format.has_value());
+  const d::datapath_config again = d::parse_datapath_config(d::to_toml(c), "written.toml");
+  for (d::node_id id : d::all_nodes()) EXPECT_EQ(again[id].order, c[id].order) << d::node_name(id);
+  EXPECT_NE(d::node_table_toml(d::node_id::tx_acc, c[d::node_id::tx_acc])
+                .find("term_format = \"Q1.10\"\nterm_rounding = \"floor\"\n"),
+            std::string::npos);
+}
+
 struct bad_table {
   const char* name;
   const char* text;
@@ -86,7 +110,15 @@ INSTANTIATE_TEST_SUITE_P(
                   "s.toml:4: nodes.tx_acc.lanes: must be an integer in [1, 4096]"},
         bad_table{"lanes_on_a_register", "[nodes.norm]\nformat = \"Q1.14\"\nlanes = 2\n",
                   "s.toml:3: nodes.norm.lanes: unknown key (expected format, rounding, overflow: norm is not an "
-                  "accumulator)"}),
+                  "accumulator)"},
+        bad_table{"term_format_on_a_register", "[nodes.weights]\nformat = \"Q1.14\"\nterm_format = \"Q1.8\"\n",
+                  "s.toml:3: nodes.weights.term_format: unknown key (expected format, rounding, overflow: weights is "
+                  "not an accumulator)"},
+        bad_table{"bad_term_format", "[nodes.gram]\nformat = \"Q1.14\"\nterm_format = \"Q1.x\"\n",
+                  "s.toml:3: nodes.gram.term_format: bad format 'Q1.x': expected Qm.n with integers m and n, "
+                  "e.g. Q1.14"},
+        bad_table{"term_rounding_alone", "[nodes.gram]\nformat = \"Q1.14\"\nterm_rounding = \"floor\"\n",
+                  "s.toml:3: nodes.gram.term_rounding: only used with a term_format"}),
     [](const testing::TestParamInfo<bad_table>& i) { return std::string(i.param.name); });
 
 }  // namespace

@@ -373,4 +373,116 @@ order = "pairwise"
   EXPECT_EQ(ft.words[d::index_of(d::node_id::weights)], fs.words[d::index_of(d::node_id::weights)]);
 }
 
+TEST(datapath, narrow_terms_in_tx_acc_and_gram_match_the_definition_written_out) {
+  // tx_acc and gram with term formats (README "How it computes": p' = Q_term(p), then the
+  // sequential MAC of Q_acc(p')): recomputed here from the node's input words with unbounded
+  // integers, the saturation written out as a clamp. The same configuration without term
+  // formats must differ (the narrowing must matter), and upstream words must not.
+  std::string text = R"(
+name = "terms-test"
+seed = 41
+trials = 1
+[array]
+antennas = 12
+[cells]
+count = 1
+users_per_cell = 3
+user_gains_db = [0.0, 2.0, 4.0]
+[pilots]
+length = 4
+sequence = "walsh"
+snr_db = 15.0
+[estimator]
+kind = "ls"
+[precoder]
+kind = "zf"
+[data]
+modulation = "16qam"
+symbols = 24
+snr_db = 20.0
+[nodes.chan_est]
+format = "Q4.11"
+rounding = "half_even"
+overflow = "saturate"
+[nodes.gram]
+format = "Q9.13"
+rounding = "half_even"
+overflow = "saturate"
+term_format = "Q9.6"
+[nodes.weights]
+format = "Q0.12"
+rounding = "half_even"
+overflow = "saturate"
+[nodes.symbols]
+format = "Q1.10"
+rounding = "half_even"
+overflow = "saturate"
+[nodes.tx_acc]
+format = "Q1.16"
+rounding = "half_even"
+overflow = "saturate"
+term_format = "Q1.9"
+term_rounding = "toward_zero"
+)";
+  const g::scenario scen = g::parse_scenario_text(text, "terms-test");
+  const d::datapath_config narrow = d::parse_datapath_config(text, "terms-test");
+  d::datapath_config plain = narrow;
+  plain[d::node_id::tx_acc].order = {};
+  plain[d::node_id::gram].order = {};
+  const g::trial_data trial = g::run_trial(scen, 0);
+  const d::fixed_trial fn = d::run_fixed_datapath(scen, narrow, trial);
+  const d::fixed_trial fp_plain = d::run_fixed_datapath(scen, plain, trial);
+
+  // One sum of the definition: terms p (exact, at p_frac) through Q_term, then Q_acc, summed
+  // sequentially with a clamp (saturate).
+  const auto mac = [](const std::vector<fp::big_int>& terms, int p_frac, const d::node_setting& s) {
+    const fp::requantizer<fp::big_int> q_acc(s.spec);
+    const fp::requantizer<fp::big_int> q_term(fp::target{*s.order.term_format, s.order.term_rounding, s.spec.overflow});
+    fp::counters unused;
+    const fp::big_int hi = fp::pow2<fp::big_int>(s.spec.fmt.word_bits - 1) - 1, lo = -hi - 1;
+    fp::big_int acc = 0;
+    for (const fp::big_int& p : terms) {
+      acc += q_acc(q_term(p, p_frac, unused), s.order.term_format->frac_bits, unused);
+      acc = acc > hi ? hi : acc < lo ? lo : acc;
+    }
+    return static_cast<std::int64_t>(acc);
+  };
+  const d::word_matrix& w = fn.words[d::index_of(d::node_id::weights)];
+  const d::word_matrix& sy = fn.words[d::index_of(d::node_id::symbols)];
+  const d::word_matrix& tx = fn.words[d::index_of(d::node_id::tx_acc)];
+  const int tx_frac = narrow[d::node_id::weights].spec.fmt.frac_bits + narrow[d::node_id::symbols].spec.fmt.frac_bits;
+  for (int m = 0; m < w.rows; ++m) {
+    for (int n = 0; n < sy.cols; ++n) {
+      std::vector<fp::big_int> re, im;
+      for (int k = 0; k < w.cols; ++k) {
+        const fp::big_int wr = w.re[w.at(m, k)], wi = w.im[w.at(m, k)], sr = sy.re[sy.at(k, n)],
+                          si = sy.im[sy.at(k, n)];
+        re.push_back(wr * sr - wi * si);
+        im.push_back(wr * si + wi * sr);
+      }
+      ASSERT_EQ(tx.re[tx.at(m, n)], mac(re, tx_frac, narrow[d::node_id::tx_acc])) << "tx_acc " << m << "," << n;
+      ASSERT_EQ(tx.im[tx.at(m, n)], mac(im, tx_frac, narrow[d::node_id::tx_acc])) << "tx_acc " << m << "," << n;
+    }
+  }
+  // gram[i,j], j <= i: terms chan_est[m,j] conj(chan_est[m,i]) over m.
+  const d::word_matrix& h = fn.words[d::index_of(d::node_id::chan_est)];
+  const d::word_matrix& gr = fn.words[d::index_of(d::node_id::gram)];
+  const int g_frac = 2 * narrow[d::node_id::chan_est].spec.fmt.frac_bits;
+  for (int i = 0; i < h.cols; ++i) {
+    for (int j = 0; j <= i; ++j) {
+      std::vector<fp::big_int> re, im;
+      for (int m = 0; m < h.rows; ++m) {
+        const fp::big_int ar = h.re[h.at(m, j)], ai = h.im[h.at(m, j)], br = h.re[h.at(m, i)], bi = h.im[h.at(m, i)];
+        re.push_back(ar * br + ai * bi);
+        im.push_back(ai * br - ar * bi);
+      }
+      EXPECT_EQ(gr.re[gr.at(i, j)], mac(re, g_frac, narrow[d::node_id::gram])) << "gram " << i << "," << j;
+      EXPECT_EQ(gr.im[gr.at(i, j)], mac(im, g_frac, narrow[d::node_id::gram])) << "gram " << i << "," << j;
+    }
+  }
+  EXPECT_NE(tx, fp_plain.words[d::index_of(d::node_id::tx_acc)]) << "narrow terms should change some tx_acc words";
+  EXPECT_NE(gr, fp_plain.words[d::index_of(d::node_id::gram)]) << "narrow terms should change some gram words";
+  EXPECT_EQ(h, fp_plain.words[d::index_of(d::node_id::chan_est)]);
+}
+
 }  // namespace

@@ -28,6 +28,44 @@ TEST(accumulator, saturation_happens_in_index_order) {
   EXPECT_EQ(wrapped.value(), 6);
 }
 
+TEST(accumulator, narrow_product_terms_are_requantised_before_the_add) {
+  // Terms 13/16, 7/16, -3/16 (4 fraction bits) into a Q3.4 accumulator. Worked by hand:
+  // without a term format the sum is exact, 17/16 (word 17). With term_format Q3.2 and floor
+  // (a truncated DSP output port): floor(3.25) = 3, floor(1.75) = 1, floor(-0.75) = -1 quarters,
+  // so 3/4 (word 12); with half_even: 3, 2, -1 quarters, so 1 (word 16).
+  const fp::requantizer<std::int64_t> q(
+      fp::target{{true, 8, 4}, fp::rounding_mode::half_even, fp::overflow_mode::saturate});
+  const auto sum = [&](fp::accumulation how, fp::counters& c) {
+    fp::accumulator<std::int64_t> acc(q, how);
+    for (std::int64_t term : {13, 7, -3}) acc.add(term, 4, c);
+    return acc.result(c);
+  };
+  fp::counters plain, floor_c, even_c;
+  EXPECT_EQ(sum({}, plain), 17);
+  fp::accumulation narrow;
+  narrow.term_format = fp::format{true, 6, 2};  // Q3.2
+  EXPECT_EQ(sum(narrow, floor_c), 12);
+  narrow.term_rounding = fp::rounding_mode::half_even;
+  EXPECT_EQ(sum(narrow, even_c), 16);
+  // One requantisation point more per term; the term format made all three inexact.
+  EXPECT_EQ(plain.requantized, 6U);
+  EXPECT_EQ(floor_c.requantized, 9U);
+  EXPECT_EQ(floor_c.inexact, 3U);
+  // The term format's overflow is the accumulator's: 13/16 into Q0.2 ([-1, 3/4]) saturates to 3/4.
+  fp::accumulation tiny;
+  tiny.term_format = fp::format{true, 3, 2};
+  fp::counters tiny_c;
+  fp::accumulator<std::int64_t> acc(q, tiny);
+  acc.add(60, 4, tiny_c);  // 3.75 -> 3/4
+  EXPECT_EQ(acc.result(tiny_c), 12);
+  EXPECT_EQ(tiny_c.overflowed, 1U);
+  // Pairwise and lanes take the narrowed terms too.
+  narrow.term_rounding = fp::rounding_mode::floor;
+  narrow.order = fp::accumulation_order::pairwise;
+  fp::counters pair_c;
+  EXPECT_EQ(sum(narrow, pair_c), 12);
+}
+
 TEST(accumulator, int64_complex_mac_matches_unbounded_recurrence) {
   std::mt19937_64 rng(4242);
   std::uniform_int_distribution<std::int64_t> word(-32768, 32767);

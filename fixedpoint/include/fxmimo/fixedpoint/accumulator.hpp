@@ -10,10 +10,13 @@
 ///   lanes, P lanes (a cascade of P DSP slices): lane_(i mod P) <- Q_acc(lane + Q_acc(p_i)),
 ///                                  all P lanes start at 0; then the P lane values are combined
 ///                                  by the pairwise tree (overflow handled at every adder).
+/// Narrow product terms (a DSP slice with a truncated output port): with a term format, every
+/// term is first requantised to it, p_i' = Q_term(p_i) (the term format, the term rounding, the
+/// accumulator's overflow mode), and Q_acc(p_i') is added in place of Q_acc(p_i).
 /// Counting (every requantisation point counts once): a sequential or lane add counts the term
-/// and the sum; a tree adder counts one. Corner cases: a term beyond the range saturates (or
-/// wraps) before it is added; a sum of two words needs one bit more than the accumulator, so T
-/// must hold W + 1 bits.
+/// and the sum; a tree adder counts one; a term format counts one more per term. Corner cases: a term beyond the range
+/// saturates (or wraps) before it is added; a sum of two words needs one bit more than the accumulator, so T must hold
+/// W + 1 bits.
 
 #include <algorithm>
 #include <array>
@@ -34,10 +37,16 @@ enum class accumulation_order { sequential, pairwise, lanes };
 inline constexpr std::array all_accumulation_orders{accumulation_order::sequential, accumulation_order::pairwise,
                                                     accumulation_order::lanes};
 
-/// An accumulator's structure: its order and, for `lanes`, the lane count P (>= 1).
+/// An accumulator's structure: its order and, for `lanes`, the lane count P (>= 1); optionally
+/// the format its product terms are requantised to before they are added (default: none, each
+/// term goes straight into the accumulator's format) and that requantisation's rounding.
 struct accumulation {
+  accumulation() = default;
+  accumulation(accumulation_order o, int p) : order(o), lanes(p) {}
   accumulation_order order = accumulation_order::sequential;
   int lanes = 1;
+  std::optional<format> term_format;
+  rounding_mode term_rounding = rounding_mode::floor;
   friend bool operator==(const accumulation&, const accumulation&) = default;
 };
 
@@ -72,6 +81,7 @@ class accumulator {
  public:
   explicit accumulator(const requantizer<T>& q, accumulation how = {}) : q_(&q), how_(how) {
     if (!fits_container<T>(q.fmt(), 1)) throw std::invalid_argument("accumulator: no headroom bit in T");
+    if (how_.term_format) term_q_.emplace(target{*how_.term_format, how_.term_rounding, q.spec().overflow});
     if (how_.order == accumulation_order::lanes) {
       if (how_.lanes < 1) throw std::invalid_argument("accumulator: lanes must be at least 1");
       lanes_.assign(static_cast<std::size_t>(how_.lanes), T(0));
@@ -85,7 +95,7 @@ class accumulator {
   }
   /// Adds the exact term x * 2^-x_frac.
   [[gnu::always_inline]] void add(const T& x, int x_frac, counters& c) {
-    const T term = (*q_)(x, x_frac, c);
+    const T term = term_q_ ? (*q_)((*term_q_)(x, x_frac, c), term_q_->fmt().frac_bits, c) : (*q_)(x, x_frac, c);
     if (how_.order == accumulation_order::sequential) [[likely]] {
       value_ = q_->overflow(T(value_ + term), c);
       ++c.requantized;
@@ -116,6 +126,7 @@ class accumulator {
  private:
   const requantizer<T>* q_;
   accumulation how_;
+  std::optional<requantizer<T>> term_q_;
   T value_{0};
   std::size_t count_ = 0;
   std::vector<T> terms_;
