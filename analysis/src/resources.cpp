@@ -25,12 +25,17 @@ struct dims {
 };
 
 dims dims_of(const golden::scenario& scen) {
-  const bool neumann =
-      scen.precoder.kind != golden::precoder_kind::mf && scen.precoder.inversion == golden::inversion_kind::neumann;
-  return {
-      static_cast<double>(scen.array.num_antennas), static_cast<double>(scen.cells.num_users),
-      static_cast<double>(scen.cells.num_cells),    static_cast<double>(scen.pilots.length),
-      static_cast<double>(scen.data.num_symbols),   neumann ? static_cast<double>(scen.precoder.neumann_terms) : 1.0};
+  // Terms: the K x K matrices an iterative inverse keeps side by side (Neumann terms, Gauss-Seidel
+  // sweeps), each also a K^3 product or sweep.
+  const bool inverts = scen.precoder.kind != golden::precoder_kind::mf;
+  double terms = 1.0;
+  if (inverts && scen.precoder.inversion == golden::inversion_kind::neumann)
+    terms = static_cast<double>(scen.precoder.neumann_terms);
+  if (inverts && scen.precoder.inversion == golden::inversion_kind::gauss_seidel)
+    terms = static_cast<double>(scen.precoder.gauss_seidel_sweeps);
+  return {static_cast<double>(scen.array.num_antennas), static_cast<double>(scen.cells.num_users),
+          static_cast<double>(scen.cells.num_cells),    static_cast<double>(scen.pilots.length),
+          static_cast<double>(scen.data.num_symbols),   terms};
 }
 
 /// The largest of named terms, and their sum.

@@ -13,6 +13,7 @@
 #include "fxmimo/analysis/resources.hpp"
 #include "fxmimo/analysis/statistics.hpp"
 #include "fxmimo/analysis/trial_cache.hpp"
+#include "fxmimo/golden/gauss_seidel.hpp"
 #include "fxmimo/golden/link_metrics.hpp"
 #include "fxmimo/golden/precoder.hpp"
 #include "fxmimo/golden/trial.hpp"
@@ -150,6 +151,7 @@ trial_summary summarise_trial(const datapath::datapath_plan& plan, const golden:
   out.sinr_golden = trial.metrics.sinr;
   out.evm_golden_pct = trial.metrics.evm_pct;
   out.neumann_radius = trial.neumann_radius;
+  out.gauss_seidel_residual = trial.gauss_seidel_residual;
   out.gram_condition = g.gram_condition;
 
   // The data phase, block by block: its nodes' figures, the DAC block's alignment with the
@@ -315,6 +317,7 @@ void put_trials(wire::writer& w, const std::vector<trial_summary>& trials) {
     w.put(t.evm_impl);
     w.put(t.tx_power_error_db);
     w.put(t.neumann_radius);
+    w.put(t.gauss_seidel_residual);
     w.put(t.gram_condition);
   }
 }
@@ -332,6 +335,7 @@ void get_trials(wire::reader& r, std::vector<trial_summary>& out) {
     t.evm_impl = r.get<double>();
     t.tx_power_error_db = r.get<double>();
     t.neumann_radius = r.get<double>();
+    t.gauss_seidel_residual = r.get<double>();
     t.gram_condition = r.get<double>();
     out.push_back(std::move(t));
   }
@@ -410,7 +414,7 @@ run_results reduce_trials(const golden::scenario& scen, const datapath::datapath
   const std::size_t num_users = per_trial.front().sinr_golden.size();
   std::vector<double> sinr_g(num_users, 0.0), sinr_f(num_users, 0.0), evm_g2(num_users, 0.0), evm_f2(num_users, 0.0);
   double impl2 = 0.0, power_error_sum = 0.0, power_error_max = 0.0, power_error2 = 0.0;
-  std::size_t outside_convergence = 0;
+  std::size_t outside_convergence = 0, gauss_seidel_unconverged = 0;
   std::vector<node_result> totals(datapath::node_count());
   for (const trial_summary& t : per_trial) {
     for (datapath::node_id id : active) {
@@ -432,6 +436,7 @@ run_results reduce_trials(const golden::scenario& scen, const datapath::datapath
     power_error2 += t.tx_power_error_db * t.tx_power_error_db;
     power_error_max = std::max(power_error_max, std::abs(t.tx_power_error_db));
     if (t.neumann_radius >= 1.0) ++outside_convergence;
+    if (t.gauss_seidel_residual > golden::gauss_seidel_residual_limit) ++gauss_seidel_unconverged;
   }
   for (datapath::node_id id : active) out.nodes.push_back(totals[datapath::index_of(id)]);
   const double n = static_cast<double>(per_trial.size());
@@ -498,6 +503,13 @@ run_results reduce_trials(const golden::scenario& scen, const datapath::datapath
         "Neumann series outside its convergence region (spectral radius of I - D^-1 G >= 1) in {} of {} trials: "
         "the inverse is not approximated there; use more antennas per user or inversion = \"ldl\"",
         outside_convergence, per_trial.size()));
+  }
+  if (gauss_seidel_unconverged > 0) {
+    out.warnings.push_back(fmt::format(
+        "Gauss-Seidel inverse not converged after {} sweeps in {} of {} trials (golden residual ||I - G X||_F / "
+        "sqrt(K) above {:g}): use more sweeps, more antennas per user or inversion = \"cholesky\"",
+        scen.precoder.gauss_seidel_sweeps, gauss_seidel_unconverged, per_trial.size(),
+        golden::gauss_seidel_residual_limit));
   }
   for (const node_result& r : out.nodes) {
     if (r.counters.overflowed > 0) {

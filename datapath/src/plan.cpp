@@ -116,15 +116,23 @@ datapath_plan stages_for(const golden::scenario& scen) {
   const bool per_antenna = scen.precoder.normalization == golden::power_normalization::per_antenna;
   const bool uses_inverse = scen.precoder.kind != golden::precoder_kind::mf;
   const bool neumann = uses_inverse && scen.precoder.inversion == golden::inversion_kind::neumann;
+  const bool cholesky = uses_inverse && scen.precoder.inversion == golden::inversion_kind::cholesky;
+  const bool gauss_seidel = uses_inverse && scen.precoder.inversion == golden::inversion_kind::gauss_seidel;
   plan.dims.antenna = scen.array.num_antennas;
   plan.dims.user = scen.cells.num_users;
   plan.dims.pilot_symbol = scen.pilots.length;
   plan.dims.symbol = scen.data.num_symbols;
   plan.dims.term_user = neumann ? scen.cells.num_users * (scen.precoder.neumann_terms - 1) : 0;
+  plan.dims.sweep_user = gauss_seidel ? scen.cells.num_users * (scen.precoder.gauss_seidel_sweeps - 1) : 0;
   plan.dims.power_group = per_antenna ? scen.array.num_antennas : 1;
-  if (uses_inverse)
-    detail::divide_root_unit(fixedpoint::newton_function::reciprocal, scen.units.inv_diag_recip).set_dims(plan.dims);
-  detail::divide_root_unit(fixedpoint::newton_function::rsqrt, scen.units.norm).set_dims(plan.dims);
+  if (uses_inverse && !cholesky)
+    detail::divide_root_unit(fixedpoint::newton_function::reciprocal, scen.units.inv_diag_recip,
+                             detail::diag_recip_nodes)
+        .set_dims(plan.dims);
+  if (cholesky)
+    detail::divide_root_unit(fixedpoint::newton_function::rsqrt, scen.units.chol_diag_rsqrt, detail::chol_rsqrt_nodes)
+        .set_dims(plan.dims);
+  detail::divide_root_unit(fixedpoint::newton_function::rsqrt, scen.units.norm, detail::norm_nodes).set_dims(plan.dims);
 
   auto& s = plan.stages;
   s.push_back(make_golden_converter(node_id::adc, [](const golden::trial_data& t) { return t.adc; }));
@@ -144,6 +152,11 @@ datapath_plan stages_for(const golden::scenario& scen) {
     s.push_back(detail::make_gram(loaded ? std::optional<double>(scen.rzf_regularizer()) : std::nullopt));
     if (neumann) {
       s.push_back(detail::make_neumann(scen.precoder.neumann_terms, scen.units.inv_diag_recip));
+    } else if (gauss_seidel) {
+      s.push_back(detail::make_gauss_seidel(scen.precoder.gauss_seidel_sweeps, scen.units.inv_diag_recip));
+    } else if (cholesky) {
+      s.push_back(detail::make_cholesky(scen.units.chol_diag_rsqrt));
+      s.push_back(detail::make_cholesky_solves());
     } else {
       // LDL^H (the golden model's reference inversion is also realised by LDL^H here).
       s.push_back(detail::make_ldl(scen.units.inv_diag_recip));

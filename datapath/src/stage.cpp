@@ -23,6 +23,9 @@ int dimension_sizes::size(dim d) const {
     case dim::recip_step: return recip_step;
     case dim::rsqrt_entry: return rsqrt_entry;
     case dim::rsqrt_step: return rsqrt_step;
+    case dim::chol_rsqrt_entry: return chol_rsqrt_entry;
+    case dim::chol_rsqrt_step: return chol_rsqrt_step;
+    case dim::sweep_user: return sweep_user;
     case dim::one: return 1;
   }
   throw std::logic_error("dimension_sizes::size: unknown dimension");
@@ -40,6 +43,9 @@ std::string_view dimension_sizes::name(dim d) const {
     case dim::recip_step: return "newton_step";
     case dim::rsqrt_entry: return "rom_entry";
     case dim::rsqrt_step: return "newton_step";
+    case dim::chol_rsqrt_entry: return "rom_entry";
+    case dim::chol_rsqrt_step: return "newton_step";
+    case dim::sweep_user: return "sweep_user";
     case dim::one: return "one";
   }
   throw std::logic_error("dimension_sizes::name: unknown dimension");

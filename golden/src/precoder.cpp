@@ -4,6 +4,8 @@
 #include <cmath>
 #include <limits>
 
+#include "fxmimo/golden/cholesky.hpp"
+#include "fxmimo/golden/gauss_seidel.hpp"
 #include "fxmimo/golden/neumann.hpp"
 
 namespace fxmimo::golden {
@@ -62,6 +64,11 @@ precoder_output compute_precoder(const scenario& scen, const Eigen::MatrixXcd& c
       case inversion_kind::neumann:
         out.inverse = neumann_inverse(out.gram, cfg.neumann_terms);
         out.neumann_radius = neumann_spectral_radius(out.gram);
+        break;
+      case inversion_kind::cholesky: out.inverse = cholesky_inverse(cholesky_decompose(out.gram)); break;
+      case inversion_kind::gauss_seidel:
+        out.inverse = gauss_seidel_inverse(out.gram, cfg.gauss_seidel_sweeps);
+        out.gauss_seidel_residual = inverse_residual(out.gram, out.inverse);
         break;
       case inversion_kind::reference: {
         const Eigen::Index n = out.gram.rows();

@@ -275,13 +275,13 @@ void read_estimator(const checked_table& root, scenario& scen) {
 
 void read_precoder(const checked_table& root, scenario& scen) {
   const checked_table r(root.file(), sub_table(root, "precoder"), "precoder");
-  r.only({"kind", "inversion", "neumann_terms", "regularizer", "normalization"});
+  r.only({"kind", "inversion", "neumann_terms", "sweeps", "regularizer", "normalization"});
   precoder_config& pc = scen.precoder;
   pc.kind = r.choice<precoder_kind>("kind",
                                     {{"mf", precoder_kind::mf}, {"zf", precoder_kind::zf}, {"rzf", precoder_kind::rzf}})
                 .value_or(precoder_kind::zf);
   if (pc.kind == precoder_kind::mf) {
-    for (std::string_view name : {"inversion", "neumann_terms", "regularizer"}) {
+    for (std::string_view name : {"inversion", "neumann_terms", "sweeps", "regularizer"}) {
       if (r.has(name)) {
         r.fail(name, "has no effect with kind = \"mf\"");
       }
@@ -289,12 +289,19 @@ void read_precoder(const checked_table& root, scenario& scen) {
   }
   pc.inversion = r.choice<inversion_kind>("inversion", {{"ldl", inversion_kind::ldl},
                                                         {"neumann", inversion_kind::neumann},
-                                                        {"reference", inversion_kind::reference}})
+                                                        {"reference", inversion_kind::reference},
+                                                        {"cholesky", inversion_kind::cholesky},
+                                                        {"gauss_seidel", inversion_kind::gauss_seidel}})
                      .value_or(inversion_kind::ldl);
   if (pc.inversion == inversion_kind::neumann) {
     pc.neumann_terms = static_cast<int>(r.integer("neumann_terms", 1, 64).value_or(3));
   } else if (r.has("neumann_terms")) {
     r.fail("neumann_terms", "only used with inversion = \"neumann\"");
+  }
+  if (pc.inversion == inversion_kind::gauss_seidel) {
+    pc.gauss_seidel_sweeps = static_cast<int>(r.integer("sweeps", 1, 64).value_or(2));
+  } else if (r.has("sweeps")) {
+    r.fail("sweeps", "only used with inversion = \"gauss_seidel\"");
   }
   if (r.has("regularizer")) {
     if (pc.kind != precoder_kind::rzf) {
@@ -561,7 +568,7 @@ namespace {
 
 void read_units(const checked_table& root, scenario& scen) {
   const checked_table u(root.file(), sub_table(root, "units"), "units");
-  u.only({"inv_diag_recip", "norm"});
+  u.only({"inv_diag_recip", "norm", "chol_diag_rsqrt"});
   const auto read_one = [&](const char* name, unit_choice& out) {
     if (!u.has(name)) return;
     const checked_table t(root.file(), sub_table(u, name), std::string("units.") + name);
@@ -576,8 +583,14 @@ void read_units(const checked_table& root, scenario& scen) {
   };
   if (scen.precoder.kind == precoder_kind::mf && u.has("inv_diag_recip"))
     u.fail("inv_diag_recip", "the matched-filter precoder inverts nothing (kind = \"mf\")");
+  if (u.has("inv_diag_recip") && scen.precoder.inversion == inversion_kind::cholesky)
+    u.fail("inv_diag_recip", "the Cholesky inverter has no reciprocal (inversion = \"cholesky\")");
+  if (u.has("chol_diag_rsqrt") &&
+      (scen.precoder.kind == precoder_kind::mf || scen.precoder.inversion != inversion_kind::cholesky))
+    u.fail("chol_diag_rsqrt", "only used with inversion = \"cholesky\"");
   read_one("inv_diag_recip", scen.units.inv_diag_recip);
   read_one("norm", scen.units.norm);
+  read_one("chol_diag_rsqrt", scen.units.chol_diag_rsqrt);
 }
 
 }  // namespace

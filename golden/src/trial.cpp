@@ -95,6 +95,7 @@ trial_data run_trial(const scenario& scen, std::uint64_t trial_index) {
       td.ldl = std::move(prec.ldl);
       td.inverse = std::move(prec.inverse);
       td.neumann_radius = prec.neumann_radius;
+      td.gauss_seidel_residual = prec.gauss_seidel_residual;
       td.precoder = std::move(prec.precoder);
       td.norm = std::move(prec.norm);
       td.weights = std::move(prec.weights);

@@ -81,6 +81,7 @@ json trial_json(const analysis::trial_summary& t, const std::vector<datapath::no
           {"evm_impl", exact(t.evm_impl)},
           {"tx_power_error_db", exact(t.tx_power_error_db)},
           {"neumann_radius", exact(t.neumann_radius)},
+          {"gauss_seidel_residual", exact(t.gauss_seidel_residual)},
           {"gram_condition", exact(t.gram_condition)}};
 }
 
@@ -109,6 +110,8 @@ analysis::trial_summary trial_from_json(const checked_json& j, std::vector<datap
   t.evm_impl = j["evm_impl"].exact_double();
   t.tx_power_error_db = j["tx_power_error_db"].exact_double();
   t.neumann_radius = j["neumann_radius"].exact_double();
+  // Parts written before the Gauss-Seidel inverse existed lack it (0: no such inverse).
+  if (const auto v = j.find("gauss_seidel_residual")) t.gauss_seidel_residual = v->exact_double();
   t.gram_condition = j["gram_condition"].exact_double();
   return t;
 }

@@ -211,7 +211,9 @@ INSTANTIATE_TEST_SUITE_P(
                       example{"examples/metro-7-shadowed.toml", 6}, example{"examples/dpi/kiosk-8.toml", 40},
                       example{"examples/quay-96-newton.toml", 24},
                       example{"tests/bit_identity/rzf-per-antenna.toml", 24},
-                      example{"tests/bit_identity/ls-neumann-two-terms.toml", 24}),
+                      example{"tests/bit_identity/ls-neumann-two-terms.toml", 24},
+                      example{"tests/analysis/scenarios/cholesky-newton.toml", 24},
+                      example{"tests/analysis/scenarios/gauss-seidel-sweeps.toml", 24}),
     [](const ::testing::TestParamInfo<example>& param_info) {
       std::string name = param_info.param.path;
       name = name.substr(name.rfind('/') + 1);

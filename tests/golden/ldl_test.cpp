@@ -8,7 +8,7 @@
 #include <limits>
 #include <string>
 
-#include "fxmimo/golden/rng.hpp"
+#include "gram_cases.hpp"
 #include "multiprecision_support.hpp"
 
 namespace fxmimo::golden {
@@ -17,40 +17,14 @@ namespace {
 using test::mp_complex;
 using test::mp_matrix;
 
-// Gram matrix H^H H (+ loading I) of an M x K i.i.d. CN(0,1) channel drawn from `seed`.
-Eigen::MatrixXcd rayleigh_gram(int num_ant, int num_users, double loading, std::uint64_t seed) {
-  random_stream rng(seed);
-  Eigen::MatrixXcd h(num_ant, num_users);
-  for (int i_user = 0; i_user < num_users; ++i_user) {
-    for (int i_ant = 0; i_ant < num_ant; ++i_ant) {
-      h(i_ant, i_user) = rng.complex_normal();
-    }
-  }
-  Eigen::MatrixXcd g = h.adjoint() * h;
-  g.diagonal().array() += loading;
-  // Exactly Hermitian input, as the datapath's Gram node is.
-  return (0.5 * (g + g.adjoint())).eval();
-}
+using test::condition_number;
+using test::gram_case;
+using test::rayleigh_gram;
 
-double condition_number(const Eigen::MatrixXcd& a) {
-  const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXcd> solver(a, Eigen::EigenvaluesOnly);
-  return solver.eigenvalues().maxCoeff() / solver.eigenvalues().minCoeff();
-}
-
-struct ldl_case {
-  std::string name;
-  int num_ant;
-  int num_users;
-  double loading;
-  std::uint64_t seed;
-};
-
-void PrintTo(const ldl_case& c, std::ostream* os) { *os << c.name; }
-
-class ldl_against_multiprecision : public ::testing::TestWithParam<ldl_case> {};
+class ldl_against_multiprecision : public ::testing::TestWithParam<gram_case> {};
 
 TEST_P(ldl_against_multiprecision, inverse_and_factors) {
-  const ldl_case& c = GetParam();
+  const gram_case& c = GetParam();
   const Eigen::MatrixXcd a = rayleigh_gram(c.num_ant, c.num_users, c.loading, c.seed);
   const ldl_factors f = ldl_decompose(a);
   const Eigen::MatrixXcd inv = ldl_inverse(f);
@@ -97,13 +71,8 @@ TEST_P(ldl_against_multiprecision, inverse_and_factors) {
 }
 
 INSTANTIATE_TEST_SUITE_P(boost_multiprecision_50_digits, ldl_against_multiprecision,
-                         ::testing::Values(ldl_case{"k1", 4, 1, 0.0, 1}, ldl_case{"k2", 8, 2, 0.0, 2},
-                                           ldl_case{"k7", 28, 7, 0.0, 3}, ldl_case{"k8_m64", 64, 8, 0.0, 4},
-                                           ldl_case{"k16_m128", 128, 16, 0.0, 5}, ldl_case{"k32_m128", 128, 32, 0.0, 6},
-                                           ldl_case{"k16_m128_rzf", 128, 16, 1.6, 7},
-                                           ldl_case{"k16_m20_ill", 20, 16, 0.0, 8},
-                                           ldl_case{"k16_m16_square", 16, 16, 0.0, 9}),
-                         [](const ::testing::TestParamInfo<ldl_case>& param_info) { return param_info.param.name; });
+                         ::testing::ValuesIn(test::gram_cases()),
+                         [](const ::testing::TestParamInfo<gram_case>& param_info) { return param_info.param.name; });
 
 TEST(ldl, diagonal_matrix_inverts_entry_by_entry) {
   Eigen::MatrixXcd a = Eigen::MatrixXcd::Zero(5, 5);

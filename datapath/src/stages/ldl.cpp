@@ -18,8 +18,8 @@ namespace {
 class ldl_stage final : public stage {
  public:
   explicit ldl_stage(const golden::unit_choice& recip_unit)
-      : stage("ldl", ldl_ports(divide_root_unit(fp::newton_function::reciprocal, recip_unit))),
-        unit_(fp::newton_function::reciprocal, recip_unit) {}
+      : stage("ldl", ldl_ports(divide_root_unit(fp::newton_function::reciprocal, recip_unit, diag_recip_nodes))),
+        unit_(fp::newton_function::reciprocal, recip_unit, diag_recip_nodes) {}
   /// Terms |l|^2 d and l conj(l) d (three factors), n_ij r_j, and G's entry with two headroom bits.
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
     const int factor = bits_of(c, node_id::inv_factor), acc = bits_of(c, node_id::ldl_acc);

@@ -5,6 +5,7 @@
 //   X[i,c] = Q(... Q(Q(diag(r)[i,c]) + Q(T_1[i,c])) ... + Q(T_{T-1}[i,c]))   [inv_out]
 #include "../stage_support.hpp"
 #include "fxmimo/fixedpoint/divide.hpp"
+#include "iteration.hpp"
 #include "stages.hpp"
 #include "units.hpp"
 
@@ -24,9 +25,10 @@ std::vector<port> neumann_ports(int num_terms, const divide_root_unit& unit) {
 class neumann_stage final : public stage {
  public:
   neumann_stage(int num_terms, const golden::unit_choice& recip_unit)
-      : stage("neumann", neumann_ports(num_terms, divide_root_unit(fp::newton_function::reciprocal, recip_unit))),
+      : stage("neumann", neumann_ports(num_terms, divide_root_unit(fp::newton_function::reciprocal, recip_unit,
+                                                                   diag_recip_nodes))),
         num_terms_(num_terms),
-        unit_(fp::newton_function::reciprocal, recip_unit) {}
+        unit_(fp::newton_function::reciprocal, recip_unit, diag_recip_nodes) {}
   /// r G products, B T products, the sum of T terms with two headroom bits, and the exact 1 of
   /// I at r G's fraction bits.
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
@@ -83,20 +85,9 @@ class neumann_stage final : public stage {
   template <class P>
   void run(const node_state& g, const node_state& recip, node_state& iter, node_state& term_node,
            node_state& out) const {
-    const word_matrix& gm = *g.words;
-    const int num_users = gm.rows;
-    *iter.words = word_matrix(num_users, num_users, true);
+    const int num_users = g.words->rows;
+    iteration_matrix<P>(g, recip, iter);
     *out.words = word_matrix(num_users, num_users, true);
-    const fp::requantizer<P> q_iter(iter.spec);
-    const int rg_frac = recip.frac() + g.frac();
-    for (int i = 0; i < num_users; ++i) {
-      const word ri = recip.words->re[static_cast<std::size_t>(i)];
-      for (int j = 0; j < num_users; ++j) {
-        fp::cword<P> v = negate(scale<P>(get(gm, i, j), ri));
-        if (i == j) v.re = P(v.re + fp::pow2<P>(rg_frac));
-        put(*iter.words, i, j, narrow(fp::requantize(v, rg_frac, q_iter, *iter.counters)));
-      }
-    }
     // Terms: term 0 is diag(r) at the reciprocal's fraction bits.
     const int num_extra = num_terms_ - 1;
     if (num_extra > 0) *term_node.words = word_matrix(num_users, num_users * num_extra, true);

@@ -13,9 +13,9 @@ namespace {
 class power_stage final : public stage {
  public:
   power_stage(bool per_antenna, const golden::unit_choice& rsqrt_unit)
-      : stage("power", power_ports(divide_root_unit(fp::newton_function::rsqrt, rsqrt_unit))),
+      : stage("power", power_ports(divide_root_unit(fp::newton_function::rsqrt, rsqrt_unit, norm_nodes))),
         per_antenna_(per_antenna),
-        unit_(fp::newton_function::rsqrt, rsqrt_unit) {}
+        unit_(fp::newton_function::rsqrt, rsqrt_unit, norm_nodes) {}
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
     const int pre = bits_of(c, source(0, 0));
     return product_bits({pre, pre}, bits_of(c, node_id::power_acc)) + 1;

@@ -1,6 +1,7 @@
 #include "units.hpp"
 
 #include <cmath>
+#include <stdexcept>
 
 #include "fxmimo/fixedpoint/divide.hpp"
 
@@ -10,18 +11,33 @@ namespace {
 
 bool is_reciprocal(fp::newton_function f) { return f == fp::newton_function::reciprocal; }
 
+/// The size of a unit's entry or step dimension.
+void set_dim(dimension_sizes& dims, dim d, int size) {
+  switch (d) {
+    case dim::recip_entry: dims.recip_entry = size; return;
+    case dim::recip_step: dims.recip_step = size; return;
+    case dim::rsqrt_entry: dims.rsqrt_entry = size; return;
+    case dim::rsqrt_step: dims.rsqrt_step = size; return;
+    case dim::chol_rsqrt_entry: dims.chol_rsqrt_entry = size; return;
+    case dim::chol_rsqrt_step: dims.chol_rsqrt_step = size; return;
+    default: throw std::logic_error("divide_root_unit: a unit's ROM or step node has another dimension");
+  }
+}
+
 }  // namespace
 
-divide_root_unit::divide_root_unit(fp::newton_function function, const golden::unit_choice& choice)
+divide_root_unit::divide_root_unit(fp::newton_function function, const golden::unit_choice& choice,
+                                   const unit_nodes& nodes)
     : function_(function),
       choice_(choice),
-      rom_(is_reciprocal(function) ? node_id::recip_rom : node_id::rsqrt_rom),
-      mant_(is_reciprocal(function) ? node_id::recip_mant : node_id::rsqrt_mant),
-      square_(node_id::rsqrt_sq),
-      prod_(is_reciprocal(function) ? node_id::recip_prod : node_id::rsqrt_prod),
-      iter_(is_reciprocal(function) ? node_id::recip_iter : node_id::rsqrt_iter) {}
+      output_(nodes.output),
+      rom_(nodes.rom),
+      mant_(nodes.mant),
+      square_(nodes.square),
+      prod_(nodes.prod),
+      iter_(nodes.iter) {}
 
-node_id divide_root_unit::output() const { return is_reciprocal(function_) ? node_id::inv_diag_recip : node_id::norm; }
+node_id divide_root_unit::output() const { return output_; }
 
 std::vector<port> divide_root_unit::ports(node_id input) const {
   if (!choice_.newton) return {{output(), {input}}};
@@ -45,13 +61,8 @@ std::vector<port> divide_root_unit::ports(node_id input) const {
 void divide_root_unit::set_dims(dimension_sizes& dims) const {
   const int entries = choice_.newton ? 1 << choice_.seed_bits : 0;
   const int steps = choice_.newton ? choice_.steps : 0;
-  if (is_reciprocal(function_)) {
-    dims.recip_entry = entries;
-    dims.recip_step = steps;
-  } else {
-    dims.rsqrt_entry = entries;
-    dims.rsqrt_step = steps;
-  }
+  set_dim(dims, dims_of(rom_)[0], entries);
+  set_dim(dims, dims_of(prod_)[1], steps);
 }
 
 divide_root_unit::session divide_root_unit::start(fixed_context& ctx, int num_values) const {

@@ -2,8 +2,8 @@
 // A divide or root node of a stage, built as the scenario's [units.NODE] says: the exact unit
 // (fixedpoint/divide.hpp, the result rounded once) or a table + Newton-Raphson unit
 // (fixedpoint/newton.hpp) whose intermediates are nodes of their own. The stages that compute
-// inv_diag_recip (ldl, neumann) and norm (power) hold one; it is the one home of the unit's
-// nodes, ports, words, golden view and cost.
+// inv_diag_recip (ldl, neumann, gauss_seidel), chol_diag_rsqrt (cholesky) and norm (power) hold
+// one; it is the one home of the unit's nodes, ports, words, golden view and cost.
 #include <vector>
 
 #include "../stage_support.hpp"
@@ -12,10 +12,26 @@
 
 namespace fxmimo::datapath::detail {
 
+/// The nodes of one unit: its output and its intermediates (`square` only for rsqrt). The
+/// entry and step dimensions are those of the rom's and prod's node-table rows.
+struct unit_nodes {
+  node_id output, rom, mant, square, prod, iter;
+};
+/// inv_diag_recip: 1 / d_j (LDL^H) or 1 / G_jj (Neumann, Gauss-Seidel), the recip_* nodes.
+inline constexpr unit_nodes diag_recip_nodes{node_id::inv_diag_recip, node_id::recip_rom,  node_id::recip_mant,
+                                             node_id::recip_prod,     node_id::recip_prod, node_id::recip_iter};
+/// norm: 1 / sqrt(power_acc), the rsqrt_* nodes.
+inline constexpr unit_nodes norm_nodes{node_id::norm,     node_id::rsqrt_rom,  node_id::rsqrt_mant,
+                                       node_id::rsqrt_sq, node_id::rsqrt_prod, node_id::rsqrt_iter};
+/// chol_diag_rsqrt: 1 / sqrt(r_j) of the Cholesky diagonal, the chol_rsqrt_* nodes.
+inline constexpr unit_nodes chol_rsqrt_nodes{node_id::chol_diag_rsqrt, node_id::chol_rsqrt_rom,
+                                             node_id::chol_rsqrt_mant, node_id::chol_rsqrt_sq,
+                                             node_id::chol_rsqrt_prod, node_id::chol_rsqrt_iter};
+
 class divide_root_unit {
  public:
-  /// `function`: reciprocal (output inv_diag_recip) or rsqrt (output norm).
-  divide_root_unit(fp::newton_function function, const golden::unit_choice& choice);
+  /// `function`: reciprocal or rsqrt; `nodes`: the output and intermediate nodes it computes.
+  divide_root_unit(fp::newton_function function, const golden::unit_choice& choice, const unit_nodes& nodes);
 
   [[nodiscard]] bool newton() const { return choice_.newton; }
   [[nodiscard]] node_id output() const;
@@ -51,7 +67,7 @@ class divide_root_unit {
  private:
   fp::newton_function function_;
   golden::unit_choice choice_;
-  node_id rom_, mant_, square_, prod_, iter_;
+  node_id output_, rom_, mant_, square_, prod_, iter_;
 };
 
 }  // namespace fxmimo::datapath::detail

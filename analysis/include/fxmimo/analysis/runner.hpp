@@ -95,7 +95,8 @@ struct trial_summary {
   double evm_impl = 0.0;  ///< fraction, not %
   double tx_power_error_db = 0.0;
   double neumann_radius = 0.0;
-  double gram_condition = 0.0;  ///< 0 without a Gram
+  double gauss_seidel_residual = 0.0;  ///< golden ||I - G X||_F / sqrt(K) with inversion = gauss_seidel, else 0
+  double gram_condition = 0.0;         ///< 0 without a Gram
 };
 
 /// Golden trial, fixed datapath, evaluation through the true channel, per-node errors.

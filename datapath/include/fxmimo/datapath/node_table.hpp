@@ -18,52 +18,65 @@ namespace fxmimo::datapath {
 /// Identifies a node: the reference nodes by name; a node registered by a program of its own
 /// takes the next free value (num_reference_nodes, num_reference_nodes + 1, ...).
 enum class node_id : std::uint16_t {
-  adc,             ///< received pilot block after the AGC (M x tau_p)
-  pilot_rom,       ///< stored pilot sequences (tau_p x K)
-  pilot_acc,       ///< correlator accumulator sum_t adc[m,t] conj(pilot[t,k]) (M x K)
-  est_scale,       ///< per-user estimator scale, LS or MMSE (K)
-  chan_est,        ///< channel estimate H_hat = pilot_acc * est_scale (M x K)
-  gram,            ///< G = H_hat^H H_hat (+ regulariser), summed over antennas (K x K)
-  ldl_acc,         ///< LDL^H accumulator: d_j on the diagonal, l_ij d_j below (K x K)
-  recip_rom,       ///< seed ROM of a table + Newton reciprocal unit (2^a)
-  recip_mant,      ///< its normalised input mantissa m in [1/2, 1] (K)
-  recip_prod,      ///< its products p_k = m x_k, steps side by side (K x n)
-  recip_iter,      ///< its iterates x_k+1 = x_k (2 - p_k), steps side by side (K x n)
-  inv_diag_recip,  ///< 1 / d_j (LDL) or 1 / G_jj (Neumann) (K)
-  inv_factor,      ///< L, strictly lower part (K x K)
-  inv_fwd,         ///< forward substitution L y = e_c, all columns: L^-1 (K x K)
-  inv_iter,        ///< Neumann iteration matrix B = I - D^-1 G (K x K)
-  inv_term,        ///< Neumann terms B^n D^-1, n = 1..T-1, side by side (K x K(T-1))
-  inv_out,         ///< G^-1 (K x K)
-  precoder,        ///< W before scaling: conj(H_hat) (MF) or conj(H_hat G^-1) (M x K)
-  power_acc,       ///< sum |W|^2, total (1) or per antenna (M)
-  rsqrt_rom,       ///< seed ROM of a table + Newton reciprocal square root unit (2^a)
-  rsqrt_mant,      ///< its normalised input mantissa m in [1/4, 1] (1 or M)
-  rsqrt_sq,        ///< its squares s_k = x_k^2, steps side by side (1 or M x n)
-  rsqrt_prod,      ///< its products p_k = m s_k (1 or M x n)
-  rsqrt_iter,      ///< its iterates x_k+1 = x_k (3 - p_k) / 2 (1 or M x n)
-  norm,            ///< 1 / sqrt(power_acc) (1 or M)
-  tx_gain,         ///< constant sqrt(P_dig) (total) or sqrt(P_dig / M) (per antenna)
-  weights,         ///< W * norm * tx_gain (M x K)
-  symbols,         ///< QAM symbols (K x N)
-  tx_acc,          ///< precoding accumulator sum_k weights[m,k] symbols[k,n] (M x N)
-  dac,             ///< transmitted samples (M x N)
+  adc,              ///< received pilot block after the AGC (M x tau_p)
+  pilot_rom,        ///< stored pilot sequences (tau_p x K)
+  pilot_acc,        ///< correlator accumulator sum_t adc[m,t] conj(pilot[t,k]) (M x K)
+  est_scale,        ///< per-user estimator scale, LS or MMSE (K)
+  chan_est,         ///< channel estimate H_hat = pilot_acc * est_scale (M x K)
+  gram,             ///< G = H_hat^H H_hat (+ regulariser), summed over antennas (K x K)
+  ldl_acc,          ///< LDL^H accumulator: d_j on the diagonal, l_ij d_j below (K x K)
+  recip_rom,        ///< seed ROM of a table + Newton reciprocal unit (2^a)
+  recip_mant,       ///< its normalised input mantissa m in [1/2, 1] (K)
+  recip_prod,       ///< its products p_k = m x_k, steps side by side (K x n)
+  recip_iter,       ///< its iterates x_k+1 = x_k (2 - p_k), steps side by side (K x n)
+  inv_diag_recip,   ///< 1 / d_j (LDL) or 1 / G_jj (Neumann, Gauss-Seidel) (K)
+  inv_factor,       ///< L, strictly lower part (K x K)
+  inv_fwd,          ///< forward substitution L y = e_c, all columns: L^-1 (K x K)
+  chol_acc,         ///< Cholesky accumulator: residual r_j on the diagonal, numerators below (K x K)
+  chol_rsqrt_rom,   ///< seed ROM of the Cholesky diagonal's table + Newton rsqrt unit (2^a)
+  chol_rsqrt_mant,  ///< its normalised input mantissa m in [1/4, 1] (K)
+  chol_rsqrt_sq,    ///< its squares s_k = x_k^2, steps side by side (K x n)
+  chol_rsqrt_prod,  ///< its products p_k = m s_k (K x n)
+  chol_rsqrt_iter,  ///< its iterates x_k+1 = x_k (3 - p_k) / 2 (K x n)
+  chol_diag_rsqrt,  ///< 1 / l_jj = 1 / sqrt(r_j) (K)
+  chol_factor,      ///< Cholesky factor L, strictly lower part (K x K)
+  chol_fwd,         ///< forward substitution L y = e_c with the reciprocal roots: L^-1 (K x K)
+  inv_iter,         ///< iteration matrix B = I - D^-1 G, Neumann and Gauss-Seidel (K x K)
+  inv_term,         ///< Neumann terms B^n D^-1, n = 1..T-1, side by side (K x K(T-1))
+  gs_sweep,         ///< Gauss-Seidel iterates X_s, s = 1..S-1, side by side (K x K(S-1))
+  inv_out,          ///< G^-1 (K x K)
+  precoder,         ///< W before scaling: conj(H_hat) (MF) or conj(H_hat G^-1) (M x K)
+  power_acc,        ///< sum |W|^2, total (1) or per antenna (M)
+  rsqrt_rom,        ///< seed ROM of a table + Newton reciprocal square root unit (2^a)
+  rsqrt_mant,       ///< its normalised input mantissa m in [1/4, 1] (1 or M)
+  rsqrt_sq,         ///< its squares s_k = x_k^2, steps side by side (1 or M x n)
+  rsqrt_prod,       ///< its products p_k = m s_k (1 or M x n)
+  rsqrt_iter,       ///< its iterates x_k+1 = x_k (3 - p_k) / 2 (1 or M x n)
+  norm,             ///< 1 / sqrt(power_acc) (1 or M)
+  tx_gain,          ///< constant sqrt(P_dig) (total) or sqrt(P_dig / M) (per antenna)
+  weights,          ///< W * norm * tx_gain (M x K)
+  symbols,          ///< QAM symbols (K x N)
+  tx_acc,           ///< precoding accumulator sum_k weights[m,k] symbols[k,n] (M x N)
+  dac,              ///< transmitted samples (M x N)
 };
 
 /// A named dimension of a node's words. Its size comes from the scenario through the plan
 /// (plan.hpp: dimension_sizes).
 enum class dim : std::uint8_t {
-  antenna,       ///< M
-  user,          ///< K
-  pilot_symbol,  ///< tau_p
-  symbol,        ///< N
-  term_user,     ///< K (T - 1): Neumann terms n = 1..T-1 side by side, column (n-1) K + c
-  power_group,   ///< M with per-antenna power normalisation, else 1 (named antenna or one)
-  recip_entry,   ///< 2^a: entries of the reciprocal unit's seed ROM
-  recip_step,    ///< n: the reciprocal unit's Newton steps
-  rsqrt_entry,   ///< 2^a: entries of the reciprocal square root unit's seed ROM
-  rsqrt_step,    ///< n: its Newton steps
-  one,           ///< 1: a column vector's second dimension, left out of vector files
+  antenna,           ///< M
+  user,              ///< K
+  pilot_symbol,      ///< tau_p
+  symbol,            ///< N
+  term_user,         ///< K (T - 1): Neumann terms n = 1..T-1 side by side, column (n-1) K + c
+  power_group,       ///< M with per-antenna power normalisation, else 1 (named antenna or one)
+  recip_entry,       ///< 2^a: entries of the reciprocal unit's seed ROM
+  recip_step,        ///< n: the reciprocal unit's Newton steps
+  rsqrt_entry,       ///< 2^a: entries of the reciprocal square root unit's seed ROM
+  rsqrt_step,        ///< n: its Newton steps
+  chol_rsqrt_entry,  ///< 2^a: entries of the Cholesky diagonal's rsqrt unit's seed ROM
+  chol_rsqrt_step,   ///< n: its Newton steps
+  sweep_user,        ///< K (S - 1): Gauss-Seidel sweeps s = 1..S-1 side by side, column (s-1) K + c
+  one,               ///< 1: a column vector's second dimension, left out of vector files
 };
 
 /// What a node is in hardware.
@@ -157,7 +170,7 @@ inline constexpr std::array reference_node_table{
              false,
              {dim::user, dim::one},
              node_role::register_,
-             "1 / d_j (LDL^H) or 1 / G_jj (Neumann)"},
+             "1 / d_j (LDL^H) or 1 / G_jj (Neumann, Gauss-Seidel)"},
     node_row{node_id::inv_factor,
              "inv_factor",
              true,
@@ -170,18 +183,78 @@ inline constexpr std::array reference_node_table{
              {dim::user, dim::user},
              node_role::accumulator,
              "forward substitution L y = e_c for every column: L^-1"},
+    node_row{node_id::chol_acc,
+             "chol_acc",
+             true,
+             {dim::user, dim::user},
+             node_role::accumulator,
+             "Cholesky accumulator: residual r_j on the diagonal, numerators l_ij l_jj below"},
+    node_row{node_id::chol_rsqrt_rom,
+             "chol_rsqrt_rom",
+             false,
+             {dim::chol_rsqrt_entry, dim::one},
+             node_role::rom,
+             "seed ROM of the Cholesky diagonal's rsqrt unit: 1 / sqrt(midpoint of entry i's interval)"},
+    node_row{node_id::chol_rsqrt_mant,
+             "chol_rsqrt_mant",
+             false,
+             {dim::user, dim::one},
+             node_role::register_,
+             "Cholesky rsqrt unit: input normalised by an even shift, in [1/4, 1]"},
+    node_row{node_id::chol_rsqrt_sq,
+             "chol_rsqrt_sq",
+             false,
+             {dim::user, dim::chol_rsqrt_step},
+             node_role::register_,
+             "Cholesky rsqrt unit: s_k = x_k^2, Newton steps side by side"},
+    node_row{node_id::chol_rsqrt_prod,
+             "chol_rsqrt_prod",
+             false,
+             {dim::user, dim::chol_rsqrt_step},
+             node_role::register_,
+             "Cholesky rsqrt unit: p_k = chol_rsqrt_mant s_k, Newton steps side by side"},
+    node_row{node_id::chol_rsqrt_iter,
+             "chol_rsqrt_iter",
+             false,
+             {dim::user, dim::chol_rsqrt_step},
+             node_role::register_,
+             "Cholesky rsqrt unit: x_k+1 = x_k (3 - p_k) / 2, Newton steps side by side"},
+    node_row{node_id::chol_diag_rsqrt,
+             "chol_diag_rsqrt",
+             false,
+             {dim::user, dim::one},
+             node_role::register_,
+             "1 / l_jj = 1 / sqrt(r_j), the Cholesky diagonal's reciprocal root"},
+    node_row{node_id::chol_factor,
+             "chol_factor",
+             true,
+             {dim::user, dim::user},
+             node_role::register_,
+             "Cholesky factor L, strictly lower part"},
+    node_row{node_id::chol_fwd,
+             "chol_fwd",
+             true,
+             {dim::user, dim::user},
+             node_role::accumulator,
+             "forward substitution L y = e_c for every column with the reciprocal roots: L^-1"},
     node_row{node_id::inv_iter,
              "inv_iter",
              true,
              {dim::user, dim::user},
              node_role::register_,
-             "Neumann iteration matrix B = I - D^-1 G"},
+             "iteration matrix B = I - D^-1 G (Neumann, Gauss-Seidel)"},
     node_row{node_id::inv_term,
              "inv_term",
              true,
              {dim::user, dim::term_user},
              node_role::accumulator,
              "Neumann terms B^n D^-1, n = 1..T-1, side by side"},
+    node_row{node_id::gs_sweep,
+             "gs_sweep",
+             true,
+             {dim::user, dim::sweep_user},
+             node_role::accumulator,
+             "Gauss-Seidel iterates X_s, s = 1..S-1, side by side"},
     node_row{node_id::inv_out, "inv_out", true, {dim::user, dim::user}, node_role::accumulator, "G^-1"},
     node_row{node_id::precoder,
              "precoder",

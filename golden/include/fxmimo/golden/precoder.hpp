@@ -13,13 +13,14 @@ namespace fxmimo::golden {
 
 /// The precoding nodes of one base station (README "How it computes", the node table).
 struct precoder_output {
-  Eigen::MatrixXcd gram;           ///< G = H_hat^H H_hat (+ lambda I for RZF), K x K; empty for MF
-  std::optional<ldl_factors> ldl;  ///< factors when inversion = ldl
-  Eigen::MatrixXcd inverse;        ///< G^-1 (or its Neumann approximation), K x K; empty for MF
-  double neumann_radius = 0.0;     ///< spectral radius of I - D^-1 G when inversion = neumann, else 0
-  Eigen::MatrixXcd precoder;       ///< W (M x K) before scaling
-  Eigen::VectorXd norm;            ///< size 1 (total) or M (per antenna)
-  Eigen::MatrixXcd weights;        ///< diag(norm) W, or norm * W
+  Eigen::MatrixXcd gram;               ///< G = H_hat^H H_hat (+ lambda I for RZF), K x K; empty for MF
+  std::optional<ldl_factors> ldl;      ///< factors when inversion = ldl
+  Eigen::MatrixXcd inverse;            ///< G^-1 (or its Neumann approximation), K x K; empty for MF
+  double neumann_radius = 0.0;         ///< spectral radius of I - D^-1 G when inversion = neumann, else 0
+  double gauss_seidel_residual = 0.0;  ///< ||I - G X||_F / sqrt(K) when inversion = gauss_seidel, else 0
+  Eigen::MatrixXcd precoder;           ///< W (M x K) before scaling
+  Eigen::VectorXd norm;                ///< size 1 (total) or M (per antenna)
+  Eigen::MatrixXcd weights;            ///< diag(norm) W, or norm * W
 };
 
 /// G[i,j] = sum_m conj(H[m,i]) H[m,j], summed over antennas in index order.

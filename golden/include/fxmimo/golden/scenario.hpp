@@ -27,7 +27,7 @@ enum class channel_model { rayleigh, correlated, rician };
 enum class pilot_sequence { dft, walsh };
 enum class estimator_kind { ls, mmse, perfect };
 enum class precoder_kind { mf, zf, rzf };
-enum class inversion_kind { ldl, neumann, reference };
+enum class inversion_kind { ldl, neumann, reference, cholesky, gauss_seidel };
 enum class power_normalization { total, per_antenna };
 enum class modulation { qpsk, qam16, qam64, qam256, qam1024 };
 
@@ -77,6 +77,7 @@ struct precoder_config {
   precoder_kind kind = precoder_kind::zf;
   inversion_kind inversion = inversion_kind::ldl;
   int neumann_terms = 3;         ///< T, 1..64
+  int gauss_seidel_sweeps = 2;   ///< S, 1..64 (inversion = gauss_seidel)
   bool has_regularizer = false;  ///< false: RZF uses K / rho_d
   double regularizer = 0.0;      ///< RZF diagonal loading when has_regularizer
   power_normalization normalization = power_normalization::total;
@@ -104,8 +105,9 @@ struct unit_choice {
 
 /// The divide and root units of the datapath.
 struct units_config {
-  unit_choice inv_diag_recip;  ///< 1 / d_j (LDL^H) or 1 / G_jj (Neumann): a reciprocal
-  unit_choice norm;            ///< 1 / sqrt(power_acc): a reciprocal square root
+  unit_choice inv_diag_recip;   ///< 1 / d_j (LDL^H) or 1 / G_jj (Neumann, Gauss-Seidel): a reciprocal
+  unit_choice norm;             ///< 1 / sqrt(power_acc): a reciprocal square root
+  unit_choice chol_diag_rsqrt;  ///< 1 / sqrt(r_j) of the Cholesky diagonal: a reciprocal square root
 };
 
 /// One parsed and validated scenario.

@@ -46,14 +46,15 @@ struct trial_data {
   Eigen::MatrixXcd chan_est;   ///< H_hat = pilot_acc diag(est_scale), or the true channel (perfect CSI)
 
   // Downlink at BS 0.
-  Eigen::MatrixXcd gram;           ///< K x K (with the RZF loading); empty for MF
-  std::optional<ldl_factors> ldl;  ///< when inversion = ldl
-  Eigen::MatrixXcd inverse;        ///< K x K; empty for MF
-  double neumann_radius = 0.0;     ///< spectral radius of I - D^-1 G (inversion = neumann), else 0
-  Eigen::MatrixXcd precoder;       ///< M x K before scaling
-  Eigen::VectorXd norm;            ///< size 1 (total) or M (per antenna)
-  Eigen::MatrixXcd weights;        ///< M x K
-  double digital_power = 0.0;      ///< P_dig = M 10^(-dac_backoff_db/10)
+  Eigen::MatrixXcd gram;               ///< K x K (with the RZF loading); empty for MF
+  std::optional<ldl_factors> ldl;      ///< when inversion = ldl
+  Eigen::MatrixXcd inverse;            ///< K x K; empty for MF
+  double neumann_radius = 0.0;         ///< spectral radius of I - D^-1 G (inversion = neumann), else 0
+  double gauss_seidel_residual = 0.0;  ///< ||I - G X||_F / sqrt(K) (inversion = gauss_seidel), else 0
+  Eigen::MatrixXcd precoder;           ///< M x K before scaling
+  Eigen::VectorXd norm;                ///< size 1 (total) or M (per antenna)
+  Eigen::MatrixXcd weights;            ///< M x K
+  double digital_power = 0.0;          ///< P_dig = M 10^(-dac_backoff_db/10)
 
   // Data phase: generated block by block (data_stream).
   std::vector<label_rows> cell_labels;  ///< [l]: where BS l's labels start
