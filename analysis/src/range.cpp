@@ -11,6 +11,7 @@
 #include "fxmimo/analysis/runner.hpp"
 #include "fxmimo/analysis/statistics.hpp"
 #include "fxmimo/analysis/tail.hpp"
+#include "fxmimo/datapath/block_float.hpp"
 #include "fxmimo/datapath/datapath.hpp"
 #include "fxmimo/golden/precoder.hpp"
 #include "fxmimo/golden/trial.hpp"
@@ -105,7 +106,9 @@ range_results profile_ranges(const golden::scenario& scen, const datapath::datap
         [&](std::size_t k) {
           const std::size_t t = share.begin + k;
           const golden::trial_data trial = golden::run_trial(scen, t);
-          const auto values = datapath::golden_block_values(plan, scen, trial);
+          // A block-scaled node's words hold mantissas: its range is that of its words' scale.
+          auto values = datapath::golden_block_values(plan, scen, trial);
+          datapath::golden_to_word_scale(plan, values);
           if (trial.gram.size() > 0) conditions[t] = golden::condition_number(trial.gram);
           // This trial's profile of each node, over its values (a data node's block by block).
           std::vector<node_profile> mine(active.size());

@@ -13,6 +13,7 @@
 #include "fxmimo/analysis/resources.hpp"
 #include "fxmimo/analysis/statistics.hpp"
 #include "fxmimo/analysis/trial_cache.hpp"
+#include "fxmimo/datapath/block_float.hpp"
 #include "fxmimo/golden/gauss_seidel.hpp"
 #include "fxmimo/golden/link_metrics.hpp"
 #include "fxmimo/golden/precoder.hpp"
@@ -136,10 +137,19 @@ trial_summary summarise_trial(const datapath::datapath_plan& plan, const golden:
   trial_summary out;
   out.trial_index = trial.trial_index;
   out.nodes.resize(datapath::node_count());
+  // A block-scaled node is measured on its words: its golden value at the scale of the fixed
+  // exponents (README "Block floating point").
+  const Eigen::VectorXi exponents = datapath::has_block_float(plan)
+                                        ? datapath::fixed_block_exponents(plan.block_top, config, fixed.words)
+                                        : Eigen::VectorXi();
   for (datapath::node_id id : plan.nodes()) {
     const std::size_t i = datapath::index_of(id);
     if (in_data_phase(id) && measured_now(id)) {
       out.nodes[i].id = id;
+    } else if (measured_now(id) && plan.law_of(id).carries()) {
+      Eigen::MatrixXcd at_word_scale = g.node_values[i];
+      datapath::apply_exponent_law(plan, id, at_word_scale, exponents, -1);
+      out.nodes[i] = measure_node(id, config[id], fixed.counters[i], at_word_scale, fixed.words[i]);
     } else if (measured_now(id)) {
       out.nodes[i] = measure_node(id, config[id], fixed.counters[i], g.node_values[i], fixed.words[i]);
     } else {

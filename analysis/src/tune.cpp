@@ -365,4 +365,74 @@ tune_results tune_widths_at_corners(const std::vector<tune_corner>& corners, con
   return out;
 }
 
+std::vector<std::pair<std::string, golden::units_config>> unit_variants(const golden::scenario& scen) {
+  std::vector<std::pair<std::string, golden::units_config>> out;
+  golden::units_config own = scen.units;
+  std::string own_label;
+  for (const golden::unit_alternatives& a : scen.units.alternatives)
+    own_label += (own_label.empty() ? "" : ", ") + a.node + ": " + own.of(a.node).label();
+  out.emplace_back(own_label, own);
+  // The cross product, the scenario's own combination first (odometer order over the nodes).
+  std::vector<std::size_t> digit(scen.units.alternatives.size(), 0);
+  while (true) {
+    std::size_t i = 0;
+    for (; i < digit.size(); ++i) {
+      if (++digit[i] <= scen.units.alternatives[i].choices.size()) break;
+      digit[i] = 0;
+    }
+    if (i == digit.size()) break;
+    golden::units_config u = scen.units;
+    std::string label;
+    for (std::size_t j = 0; j < digit.size(); ++j) {
+      const golden::unit_alternatives& a = scen.units.alternatives[j];
+      if (digit[j] > 0) u.of(a.node) = a.choices[digit[j] - 1];
+      label += (label.empty() ? "" : ", ") + a.node + ": " + u.of(a.node).label();
+    }
+    out.emplace_back(label, u);
+  }
+  return out;
+}
+
+tune_results tune_unit_variants(const std::vector<tune_corner>& corners, const datapath::datapath_config& start,
+                                const tune_limits& limits, cost_model model, unsigned num_threads, double overflow_prob,
+                                double search_margin, const std::function<void(const std::string&)>& status,
+                                std::optional<double> cache_budget_bytes) {
+  if (corners.empty()) throw std::invalid_argument("tune_unit_variants: no corner");
+  const auto variants = unit_variants(corners.front().scen);
+  if (variants.size() == 1) {
+    tune_results r = tune_widths_at_corners(corners, start, limits, model, num_threads, overflow_prob, search_margin,
+                                            status, cache_budget_bytes);
+    r.units = corners.front().scen.units;
+    return r;
+  }
+  std::vector<tune_results> all;
+  std::vector<variant_outcome> outcomes;
+  for (std::size_t v = 0; v < variants.size(); ++v) {
+    const auto& [label, units] = variants[v];
+    std::vector<tune_corner> these = corners;
+    for (tune_corner& c : these) c.scen.units = units;
+    const auto say = [&](const std::string& s) {
+      if (status) status(s.empty() ? s : fmt::format("units {}/{} ({}): {}", v + 1, variants.size(), label, s));
+    };
+    all.push_back(tune_widths_at_corners(these, start, limits, model, num_threads, overflow_prob, search_margin, say,
+                                         cache_budget_bytes));
+    all.back().units = units;
+    outcomes.push_back({label, all.back().cost, all.back().met, all.back().verification.worst_ratio(limits),
+                        all.back().evaluations, false});
+  }
+  // The cheapest that meets the limits; else the one closest to them.
+  std::size_t best = 0;
+  for (std::size_t v = 1; v < all.size(); ++v) {
+    const variant_outcome &a = outcomes[v], &b = outcomes[best];
+    const bool better = a.met != b.met ? a.met : (a.met ? a.cost < b.cost : a.worst_ratio < b.worst_ratio);
+    if (better) best = v;
+  }
+  outcomes[best].chosen = true;
+  tune_results out = std::move(all[best]);
+  out.variants = std::move(outcomes);
+  for (const variant_outcome& o : out.variants)
+    if (!o.chosen) out.evaluations += o.evaluations;
+  return out;
+}
+
 }  // namespace fxmimo::analysis

@@ -360,15 +360,16 @@ int run_tune(const tune_options& opt) {
   const std::optional<double> budget = cache_budget_bytes(opt.resources);
   analysis::tune_results r;
   try {
-    r = analysis::tune_widths_at_corners(corners, in.config, limits, model, opt.num_threads, opt.overflow_prob,
-                                         opt.margin, show_status, budget);
+    r = analysis::tune_unit_variants(corners, in.config, limits, model, opt.num_threads, opt.overflow_prob, opt.margin,
+                                     show_status, budget);
   } catch (const std::invalid_argument& e) {
     throw usage_error(e.what());
   }
   show_status("");
   fmt::print("{}", report::format_tune_table(r));
+  // With unit alternatives, the chosen units go into their [units.NODE] tables.
   write_file_atomically(opt.out_path, datapath::scenario_with_nodes(
-                                          in.text(), r.config, r.nodes,
+                                          golden::scenario_with_units(in.text(), r.units), r.config, r.nodes,
                                           fmt::format("Widths chosen by fxmimo tune: cost {:.0f} ({}), {}", r.cost,
                                                       analysis::to_string(model),
                                                       r.met ? "verified on fresh trials" : "NOT verified: " + r.note)));

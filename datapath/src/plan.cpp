@@ -21,6 +21,27 @@ std::vector<plan_extension>& extensions() {
   return registered;
 }
 
+/// Every node's exponent law, stage by stage: an output whose sources carry none carries none,
+/// except the estimate's (its stage finds the exponents); the others ask their stage.
+void derive_exponent_laws(datapath_plan& plan) {
+  plan.laws.assign(node_count(), exponent_law{});
+  for (const auto& s : plan.stages) {
+    for (const port& p : s->ports()) {
+      const bool scaled_input = std::any_of(p.sources.begin(), p.sources.end(),
+                                            [&](node_id src) { return plan.laws[index_of(src)].carries(); });
+      if (!scaled_input && p.node != node_id::chan_est) continue;
+      const std::optional<exponent_law> law = s->carried_law(p.node);
+      if (!law) {
+        throw std::logic_error(
+            fmt::format("stage {} computes {} from block-scaled words but carries no exponent "
+                        "law (stage::carried_law)",
+                        s->name(), node_name(p.node)));
+      }
+      plan.laws[index_of(p.node)] = *law;
+    }
+  }
+}
+
 }  // namespace
 
 std::vector<node_id> datapath_plan::nodes() const {
@@ -29,6 +50,8 @@ std::vector<node_id> datapath_plan::nodes() const {
     for (const port& p : s->ports()) out.push_back(p.node);
   return out;
 }
+
+exponent_law datapath_plan::law_of(node_id id) const { return laws.empty() ? exponent_law{} : laws[index_of(id)]; }
 
 bool datapath_plan::has(node_id id) const { return producer(id) != nullptr; }
 
@@ -134,6 +157,8 @@ datapath_plan stages_for(const golden::scenario& scen) {
         .set_dims(plan.dims);
   detail::divide_root_unit(fixedpoint::newton_function::rsqrt, scen.units.norm, detail::norm_nodes).set_dims(plan.dims);
 
+  const std::optional<int> block_top =
+      scen.block_float.chan_est.on ? std::optional<int>(scen.block_float.chan_est.top) : std::nullopt;
   auto& s = plan.stages;
   s.push_back(make_golden_converter(node_id::adc, [](const golden::trial_data& t) { return t.adc; }));
   s.push_back(make_golden_converter(node_id::pilot_rom, [](const golden::trial_data& t) { return t.pilots; }));
@@ -145,11 +170,11 @@ datapath_plan stages_for(const golden::scenario& scen) {
     // Perfect channel knowledge: the estimate is the golden channel converted into words.
     s.push_back(make_golden_converter(node_id::chan_est, [](const golden::trial_data& t) { return t.chan_est; }));
   } else {
-    s.push_back(detail::make_estimate());
+    s.push_back(detail::make_estimate(block_top));
   }
   if (uses_inverse) {
     const bool loaded = scen.precoder.kind == golden::precoder_kind::rzf;
-    s.push_back(detail::make_gram(loaded ? std::optional<double>(scen.rzf_regularizer()) : std::nullopt));
+    s.push_back(detail::make_gram(loaded ? std::optional<double>(scen.rzf_regularizer()) : std::nullopt, block_top));
     if (neumann) {
       s.push_back(detail::make_neumann(scen.precoder.neumann_terms, scen.units.inv_diag_recip));
     } else if (gauss_seidel) {
@@ -163,7 +188,7 @@ datapath_plan stages_for(const golden::scenario& scen) {
       s.push_back(detail::make_ldl_solves());
     }
   }
-  s.push_back(detail::make_precoder(uses_inverse));
+  s.push_back(detail::make_precoder(uses_inverse, block_top));
   s.push_back(detail::make_power(per_antenna, scen.units.norm));
   const double p_dig = golden::digital_power(scen);
   const double gain = std::sqrt(per_antenna ? p_dig / scen.array.num_antennas : p_dig);
@@ -175,6 +200,10 @@ datapath_plan stages_for(const golden::scenario& scen) {
   s.push_back(make_requantizer(node_id::dac, node_id::tx_acc));
 
   for (const plan_extension& e : extensions()) e(plan, scen);
+  if (scen.block_float.chan_est.on) {
+    plan.block_top = scen.block_float.chan_est.top;
+    derive_exponent_laws(plan);
+  }
   return plan;
 }
 

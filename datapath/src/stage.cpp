@@ -66,6 +66,8 @@ double stage::storage_words(node_id id, const dimension_sizes& dims) const {
   return (node_is_complex(id) ? 2.0 : 1.0) * dims.size(d[0]) * dims.size(d[1]);
 }
 
+std::optional<exponent_law> stage::carried_law(node_id) const { return std::nullopt; }
+
 std::optional<growth_rule> stage::growth(node_id, const datapath_config&, const dimension_sizes&) const {
   return std::nullopt;
 }

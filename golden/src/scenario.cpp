@@ -7,6 +7,7 @@
 #include <cctype>
 #include <cmath>
 #include <fstream>
+#include <functional>
 #include <initializer_list>
 #include <limits>
 #include <optional>
@@ -569,10 +570,9 @@ namespace {
 void read_units(const checked_table& root, scenario& scen) {
   const checked_table u(root.file(), sub_table(root, "units"), "units");
   u.only({"inv_diag_recip", "norm", "chol_diag_rsqrt"});
-  const auto read_one = [&](const char* name, unit_choice& out) {
-    if (!u.has(name)) return;
-    const checked_table t(root.file(), sub_table(u, name), std::string("units.") + name);
-    t.only({"kind", "seed_bits", "steps"});
+  // kind, seed_bits and steps of one table (the node's own or an alternative).
+  const auto read_choice = [](const checked_table& t) {
+    unit_choice out;
     out.newton = t.required("kind", t.choice<bool>("kind", {{"exact", false}, {"newton", true}}));
     if (!out.newton) {
       for (std::string_view key : {"seed_bits", "steps"})
@@ -580,6 +580,34 @@ void read_units(const checked_table& root, scenario& scen) {
     }
     out.seed_bits = static_cast<int>(t.integer("seed_bits", 1, 16).value_or(6));
     out.steps = static_cast<int>(t.integer("steps", 0, 8).value_or(2));
+    return out;
+  };
+  const auto read_one = [&](const char* name, unit_choice& out) {
+    if (!u.has(name)) return;
+    const checked_table t(root.file(), sub_table(u, name), std::string("units.") + name);
+    t.only({"kind", "seed_bits", "steps", "alternatives"});
+    out = read_choice(t);
+    if (!t.has("alternatives")) return;
+    const toml::array* list = t.table().get("alternatives")->as_array();
+    if (list == nullptr || list->empty())
+      t.fail("alternatives", "expected an array of tables, e.g. [{ kind = \"exact\" }]");
+    unit_alternatives alt{name, {}};
+    for (const toml::node& element : *list) {
+      const toml::table* table = element.as_table();
+      if (table == nullptr) {
+        throw scenario_error(root.file(), std::max(line_of(element.source()), 1), t.key("alternatives"),
+                             "every element must be a table such as { kind = \"newton\", seed_bits = 5, steps = 2 }");
+      }
+      const checked_table one(root.file(), *table, t.key("alternatives"));
+      one.only({"kind", "seed_bits", "steps"});
+      const unit_choice choice = read_choice(one);
+      if (choice == out || std::find(alt.choices.begin(), alt.choices.end(), choice) != alt.choices.end()) {
+        throw scenario_error(root.file(), std::max(line_of(element.source()), 1), t.key("alternatives"),
+                             fmt::format("{} is listed twice", choice.label()));
+      }
+      alt.choices.push_back(choice);
+    }
+    scen.units.alternatives.push_back(std::move(alt));
   };
   if (scen.precoder.kind == precoder_kind::mf && u.has("inv_diag_recip"))
     u.fail("inv_diag_recip", "the matched-filter precoder inverts nothing (kind = \"mf\")");
@@ -593,7 +621,39 @@ void read_units(const checked_table& root, scenario& scen) {
   read_one("chol_diag_rsqrt", scen.units.chol_diag_rsqrt);
 }
 
+void read_block_float(const checked_table& root, scenario& scen) {
+  const checked_table b(root.file(), sub_table(root, "block_float"), "block_float");
+  b.only({"chan_est"});
+  if (!b.has("chan_est")) return;
+  const checked_table t(root.file(), sub_table(b, "chan_est"), "block_float.chan_est");
+  t.only({"block", "top"});
+  t.required("block", t.choice<int>("block", {{"user", 0}}));
+  scen.block_float.chan_est = {true, static_cast<int>(t.required("top", t.integer("top", -64, 64)))};
+  if (scen.estimator.kind == estimator_kind::perfect)
+    b.fail("chan_est", "a block exponent is found by the estimate stage (estimator kind ls or mmse, not perfect)");
+  const bool carried = scen.precoder.kind == precoder_kind::mf || scen.precoder.inversion == inversion_kind::ldl ||
+                       scen.precoder.inversion == inversion_kind::neumann ||
+                       scen.precoder.inversion == inversion_kind::reference;
+  if (!carried)
+    b.fail("chan_est",
+           "the column exponents are carried through the LDL^H and Neumann inverters only "
+           "(inversion = \"ldl\" or \"neumann\")");
+}
+
 }  // namespace
+
+std::string unit_choice::label() const {
+  return newton ? fmt::format("newton a={} n={}", seed_bits, steps) : std::string("exact");
+}
+
+const unit_choice& units_config::of(std::string_view node) const {
+  if (node == "inv_diag_recip") return inv_diag_recip;
+  if (node == "norm") return norm;
+  if (node == "chol_diag_rsqrt") return chol_diag_rsqrt;
+  throw std::invalid_argument(fmt::format("no divide or root node '{}'", node));
+}
+
+unit_choice& units_config::of(std::string_view node) { return const_cast<unit_choice&>(std::as_const(*this).of(node)); }
 
 scenario_document parse_scenario_document(std::string text, std::string source_name) {
   toml::table root = parse_toml(text, source_name);
@@ -644,6 +704,64 @@ scenario_document with_overrides(scenario_document doc, const std::vector<scenar
   return doc;
 }
 
+std::string scenario_with_units(const std::string& text, const units_config& units) {
+  std::vector<std::string> lines;
+  {
+    std::istringstream in(text);
+    for (std::string line; std::getline(in, line);) lines.push_back(line);
+  }
+  const toml::table root = parse_toml(text, "(scenario)");
+  // Per node, from the last table to the first (so that earlier line numbers stay valid): the
+  // lines of its kind, seed_bits, steps and alternatives go; the chosen unit's lines and the
+  // other choices (its own and the alternatives, in their order) as alternatives come right
+  // after its header.
+  struct edit {
+    int header;  // 1-based
+    std::vector<std::pair<int, int>> remove;
+    std::vector<std::string> insert;
+  };
+  std::vector<edit> edits;
+  for (const unit_alternatives& a : units.alternatives) {
+    const toml::table* table = root["units"][a.node].as_table();
+    if (table == nullptr) continue;
+    edit e{line_of(table->source()), {}, {}};
+    unit_choice own_before;
+    for (const char* key : {"kind", "seed_bits", "steps", "alternatives"}) {
+      if (const toml::node* n = table->get(key))
+        e.remove.emplace_back(line_of(n->source()), static_cast<int>(n->source().end.line));
+    }
+    own_before.newton = table->get("kind") != nullptr && table->get("kind")->value_or(std::string()) == "newton";
+    own_before.seed_bits = static_cast<int>(table->get("seed_bits") ? table->get("seed_bits")->value_or(6) : 6);
+    own_before.steps = static_cast<int>(table->get("steps") ? table->get("steps")->value_or(2) : 2);
+    const unit_choice& chosen = units.of(a.node);
+    e.insert.push_back(chosen.newton ? "kind = \"newton\"" : "kind = \"exact\"");
+    if (chosen.newton) {
+      e.insert.push_back(fmt::format("seed_bits = {}", chosen.seed_bits));
+      e.insert.push_back(fmt::format("steps = {}", chosen.steps));
+    }
+    std::vector<unit_choice> others{own_before};
+    others.insert(others.end(), a.choices.begin(), a.choices.end());
+    std::string list;
+    for (const unit_choice& c : others) {
+      if (c == chosen) continue;
+      list += list.empty() ? "" : ", ";
+      list += c.newton ? fmt::format("{{ kind = \"newton\", seed_bits = {}, steps = {} }}", c.seed_bits, c.steps)
+                       : std::string("{ kind = \"exact\" }");
+    }
+    if (!list.empty()) e.insert.push_back("alternatives = [" + list + "]");
+    edits.push_back(std::move(e));
+  }
+  std::sort(edits.begin(), edits.end(), [](const edit& x, const edit& y) { return x.header > y.header; });
+  for (edit& e : edits) {
+    std::sort(e.remove.begin(), e.remove.end(), std::greater<>());
+    for (const auto& [first, last] : e.remove) lines.erase(lines.begin() + (first - 1), lines.begin() + last);
+    lines.insert(lines.begin() + e.header, e.insert.begin(), e.insert.end());
+  }
+  std::string out;
+  for (const std::string& l : lines) out += l + "\n";
+  return out;
+}
+
 scenario parse_scenario_text(std::string_view toml_text, std::string source_name) {
   return parse_scenario(parse_scenario_document(std::string(toml_text), std::move(source_name)));
 }
@@ -652,7 +770,7 @@ scenario parse_scenario(const scenario_document& doc) {
   const std::string& source_name = doc.source_name;
   const checked_table root(source_name, doc.root, "");
   root.only({"name", "seed", "trials", "array", "cells", "channel", "pilots", "estimator", "precoder", "data",
-             "frontend", "units", "nodes"});
+             "frontend", "units", "block_float", "nodes"});
 
   scenario scen;
   scen.source_name = source_name;
@@ -680,6 +798,7 @@ scenario parse_scenario(const scenario_document& doc) {
   read_data(root, scen);
   read_frontend(root, scen);
   read_units(root, scen);
+  read_block_float(root, scen);
   return scen;
 }
 

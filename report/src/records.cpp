@@ -613,6 +613,7 @@ tune_record make_record(const golden::scenario& scen, const analysis::tune_resul
     out.int_bits_corner = r.int_bits_corner;
     out.frac_bits_corner = r.frac_bits_corner;
   }
+  for (const analysis::variant_outcome& v : r.variants) out.variants.push_back({v.label, v.cost, v.met, v.chosen});
   out.meets_limits = r.met;
   out.note = r.note;
   return out;
@@ -666,6 +667,13 @@ json to_json(const tune_record& r) {
     for (std::size_t i = 0; i < r.nodes.size() && i < r.int_bits_corner.size(); ++i) {
       out["nodes"][r.nodes[i].node]["int_bits_corner"] = r.int_bits_corner[i];
       out["nodes"][r.nodes[i].node]["frac_bits_corner"] = r.frac_bits_corner[i];
+    }
+  }
+  if (!r.variants.empty()) {
+    out["unit_variants"] = json::array();
+    for (const variant_record& v : r.variants) {
+      out["unit_variants"].push_back(
+          {{"units", v.label}, {"cost", v.cost}, {"meets_limits", v.meets_limits}, {"chosen", v.chosen}});
     }
   }
   if (r.sinr_loss_percentile) out["limits"]["sinr_loss_percentile"] = *r.sinr_loss_percentile;
@@ -748,6 +756,12 @@ tune_record tune_from_json(const checked_json& doc) {
       const checked_json node = nodes[n.node];
       r.int_bits_corner.push_back(node["int_bits_corner"].text());
       r.frac_bits_corner.push_back(node["frac_bits_corner"].text());
+    }
+  }
+  if (const auto vs = doc.find("unit_variants")) {
+    for (std::size_t i = 0; i < vs->size(); ++i) {
+      const checked_json v = (*vs)[i];
+      r.variants.push_back({v["units"].text(), v["cost"].number(), v["meets_limits"].boolean(), v["chosen"].boolean()});
     }
   }
   r.meets_limits = ver["meets_limits"].boolean();

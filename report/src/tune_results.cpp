@@ -58,6 +58,13 @@ std::string format_tune_table(const analysis::tune_results& r) {
     }
     out += "(the figures above are the worst over the corners)\n";
   }
+  if (!r.variants.empty()) {
+    out += fmt::format("\n{:<52} {:>10}  {}\n", "divide and root units (each tuned)", "cost", "fresh trials");
+    for (const analysis::variant_outcome& v : r.variants) {
+      out += fmt::format("{:<52} {:>10.0f}  {}{}\n", v.label, v.cost, v.met ? "PASS" : "FAIL",
+                         v.chosen ? "  <- chosen" : "");
+    }
+  }
   const std::string where = corners ? fmt::format("at {} corners, each on its fresh trials", r.corners.size())
                                     : fmt::format("on {} fresh trials", r.verify_trials.size());
   out += r.met ? fmt::format("verification {}: PASS (every limit met)\n", where)

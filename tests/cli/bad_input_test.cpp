@@ -95,6 +95,9 @@ void prepare(const fs::path& dir) {
   write(dir / "wide_format.toml", replaced(good, "format = \"Q0.11\"", "format = \"Q100.100\""));
   write(dir / "string_trials.toml", replaced(good, "trials = 4", "trials = \"four\""));
   write(dir / "negative_snr_table.toml", replaced(good, "[data]", "data = 3\n[datax]"));
+  write(dir / "block_float_no_top.toml", good + "\n[block_float.chan_est]\nblock = \"user\"\n");
+  write(dir / "unit_alternative_twice.toml",
+        good + "\n[units.norm]\nkind = \"exact\"\nalternatives = [{ kind = \"exact\" }]\n");
   write(dir / "notaset/keep.txt", "");
   fs::create_directories(dir / "notaset");
   write(dir / "notaset" / "keep.txt", "a file of the user's");
@@ -182,6 +185,12 @@ const bad_input catalogue[] = {
     bad_input{"scenario_format_too_wide", "run -c wide_format.toml", "nodes.dac.format"},
     bad_input{"scenario_wrong_type", "run -c string_trials.toml", "string_trials.toml:6: trials: expected an integer"},
     bad_input{"scenario_table_is_a_value", "run -c negative_snr_table.toml", "negative_snr_table.toml"},
+    bad_input{"scenario_block_float_without_top", "run -c block_float_no_top.toml",
+              "block_float.chan_est.top: missing required key"},
+    bad_input{"scenario_unit_alternative_listed_twice",
+              "tune -c unit_alternative_twice.toml --max-sinr-loss 0.1 "
+              "--max-evm 2 -o t.toml",
+              "units.norm.alternatives: exact is listed twice"},
     // Resource guards: memory and work estimated before the first trial.
     bad_input{"scenario_needs_more_memory_than_available", "run -c huge.toml --trials 256 --threads 256",
               "huge.toml:13: cells.users_per_cell: the run needs about"},

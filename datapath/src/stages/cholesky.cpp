@@ -32,7 +32,7 @@ class cholesky_stage final : public stage {
   [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
     const double factor = word_bits_of(c, node_id::chol_factor);
     return 4 * factor * factor + 2 * word_bits_of(c, node_id::chol_acc) * word_bits_of(c, node_id::chol_diag_rsqrt) +
-           unit_.multiplier_cost(c);
+           unit_.multiplier_cost(c, node_id::chol_acc);
   }
   void compute(fixed_context& ctx) const override {
     const node_state g = state(ctx, node_id::gram);

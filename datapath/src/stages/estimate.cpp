@@ -1,14 +1,29 @@
-// The LS / MMSE channel estimate: chan_est[m,k] = Q(pilot_acc[m,k] est_scale[k]).
+// The LS / MMSE channel estimate: chan_est[m,k] = Q(pilot_acc[m,k] est_scale[k]). With block
+// floating point (README "Block floating point") column k shares the exponent e_k = top - u_k:
+// chan_est[m,k] = Q(pilot_acc[m,k] est_scale[k] 2^-e_k), est_exp[k] = u_k, e_k the smallest
+// exponent in [top - u_max, top] at which every rounded part of the column lies in [-1, 1)
+// (u_max: the largest whole number est_exp's format holds).
+#include <cmath>
+
 #include "../stage_support.hpp"
+#include "fxmimo/datapath/block_float.hpp"
 #include "stages.hpp"
 
 namespace fxmimo::datapath::detail {
 
 namespace {
 
+/// The largest whole number a format holds (0 when it holds none above 0), at most the span of
+/// the golden exponents.
+int largest_whole(const fp::format& fmt) {
+  const double top = std::floor(fmt.max_value());
+  return top < 1.0 ? 0 : static_cast<int>(std::min(top, static_cast<double>(max_exponent_span)));
+}
+
 class estimate final : public stage {
  public:
-  estimate() : stage("estimate", {{node_id::chan_est, {node_id::pilot_acc, node_id::est_scale}}}) {}
+  explicit estimate(std::optional<int> block_top)
+      : stage("estimate", ports_for(block_top.has_value())), block_top_(block_top) {}
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
     return product_bits({bits_of(c, source(0, 0)), bits_of(c, source(0, 1))}, bits_of(c, output(0)));
   }
@@ -16,10 +31,15 @@ class estimate final : public stage {
     return 2 * word_bits_of(c, source(0, 0)) * word_bits_of(c, source(0, 1));  // complex times real
   }
   /// Product of a part and a real scale: |a b| < 2^(ma + mb), + 1 for the most negative words.
-  [[nodiscard]] std::optional<growth_rule> growth(node_id, const datapath_config& c,
+  [[nodiscard]] std::optional<growth_rule> growth(node_id id, const datapath_config& c,
                                                   const dimension_sizes&) const override {
+    if (id != node_id::chan_est || block_top_) return std::nullopt;  // mantissas lie in [-1, 1)
     return growth_rule{int_bits_of(c, source(0, 0)) + int_bits_of(c, source(0, 1)) + 1,
                        std::string(node_name(source(0, 0))) + " + " + std::string(node_name(source(0, 1))) + " + 1"};
+  }
+  /// Column k of the estimate is worth its mantissas times 2^e_k.
+  [[nodiscard]] std::optional<exponent_law> carried_law(node_id id) const override {
+    return id == node_id::chan_est ? exponent_law{0, 1} : exponent_law{};
   }
   void compute(fixed_context& ctx) const override {
     const node_state pacc = state(ctx, source(0, 0)), scale_node = state(ctx, source(0, 1));
@@ -30,20 +50,88 @@ class estimate final : public stage {
       *est.words = word_matrix(a.rows, a.cols, true);
       const fp::requantizer<P> q(est.spec);
       const int product_frac = pacc.frac() + scale_node.frac();
-      for (int i_ant = 0; i_ant < a.rows; ++i_ant) {
-        for (int i_user = 0; i_user < a.cols; ++i_user) {
-          const fp::cword<P> p =
-              scale<P>(get(a, i_ant, i_user), scale_node.words->re[static_cast<std::size_t>(i_user)]);
-          put(*est.words, i_ant, i_user, narrow(fp::requantize(p, product_frac, q, *est.counters)));
+      const auto product = [&](int i_ant, int i_user) {
+        return scale<P>(get(a, i_ant, i_user), scale_node.words->re[static_cast<std::size_t>(i_user)]);
+      };
+      if (!block_top_) {
+        for (int i_ant = 0; i_ant < a.rows; ++i_ant)
+          for (int i_user = 0; i_user < a.cols; ++i_user)
+            put(*est.words, i_ant, i_user,
+                narrow(fp::requantize(product(i_ant, i_user), product_frac, q, *est.counters)));
+        return;
+      }
+      node_state exp = state(ctx, output(1));
+      *exp.words = word_matrix(a.cols, 1, false);
+      const fp::requantizer<P> q_exp(exp.spec);
+      const int lowest = *block_top_ - largest_whole(exp.spec.fmt);
+      for (int i_user = 0; i_user < a.cols; ++i_user) {
+        // The column's extreme parts: rounding is monotone, so they decide whether it fits.
+        P hi = 0, lo = 0;
+        for (int i_ant = 0; i_ant < a.rows; ++i_ant) {
+          const fp::cword<P> p = product(i_ant, i_user);
+          hi = std::max({hi, p.re, p.im});
+          lo = std::min({lo, p.re, p.im});
         }
+        const int e = column_exponent<P>(hi, lo, product_frac, est, lowest);
+        for (int i_ant = 0; i_ant < a.rows; ++i_ant)
+          put(*est.words, i_ant, i_user,
+              narrow(fp::requantize(product(i_ant, i_user), product_frac + e, q, *est.counters)));
+        exp.words->re[static_cast<std::size_t>(i_user)] =
+            fp::convert_int<word>(q_exp(P(*block_top_ - e), 0, *exp.counters));
       }
     });
   }
-  void golden_view(golden_context& ctx) const override { ctx.set(output(0), ctx.trial.chan_est); }
+  void golden_view(golden_context& ctx) const override {
+    ctx.set(output(0), ctx.trial.chan_est);
+    if (!block_top_) return;
+    const Eigen::VectorXi e = golden_block_exponents(ctx.trial.chan_est, *block_top_);
+    ctx.set(output(1), (*block_top_ - e.array()).cast<double>().cast<std::complex<double>>().matrix());
+  }
+
+ private:
+  static std::vector<port> ports_for(bool block_float) {
+    std::vector<port> p{{node_id::chan_est, {node_id::pilot_acc, node_id::est_scale}}};
+    if (block_float) p.push_back({node_id::est_exp, {node_id::pilot_acc, node_id::est_scale}});
+    return p;
+  }
+
+  /// Whether the parts hi >= 0 >= lo (exact, at `frac` fraction bits), read at frac + e and
+  /// rounded by the node's mode into its fraction bits, lie in [-1, 1).
+  template <class P>
+  static bool fits(const P& hi, const P& lo, int frac, int e, const node_state& node) {
+    const int f = node.frac(), s = frac + e - f;  // bits dropped by the requantisation
+    if (s <= 0) {
+      // No rounding: x 2^-s in [-2^f, 2^f) iff x in [-2^(f+s), 2^(f+s)), f + s = frac + e.
+      const int b = frac + e;
+      if (b < 0) return hi == 0 && lo == 0;
+      if (b >= fp::int_traits<P>::bits - 2) return true;
+      return hi < fp::pow2<P>(b) && lo >= P(-fp::pow2<P>(b));
+    }
+    const P limit = fp::pow2<P>(f);
+    return fp::round_shift(hi, s, node.spec.rounding).value < limit &&
+           fp::round_shift(lo, s, node.spec.rounding).value >= P(-limit);
+  }
+
+  /// The smallest exponent in [lowest, top] at which the column fits (top when none does: the
+  /// requantisation then overflows by the node's mode).
+  template <class P>
+  int column_exponent(const P& hi, const P& lo, int frac, const node_state& node, int lowest) const {
+    const int top = *block_top_;
+    if (hi == 0 && lo == 0) return lowest;
+    // A first guess from the magnitude (within one of the answer), then the exact test.
+    int bits = 0;
+    std::frexp(std::max(fp::to_double_approx(hi), -fp::to_double_approx(lo)), &bits);
+    int e = std::clamp(bits - frac + 1, lowest, top);
+    while (e < top && !fits(hi, lo, frac, e, node)) ++e;
+    while (e > lowest && fits(hi, lo, frac, e - 1, node)) --e;
+    return e;
+  }
+
+  std::optional<int> block_top_;
 };
 
 }  // namespace
 
-std::shared_ptr<stage> make_estimate() { return std::make_shared<estimate>(); }
+std::shared_ptr<stage> make_estimate(std::optional<int> block_top) { return std::make_shared<estimate>(block_top); }
 
 }  // namespace fxmimo::datapath::detail

@@ -47,7 +47,7 @@ class gauss_seidel_stage final : public stage {
   [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
     const double iter = word_bits_of(c, node_id::inv_iter);
     return 4 * iter * std::max(word_bits_of(c, node_id::gs_sweep), word_bits_of(c, node_id::inv_out)) +
-           unit_.multiplier_cost(c);
+           unit_.multiplier_cost(c, node_id::gram);
   }
   /// The sweeps overwrite one K x K matrix in place: only one is stored, whatever S.
   [[nodiscard]] double storage_words(node_id id, const dimension_sizes& dims) const override {

@@ -1,7 +1,12 @@
 // The Gram matrix: gram[i,j] (j <= i) = sum over antennas m (index order, or the node's
 // accumulation order) of Q(conj(H[m,i]) H[m,j]); with RZF the diagonal gets the loading
-// OV(gram + Q(reg)); the upper triangle mirrors: G[j,i] = conj(G[i,j]).
+// OV(gram + Q(reg)); the upper triangle mirrors: G[j,i] = conj(G[i,j]). With block floating
+// point on the estimate the sum runs over its mantissas and the loading of user k is
+// Q(reg 2^-2e_k) (G carries the law {1, 1}).
+#include <cmath>
+
 #include "../stage_support.hpp"
+#include "fxmimo/datapath/block_float.hpp"
 #include "stages.hpp"
 
 namespace fxmimo::datapath::detail {
@@ -10,8 +15,13 @@ namespace {
 
 class gram_stage final : public stage {
  public:
-  explicit gram_stage(std::optional<double> loading)
-      : stage("gram", {{node_id::gram, {node_id::chan_est}}}), loading_(loading) {}
+  gram_stage(std::optional<double> loading, std::optional<int> block_top)
+      : stage("gram", {{node_id::gram, block_top ? std::vector<node_id>{node_id::chan_est, node_id::est_exp}
+                                                 : std::vector<node_id>{node_id::chan_est}}}),
+        loading_(loading),
+        block_top_(block_top) {}
+  /// G' = D^-1 G D^-1 for H = H' D, D = diag(2^e_k).
+  [[nodiscard]] std::optional<exponent_law> carried_law(node_id) const override { return exponent_law{1, 1}; }
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
     return product_bits({bits_of(c, source(0, 0)), bits_of(c, source(0, 0))}, bits_of(c, output(0)));
   }
@@ -54,10 +64,14 @@ class gram_stage final : public stage {
         }
       }
       if (loading_) {
-        const word reg = fp::from_double(*loading_, q_acc, *g.counters);
+        const word reg = block_top_ ? 0 : fp::from_double(*loading_, q_acc, *g.counters);
+        const Eigen::VectorXi e =
+            block_top_ ? fixed_block_exponents(*block_top_, ctx.config, ctx.words) : Eigen::VectorXi();
         for (int i_user = 0; i_user < num_users; ++i_user) {
+          const word reg_k =
+              block_top_ ? fp::from_double(std::ldexp(*loading_, -2 * e(i_user)), q_acc, *g.counters) : reg;
           cw d = get(*g.words, i_user, i_user);
-          d.re = fp::convert_int<word>(q.overflow(P(fp::convert_int<P>(d.re) + reg), *g.counters));
+          d.re = fp::convert_int<word>(q.overflow(P(fp::convert_int<P>(d.re) + reg_k), *g.counters));
           ++g.counters->requantized;  // the loading adder is a requantisation point
           put(*g.words, i_user, i_user, d);
         }
@@ -76,12 +90,13 @@ class gram_stage final : public stage {
 
  private:
   std::optional<double> loading_;
+  std::optional<int> block_top_;
 };
 
 }  // namespace
 
-std::shared_ptr<stage> make_gram(std::optional<double> rzf_loading) {
-  return std::make_shared<gram_stage>(rzf_loading);
+std::shared_ptr<stage> make_gram(std::optional<double> rzf_loading, std::optional<int> block_top) {
+  return std::make_shared<gram_stage>(rzf_loading, block_top);
 }
 
 }  // namespace fxmimo::datapath::detail

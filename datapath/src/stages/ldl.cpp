@@ -20,6 +20,15 @@ class ldl_stage final : public stage {
   explicit ldl_stage(const golden::unit_choice& recip_unit)
       : stage("ldl", ldl_ports(divide_root_unit(fp::newton_function::reciprocal, recip_unit, diag_recip_nodes))),
         unit_(fp::newton_function::reciprocal, recip_unit, diag_recip_nodes) {}
+  /// For G' = D^-1 G D^-1 (D = diag(2^e_k)): L' = D^-1 L D and d' = D^-2 d, so ldl_acc (l_ij d_j)
+  /// carries {1, 1}, the reciprocal {-2, 0} and L {1, -1}; the unit's mantissa, ROM and iterates
+  /// are those of d (an even shift leaves a normalised mantissa as it is).
+  [[nodiscard]] std::optional<exponent_law> carried_law(node_id id) const override {
+    if (id == node_id::ldl_acc) return exponent_law{1, 1};
+    if (id == node_id::inv_diag_recip) return exponent_law{-2, 0};
+    if (id == node_id::inv_factor) return exponent_law{1, -1};
+    return exponent_law{};
+  }
   /// Terms |l|^2 d and l conj(l) d (three factors), n_ij r_j, and G's entry with two headroom bits.
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
     const int factor = bits_of(c, node_id::inv_factor), acc = bits_of(c, node_id::ldl_acc);
@@ -27,7 +36,8 @@ class ldl_stage final : public stage {
                      product_bits({acc, bits_of(c, node_id::inv_diag_recip)}, factor), bits_of(c, source(0, 0)) + 2});
   }
   [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
-    return 4 * word_bits_of(c, node_id::inv_factor) * word_bits_of(c, node_id::inv_factor) + unit_.multiplier_cost(c);
+    return 4 * word_bits_of(c, node_id::inv_factor) * word_bits_of(c, node_id::inv_factor) +
+           unit_.multiplier_cost(c, node_id::ldl_acc);
   }
   void compute(fixed_context& ctx) const override {
     const node_state g = state(ctx, source(0, 0));

@@ -29,6 +29,15 @@ class neumann_stage final : public stage {
                                                                    diag_recip_nodes))),
         num_terms_(num_terms),
         unit_(fp::newton_function::reciprocal, recip_unit, diag_recip_nodes) {}
+  /// For G' = D^-1 G D^-1 (D = diag(2^e_k)): 1/G'_jj = 2^2e_j / G_jj ({-2, 0}),
+  /// B' = I - D^2 R D^-1 G D^-1 = D B D^-1 ({-1, 1}), B'^n R' = D B^n R D ({-1, -1}), and so
+  /// G'^-1 = D G^-1 D ({-1, -1}); the unit's mantissa, ROM and iterates are those of G_jj.
+  [[nodiscard]] std::optional<exponent_law> carried_law(node_id id) const override {
+    if (id == node_id::inv_diag_recip) return exponent_law{-2, 0};
+    if (id == node_id::inv_iter) return exponent_law{-1, 1};
+    if (id == node_id::inv_term || id == node_id::inv_out) return exponent_law{-1, -1};
+    return exponent_law{};
+  }
   /// r G products, B T products, the sum of T terms with two headroom bits, and the exact 1 of
   /// I at r G's fraction bits.
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
@@ -40,7 +49,8 @@ class neumann_stage final : public stage {
                      c[node_id::inv_diag_recip].spec.fmt.frac_bits + c[node_id::gram].spec.fmt.frac_bits + 2});
   }
   [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
-    return 4 * word_bits_of(c, node_id::inv_iter) * word_bits_of(c, node_id::inv_term) + unit_.multiplier_cost(c);
+    return 4 * word_bits_of(c, node_id::inv_iter) * word_bits_of(c, node_id::inv_term) +
+           unit_.multiplier_cost(c, node_id::gram);
   }
   /// Only the current term is stored (K x K), whatever T.
   [[nodiscard]] double storage_words(node_id id, const dimension_sizes& dims) const override {

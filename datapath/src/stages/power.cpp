@@ -21,7 +21,8 @@ class power_stage final : public stage {
     return product_bits({pre, pre}, bits_of(c, node_id::power_acc)) + 1;
   }
   [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
-    return 2 * word_bits_of(c, source(0, 0)) * word_bits_of(c, source(0, 0)) + unit_.multiplier_cost(c);
+    return 2 * word_bits_of(c, source(0, 0)) * word_bits_of(c, source(0, 0)) +
+           unit_.multiplier_cost(c, node_id::power_acc);
   }
   /// |W|^2 = re^2 + im^2 < 2^(2m + 1), + 1 for the most negative words; log2(M K) for the sum.
   [[nodiscard]] std::optional<growth_rule> growth(node_id id, const datapath_config& c,

@@ -14,6 +14,11 @@ class ldl_solves final : public stage {
   ldl_solves()
       : stage("ldl_solves", {{node_id::inv_fwd, {node_id::inv_factor}},
                              {node_id::inv_out, {node_id::inv_diag_recip, node_id::inv_factor, node_id::inv_fwd}}}) {}
+  /// With L = D L' D^-1 (D = diag(2^e_k), ldl.cpp): L^-1 = D L'^-1 D^-1 ({1, -1}) and
+  /// G^-1 = D^-1 G'^-1 D^-1 ({-1, -1}).
+  [[nodiscard]] std::optional<exponent_law> carried_law(node_id id) const override {
+    return id == node_id::inv_fwd ? exponent_law{1, -1} : exponent_law{-1, -1};
+  }
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
     const int factor = bits_of(c, node_id::inv_factor), fwd = bits_of(c, node_id::inv_fwd),
               out = bits_of(c, node_id::inv_out);

@@ -153,8 +153,14 @@ void divide_root_unit::golden_view(golden_context& ctx, const Eigen::VectorXd& i
   if (!is_reciprocal(function_)) ctx.set(square_, side_by_side(square));
 }
 
-double divide_root_unit::multiplier_cost(const datapath_config& c) const {
-  if (!choice_.newton || choice_.steps == 0) return 0;
+double divide_root_unit::multiplier_cost(const datapath_config& c, node_id input) const {
+  if (!choice_.newton) {
+    // A digit-recurrence array: one input-wide add/subtract row per output bit (a second such
+    // array for the root before the division).
+    const double rows = word_bits_of(c, output_) * word_bits_of(c, input);
+    return is_reciprocal(function_) ? rows : 2 * rows;
+  }
+  if (choice_.steps == 0) return 0;
   const double mant = word_bits_of(c, mant_), rom = word_bits_of(c, rom_), prod = word_bits_of(c, prod_),
                iter = word_bits_of(c, iter_);
   double cost = 0;

@@ -61,8 +61,11 @@ class divide_root_unit {
   void golden_view(golden_context& ctx, const Eigen::VectorXd& inputs) const;
   /// Multipliers of the unit, unrolled over its steps and time-shared over its inputs as the
   /// stages' other multipliers are (tune's area model): per step m x and x (2 - p), or x^2, m s
-  /// and x (3 - p), operand widths multiplied; 0 for the exact unit (not modelled).
-  [[nodiscard]] double multiplier_cost(const datapath_config& c) const;
+  /// and x (3 - p), operand widths multiplied. The exact unit (the input node `input`) counts as
+  /// a digit-recurrence array of W_out x W_in cells, like a multiplier of those widths (twice
+  /// that for the reciprocal root: a root recurrence, then a division; common practice, e.g.
+  /// Ercegovac & Lang, Digital Arithmetic, 2004, ch. 5 and 6, from memory).
+  [[nodiscard]] double multiplier_cost(const datapath_config& c, node_id input) const;
 
  private:
   fp::newton_function function_;

@@ -125,6 +125,16 @@ void render_section(page& pg, const tune_record& r) {
     }
     pg.out += "</table>\n";
   }
+  if (!r.variants.empty()) {
+    pg.out += "<table class=\"variants\">\n";
+    pg.row({"divide and root units", "cost (" + esc(r.cost_model) + ")", "fresh trials", ""}, true, "lrll");
+    for (const variant_record& v : r.variants) {
+      pg.row({esc(v.label), fmt::format("{:.0f}", v.cost), v.meets_limits ? "within" : "<b>EXCEEDED</b>",
+              v.chosen ? "<b>chosen</b>" : ""},
+             false, "lrll");
+    }
+    pg.out += "</table>\n";
+  }
   if (r.proven_overflow_bound) {
     pg.out += fmt::format(
         "<p class=\"proven\">On the fresh trials every node's overflow rate lies below {} at 95 % confidence "

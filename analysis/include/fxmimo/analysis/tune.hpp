@@ -91,6 +91,17 @@ struct corner_outcome {
   bool met = false;
 };
 
+/// One way of building the scenario's divide and root units ([units.NODE] and its
+/// `alternatives`) and what its tune gave.
+struct variant_outcome {
+  std::string label;  ///< e.g. "inv_diag_recip: newton a=6 n=2, norm: exact"
+  double cost = 0.0;
+  bool met = false;
+  double worst_ratio = 0.0;  ///< tune_figures::worst_ratio of the verification
+  int evaluations = 0;
+  bool chosen = false;
+};
+
 struct tune_results {
   std::string scenario_name;
   tune_limits limits;
@@ -118,6 +129,10 @@ struct tune_results {
   std::vector<std::string> int_bits_corner, frac_bits_corner;
   bool met = false;  ///< the verification meets every limit (at every corner)
   std::string note;  ///< why it could not, when it could not
+  /// Where the scenario lists unit alternatives: every combination tuned (tune_unit_variants),
+  /// the chosen one marked; `units` is the chosen combination.
+  std::vector<variant_outcome> variants;
+  golden::units_config units;
 };
 
 /// Runs range profiling (integer bits), then the search (aiming at the SINR-loss, EVM and power limits
@@ -141,5 +156,19 @@ tune_results tune_widths_at_corners(const std::vector<tune_corner>& corners, con
                                     double overflow_prob, double search_margin,
                                     const std::function<void(const std::string&)>& status = {},
                                     std::optional<double> cache_budget_bytes = {});
+
+/// Every combination of the divide and root units a scenario lists: its own choices first, then
+/// the cross product of each listing node's choices (own + alternatives), in file order. Each
+/// entry is the units table to use and its label.
+std::vector<std::pair<std::string, golden::units_config>> unit_variants(const golden::scenario& scen);
+
+/// tune_widths_at_corners for each unit variant (the same corners, trial counts and start),
+/// then the cheapest variant that meets the limits on its fresh trials (where none does, the
+/// one closest to them: smallest worst_ratio); its results, with `variants` listing them all.
+/// A scenario without alternatives is one plain tune.
+tune_results tune_unit_variants(const std::vector<tune_corner>& corners, const datapath::datapath_config& start,
+                                const tune_limits& limits, cost_model model, unsigned num_threads, double overflow_prob,
+                                double search_margin, const std::function<void(const std::string&)>& status = {},
+                                std::optional<double> cache_budget_bytes = {});
 
 }  // namespace fxmimo::analysis

@@ -23,6 +23,7 @@ enum class node_id : std::uint16_t {
   pilot_acc,        ///< correlator accumulator sum_t adc[m,t] conj(pilot[t,k]) (M x K)
   est_scale,        ///< per-user estimator scale, LS or MMSE (K)
   chan_est,         ///< channel estimate H_hat = pilot_acc * est_scale (M x K)
+  est_exp,          ///< block exponent word u_k of the estimate's column k (block floating point) (K)
   gram,             ///< G = H_hat^H H_hat (+ regulariser), summed over antennas (K x K)
   ldl_acc,          ///< LDL^H accumulator: d_j on the diagonal, l_ij d_j below (K x K)
   recip_rom,        ///< seed ROM of a table + Newton reciprocal unit (2^a)
@@ -129,6 +130,12 @@ inline constexpr std::array reference_node_table{
              {dim::antenna, dim::user},
              node_role::register_,
              "channel estimate H_hat = pilot_acc est_scale"},
+    node_row{node_id::est_exp,
+             "est_exp",
+             false,
+             {dim::user, dim::one},
+             node_role::register_,
+             "block floating point: column k of chan_est holds mantissas of H_hat[:,k] 2^-(top - est_exp[k])"},
     node_row{node_id::gram,
              "gram",
              true,

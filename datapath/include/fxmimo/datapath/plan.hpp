@@ -16,6 +16,14 @@ namespace fxmimo::datapath {
 struct datapath_plan {
   std::vector<std::shared_ptr<stage>> stages;
   dimension_sizes dims;
+  /// Block floating point on the estimate (README "Block floating point"): per node (index_of)
+  /// the exponent law its words carry, from the stages' carried_law; empty without it.
+  std::vector<exponent_law> laws;
+  /// The largest exponent of the estimate's blocks (e_k = block_top - est_exp[k]).
+  int block_top = 0;
+
+  /// The law of node `id` ({0, 0} without block floating point).
+  [[nodiscard]] exponent_law law_of(node_id id) const;
 
   /// Every output node of the stages, in order.
   [[nodiscard]] std::vector<node_id> nodes() const;

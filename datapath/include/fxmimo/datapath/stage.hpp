@@ -36,6 +36,17 @@ struct port {
   std::vector<node_id> sources;
 };
 
+/// Block floating point (README "Block floating point"): how a node's words relate to its value
+/// when the channel estimate's user columns carry exponents e_k. The value at (i, j) is the
+/// word's value times 2^(row e_r(i) + col e_c(j)), r(i) the user of row i (i mod K for a
+/// dimension of users, or of users side by side), c(j) likewise; a dimension that is not a
+/// user's contributes nothing. {0, 0}: the node's words are its value.
+struct exponent_law {
+  int row = 0, col = 0;
+  [[nodiscard]] bool carries() const { return row != 0 || col != 0; }
+  friend bool operator==(const exponent_law&, const exponent_law&) = default;
+};
+
 /// A worst-case integer-bit bound of an output from its inputs' configured formats.
 struct growth_rule {
   int int_bits = 0;
@@ -103,6 +114,9 @@ class stage {
   /// Worst-case integer bits of an output from its sources' formats, where the stage has a rule.
   [[nodiscard]] virtual std::optional<growth_rule> growth(node_id id, const datapath_config& config,
                                                           const dimension_sizes& dims) const;
+  /// The law output `id` carries when a source carries one (exponent_law), derived from the
+  /// stage's algebra; nullopt when the stage cannot take block-scaled inputs (the default).
+  [[nodiscard]] virtual std::optional<exponent_law> carried_law(node_id id) const;
   /// Computes the outputs' words and counts into their counters.
   virtual void compute(fixed_context& ctx) const = 0;
   /// Sets the golden value of every output.

@@ -101,13 +101,41 @@ struct unit_choice {
   bool newton = false;
   int seed_bits = 6;
   int steps = 2;
+  /// "exact" or "newton a=6 n=2": how reports name the choice.
+  [[nodiscard]] std::string label() const;
+  friend bool operator==(const unit_choice&, const unit_choice&) = default;
+};
+
+/// Other ways to build a divide or root node that `tune` compares with the table's own
+/// (`alternatives = [{ kind = "exact" }, ...]` in `[units.NODE]`); run, sweep and the rest use the
+/// table's own.
+struct unit_alternatives {
+  std::string node;  ///< "inv_diag_recip", "norm" or "chol_diag_rsqrt"
+  std::vector<unit_choice> choices;
 };
 
 /// The divide and root units of the datapath.
 struct units_config {
-  unit_choice inv_diag_recip;   ///< 1 / d_j (LDL^H) or 1 / G_jj (Neumann, Gauss-Seidel): a reciprocal
-  unit_choice norm;             ///< 1 / sqrt(power_acc): a reciprocal square root
-  unit_choice chol_diag_rsqrt;  ///< 1 / sqrt(r_j) of the Cholesky diagonal: a reciprocal square root
+  unit_choice inv_diag_recip;                   ///< 1 / d_j (LDL^H) or 1 / G_jj (Neumann, Gauss-Seidel): a reciprocal
+  unit_choice norm;                             ///< 1 / sqrt(power_acc): a reciprocal square root
+  unit_choice chol_diag_rsqrt;                  ///< 1 / sqrt(r_j) of the Cholesky diagonal: a reciprocal square root
+  std::vector<unit_alternatives> alternatives;  ///< per node that lists any, in file order
+  /// The node's choice by its [units] name; throws std::invalid_argument for another name.
+  [[nodiscard]] unit_choice& of(std::string_view node);
+  [[nodiscard]] const unit_choice& of(std::string_view node) const;
+};
+
+/// Block floating point on a node (`[block_float.NODE]`): each block of the node's words shares
+/// one exponent e = top - u, u the block's leading-sign count (an unsigned word, a node of its
+/// own); the words are mantissas in [-1, 1) and the node's value is mantissa x 2^e.
+struct block_float_choice {
+  bool on = false;
+  int top = 0;  ///< the largest exponent (u = 0): values of magnitude up to 2^top
+};
+
+/// The nodes that may carry a block exponent.
+struct block_float_config {
+  block_float_choice chan_est;  ///< one exponent per user column of the channel estimate
 };
 
 /// One parsed and validated scenario.
@@ -125,6 +153,7 @@ struct scenario {
   data_config data;
   frontend_config frontend;
   units_config units;
+  block_float_config block_float;
 
   /// rho_p in linear units.
   double pilot_snr() const;
@@ -135,6 +164,11 @@ struct scenario {
   /// Pilot group (0 .. reuse-1) of cell `i_cell`: cells of one group share a pilot set.
   int pilot_group(int i_cell) const;
 };
+
+/// The scenario text with each [units.NODE] table that lists alternatives set to `units`' choice
+/// for that node: its kind, seed_bits and steps lines replaced by the choice's (right after the
+/// table's header), every other line (the alternatives too) kept as it was.
+std::string scenario_with_units(const std::string& text, const units_config& units);
 
 /// Parses and validates TOML text. Unknown keys are errors, except inside the top-level table
 /// `nodes` (the datapath formats, read by fxmimo::datapath), which is skipped entirely.

@@ -185,6 +185,14 @@ struct corner_record {
   bool meets_limits = false;
 };
 
+/// One unit variant a tune compared (analysis::variant_outcome).
+struct variant_record {
+  std::string label;
+  double cost = 0.0;
+  bool meets_limits = false;
+  bool chosen = false;
+};
+
 struct tune_record {
   scenario_ref scenario;
   std::string cost_model;  ///< "bits" or "area"
@@ -210,6 +218,8 @@ struct tune_record {
   /// and the one its last fraction bit is for (tune_node_record order).
   std::vector<corner_record> corners;
   std::vector<std::string> int_bits_corner, frac_bits_corner;
+  /// The divide and root unit variants compared (absent when the scenario lists none).
+  std::vector<variant_record> variants;
   /// The re-verification met every limit (the file says so twice: verification.meets_limits and
   /// the top-level "met"; the second is written from this and ignored when read).
   bool meets_limits = false;

@@ -1,0 +1,42 @@
+#pragma once
+/// Block floating point on the channel estimate (README "Block floating point"): the estimate's
+/// user column k holds mantissas in [-1, 1) and shares the exponent e_k = top - u_k, u_k the
+/// word of node est_exp. The nodes downstream of the estimate up to the precoder hold words
+/// scaled by powers of e (their exponent laws, stage.hpp); the precoder undoes them. These
+/// functions turn such words into values and golden values into such words' scale.
+
+#include <Eigen/Dense>
+#include <vector>
+
+#include "fxmimo/datapath/config.hpp"
+#include "fxmimo/datapath/plan.hpp"
+#include "fxmimo/datapath/word_matrix.hpp"
+
+namespace fxmimo::datapath {
+
+/// Whether the plan's estimate carries block exponents.
+[[nodiscard]] bool has_block_float(const datapath_plan& plan);
+
+/// The exponents e_k = top - u_k of a trial's fixed words (node est_exp at its fraction bits).
+[[nodiscard]] Eigen::VectorXi fixed_block_exponents(int top, const datapath_config& config,
+                                                    const std::vector<word_matrix>& words);
+
+/// The golden model's exponents for the same rule without rounding: the smallest e <= top at
+/// which every real and imaginary part of column k of `chan_est` times 2^-e lies in [-1, 1)
+/// (floor(log2 max|part|) + 1, at least top - max_exponent_span for an all-zero column).
+[[nodiscard]] Eigen::VectorXi golden_block_exponents(const Eigen::MatrixXcd& chan_est, int top);
+/// The lowest golden exponent is top - max_exponent_span.
+inline constexpr int max_exponent_span = 255;
+
+/// values(i, j) *= 2^(sign (law.row e_r(i) + law.col e_c(j))) for node `id` (exponent_law):
+/// sign +1 turns a node's fixed words (as values) into its value, -1 a golden value into the
+/// scale of its words. Nothing happens for a node without a law.
+void apply_exponent_law(const datapath_plan& plan, node_id id, Eigen::MatrixXcd& values, const Eigen::VectorXi& e,
+                        int sign);
+
+/// A trial's golden node values (golden_block_values) brought to their words' scale with the
+/// golden exponents of values[chan_est] (what range profiles); nothing without block floating
+/// point.
+void golden_to_word_scale(const datapath_plan& plan, std::vector<Eigen::MatrixXcd>& values);
+
+}  // namespace fxmimo::datapath
