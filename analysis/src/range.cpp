@@ -108,8 +108,8 @@ range_results profile_ranges(const golden::scenario& scen, const datapath::datap
           const golden::trial_data trial = golden::run_trial(scen, t);
           // A block-scaled node's words hold mantissas: its range is that of its words' scale.
           auto values = datapath::golden_block_values(plan, scen, trial);
+          if (trial.gram.size() > 0) conditions[t] = golden::condition_number(datapath::inverter_gram(plan, values));
           datapath::golden_to_word_scale(plan, values);
-          if (trial.gram.size() > 0) conditions[t] = golden::condition_number(trial.gram);
           // This trial's profile of each node, over its values (a data node's block by block).
           std::vector<node_profile> mine(active.size());
           auto add_values = [&](std::size_t i, const Eigen::MatrixXcd& g) {
@@ -232,6 +232,12 @@ range_results profile_ranges(const golden::scenario& scen, const datapath::datap
     if (const std::optional<datapath::growth_rule> g = plan.producer(r.id)->growth(r.id, config, plan.dims)) {
       r.analytic_int_bits = g->int_bits;
       r.analytic_rule = g->rule;
+      // A worst-case bound below the statistical proposal holds for every value: nothing more is
+      // needed (a block-scaled mantissa, for one).
+      if (g->int_bits < r.proposed_int_bits) {
+        r.proposed_int_bits = g->int_bits;
+        r.proposal_basis = "bound";
+      }
     }
   }
   return out;

@@ -4,6 +4,7 @@
 #include <limits>
 
 #include "fxmimo/analysis/resources.hpp"
+#include "fxmimo/datapath/block_float.hpp"
 #include "fxmimo/golden/precoder.hpp"
 
 namespace fxmimo::analysis {
@@ -19,7 +20,9 @@ golden_part make_golden_part(const datapath::datapath_plan& plan, const golden::
   golden_part g;
   g.trial = golden::run_trial(scen, trial_index);
   g.node_values = datapath::golden_block_values(plan, scen, g.trial);
-  if (g.trial.gram.size() > 0) g.gram_condition = golden::condition_number(g.trial.gram);
+  // The condition of the Gram the inverter works on (D^-1 G D^-1 under block floating point).
+  if (g.trial.gram.size() > 0)
+    g.gram_condition = golden::condition_number(datapath::inverter_gram(plan, g.node_values));
   if (keep_data) {
     golden::data_stream stream(scen, g.trial);
     golden::data_block block;

@@ -57,6 +57,15 @@ void apply_exponent_law(const datapath_plan& plan, node_id id, Eigen::MatrixXcd&
   }
 }
 
+Eigen::MatrixXcd inverter_gram(const datapath_plan& plan, const std::vector<Eigen::MatrixXcd>& values) {
+  Eigen::MatrixXcd gram = values.at(index_of(node_id::gram));
+  if (has_block_float(plan)) {
+    apply_exponent_law(plan, node_id::gram, gram,
+                       golden_block_exponents(values.at(index_of(node_id::chan_est)), plan.block_top), -1);
+  }
+  return gram;
+}
+
 void golden_to_word_scale(const datapath_plan& plan, std::vector<Eigen::MatrixXcd>& values) {
   if (!has_block_float(plan)) return;
   const Eigen::VectorXi e = golden_block_exponents(values.at(index_of(node_id::chan_est)), plan.block_top);

@@ -15,7 +15,7 @@ module tb;
   parameter integer T = 1;  // trials
   parameter integer K = 8;  // users
   parameter integer DW = 24;
-  parameter integer DF = 13;
+  parameter integer DF = 16;
   parameter integer SA = 6;
   parameter integer N = 1;
   parameter integer MW = 16;
@@ -36,7 +36,7 @@ module tb;
   parameter integer X_RND = 7;
   parameter integer X_OVF = 1;
   parameter integer OW = 18;
-  parameter integer OF = 22;
+  parameter integer OF = 17;
   parameter integer O_RND = 7;
   parameter integer O_OVF = 1;
 `ifdef FORCE_TRUNCATE

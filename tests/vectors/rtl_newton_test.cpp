@@ -145,9 +145,8 @@ std::string variant_text() {
   replace("[nodes.recip_iter]          # x_k+1 in (1, 2]\nformat = \"UQ2.16\"\nrounding = \"half_even\"",
           "[nodes.recip_iter]\nformat = \"UQ2.16\"\nrounding = \"half_up\"");
   replace(
-      "[nodes.inv_diag_recip]      # 1/d_j < 2^-5 here: negative integer bits keep the precision\nformat = "
-      "\"Q-5.22\"\nrounding = \"half_even\"",
-      "[nodes.inv_diag_recip]\nformat = \"Q-5.22\"\nrounding = \"toward_zero\"");
+      "[nodes.inv_diag_recip]      # 1/d'_j below 1/2 here\nformat = \"Q0.17\"\nrounding = \"half_even\"",
+      "[nodes.inv_diag_recip]\nformat = \"Q0.17\"\nrounding = \"toward_zero\"");
   return s;
 }
 

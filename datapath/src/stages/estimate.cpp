@@ -33,7 +33,8 @@ class estimate final : public stage {
   /// Product of a part and a real scale: |a b| < 2^(ma + mb), + 1 for the most negative words.
   [[nodiscard]] std::optional<growth_rule> growth(node_id id, const datapath_config& c,
                                                   const dimension_sizes&) const override {
-    if (id != node_id::chan_est || block_top_) return std::nullopt;  // mantissas lie in [-1, 1)
+    if (id != node_id::chan_est) return std::nullopt;
+    if (block_top_) return growth_rule{0, "block mantissa in [-1, 1)"};
     return growth_rule{int_bits_of(c, source(0, 0)) + int_bits_of(c, source(0, 1)) + 1,
                        std::string(node_name(source(0, 0))) + " + " + std::string(node_name(source(0, 1))) + " + 1"};
   }

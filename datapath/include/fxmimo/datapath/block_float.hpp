@@ -34,6 +34,11 @@ inline constexpr int max_exponent_span = 255;
 void apply_exponent_law(const datapath_plan& plan, node_id id, Eigen::MatrixXcd& values, const Eigen::VectorXi& e,
                         int sign);
 
+/// The Gram the inverter works on: the golden `gram` value (values[gram], golden_block_values),
+/// as D^-1 G D^-1 with the golden exponents under block floating point (what the inverse's
+/// words span), else as it is.
+[[nodiscard]] Eigen::MatrixXcd inverter_gram(const datapath_plan& plan, const std::vector<Eigen::MatrixXcd>& values);
+
 /// A trial's golden node values (golden_block_values) brought to their words' scale with the
 /// golden exponents of values[chan_est] (what range profiles); nothing without block floating
 /// point.
