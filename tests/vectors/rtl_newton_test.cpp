@@ -144,9 +144,8 @@ std::string variant_text() {
           "[nodes.recip_prod]\nformat = \"UQ1.17\"\nrounding = \"floor\"");
   replace("[nodes.recip_iter]          # x_k+1 in (1, 2]\nformat = \"UQ2.16\"\nrounding = \"half_even\"",
           "[nodes.recip_iter]\nformat = \"UQ2.16\"\nrounding = \"half_up\"");
-  replace(
-      "[nodes.inv_diag_recip]      # 1/d'_j below 1/2 here\nformat = \"Q0.17\"\nrounding = \"half_even\"",
-      "[nodes.inv_diag_recip]\nformat = \"Q0.17\"\nrounding = \"toward_zero\"");
+  replace("[nodes.inv_diag_recip]      # 1/d'_j below 1/2 here\nformat = \"Q0.17\"\nrounding = \"half_even\"",
+          "[nodes.inv_diag_recip]\nformat = \"Q0.17\"\nrounding = \"toward_zero\"");
   return s;
 }
 
