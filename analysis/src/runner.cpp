@@ -139,9 +139,9 @@ trial_summary summarise_trial(const datapath::datapath_plan& plan, const golden:
   out.nodes.resize(datapath::node_count());
   // A block-scaled node is measured on its words: its golden value at the scale of the fixed
   // exponents (README "Block floating point").
-  const Eigen::VectorXi exponents = datapath::has_block_float(plan)
-                                        ? datapath::fixed_block_exponents(plan.block_top, config, fixed.words)
-                                        : Eigen::VectorXi();
+  const datapath::block_exponents exponents = datapath::has_block_float(plan)
+                                                  ? datapath::fixed_block_exponents(plan, config, fixed.words)
+                                                  : datapath::block_exponents{};
   for (datapath::node_id id : plan.nodes()) {
     const std::size_t i = datapath::index_of(id);
     if (in_data_phase(id) && measured_now(id)) {

@@ -22,14 +22,15 @@ std::vector<plan_extension>& extensions() {
 }
 
 /// Every node's exponent law, stage by stage: an output whose sources carry none carries none,
-/// except the estimate's (its stage finds the exponents); the others ask their stage.
-void derive_exponent_laws(datapath_plan& plan) {
+/// except a block-scaled node's (`scaled`: its stage finds the exponents); the others ask their
+/// stage.
+void derive_exponent_laws(datapath_plan& plan, const std::vector<node_id>& scaled) {
   plan.laws.assign(node_count(), exponent_law{});
   for (const auto& s : plan.stages) {
     for (const port& p : s->ports()) {
       const bool scaled_input = std::any_of(p.sources.begin(), p.sources.end(),
                                             [&](node_id src) { return plan.laws[index_of(src)].carries(); });
-      if (!scaled_input && p.node != node_id::chan_est) continue;
+      if (!scaled_input && std::find(scaled.begin(), scaled.end(), p.node) == scaled.end()) continue;
       const std::optional<exponent_law> law = s->carried_law(p.node);
       if (!law) {
         throw std::logic_error(
@@ -159,6 +160,8 @@ datapath_plan stages_for(const golden::scenario& scen) {
 
   const std::optional<int> block_top =
       scen.block_float.chan_est.on ? std::optional<int>(scen.block_float.chan_est.top) : std::nullopt;
+  const std::optional<int> whole_top =
+      scen.block_float.precoder.on ? std::optional<int>(scen.block_float.precoder.top) : std::nullopt;
   auto& s = plan.stages;
   s.push_back(make_golden_converter(node_id::adc, [](const golden::trial_data& t) { return t.adc; }));
   s.push_back(make_golden_converter(node_id::pilot_rom, [](const golden::trial_data& t) { return t.pilots; }));
@@ -188,7 +191,7 @@ datapath_plan stages_for(const golden::scenario& scen) {
       s.push_back(detail::make_ldl_solves());
     }
   }
-  s.push_back(detail::make_precoder(uses_inverse, block_top));
+  s.push_back(detail::make_precoder(uses_inverse, block_top, whole_top, scen.cells.num_users));
   s.push_back(detail::make_power(per_antenna, scen.units.norm));
   const double p_dig = golden::digital_power(scen);
   const double gain = std::sqrt(per_antenna ? p_dig / scen.array.num_antennas : p_dig);
@@ -200,10 +203,12 @@ datapath_plan stages_for(const golden::scenario& scen) {
   s.push_back(make_requantizer(node_id::dac, node_id::tx_acc));
 
   for (const plan_extension& e : extensions()) e(plan, scen);
-  if (scen.block_float.chan_est.on) {
-    plan.block_top = scen.block_float.chan_est.top;
-    derive_exponent_laws(plan);
-  }
+  plan.user_top = block_top;
+  plan.whole_top = whole_top;
+  std::vector<node_id> scaled;
+  if (block_top) scaled.push_back(node_id::chan_est);
+  if (whole_top) scaled.push_back(node_id::precoder);
+  if (!scaled.empty()) derive_exponent_laws(plan, scaled);
   return plan;
 }
 

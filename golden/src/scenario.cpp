@@ -623,7 +623,13 @@ void read_units(const checked_table& root, scenario& scen) {
 
 void read_block_float(const checked_table& root, scenario& scen) {
   const checked_table b(root.file(), sub_table(root, "block_float"), "block_float");
-  b.only({"chan_est"});
+  b.only({"chan_est", "precoder"});
+  if (b.has("precoder")) {
+    const checked_table t(root.file(), sub_table(b, "precoder"), "block_float.precoder");
+    t.only({"block", "top"});
+    t.required("block", t.choice<int>("block", {{"whole", 0}}));
+    scen.block_float.precoder = {true, static_cast<int>(t.required("top", t.integer("top", -64, 64)))};
+  }
   if (!b.has("chan_est")) return;
   const checked_table t(root.file(), sub_table(b, "chan_est"), "block_float.chan_est");
   t.only({"block", "top"});

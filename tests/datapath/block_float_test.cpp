@@ -141,8 +141,9 @@ TEST(block_float, estimate_words_are_the_exact_rule) {
   EXPECT_EQ(f.counters[d::index_of(d::node_id::chan_est)].overflowed, 0U);
 }
 
-/// Runs the block stages with pilot_acc's words replaced by base * 2^k after the correlator.
-d::fixed_trial run_scaled(const d::datapath_plan& plan, const loaded& l, const g::trial_data& trial, int k) {
+/// Runs the block stages with the words of `scaled` replaced by base * 2^k after its stage.
+d::fixed_trial run_scaled(const d::datapath_plan& plan, const loaded& l, const g::trial_data& trial, int k,
+                          d::node_id scaled = d::node_id::pilot_acc) {
   d::fixed_trial out;
   out.words.resize(d::node_count());
   out.counters.resize(d::node_count());
@@ -151,8 +152,8 @@ d::fixed_trial run_scaled(const d::datapath_plan& plan, const loaded& l, const g
   for (std::size_t i = 0; i < plan.stages.size(); ++i) {
     if (data[i]) continue;
     plan.stages[i]->compute(ctx);
-    if (!plan.stages[i]->outputs(d::node_id::pilot_acc)) continue;
-    d::word_matrix& w = out.words[d::index_of(d::node_id::pilot_acc)];
+    if (!plan.stages[i]->outputs(scaled)) continue;
+    d::word_matrix& w = out.words[d::index_of(scaled)];
     for (auto* part : {&w.re, &w.im})
       for (std::int64_t& v : *part) {
         v &= ~std::int64_t{7};  // the base: low bits cleared, so that 2^-3 is exact too
@@ -185,14 +186,49 @@ TEST(block_float, scaling_the_input_by_a_power_of_two_changes_only_the_exponents
   }
 }
 
+TEST(block_float, scaling_the_inverse_by_a_power_of_two_changes_only_the_precoder_exponent) {
+  const loaded l = load(scenario_text("[block_float.precoder]\nblock = \"whole\"\ntop = 6\n"));
+  const d::datapath_plan plan = d::stages_for(l.scen);
+  ASSERT_TRUE(plan.has(d::node_id::pre_exp));
+  const g::trial_data trial = g::run_trial(l.scen, 1);
+  const d::fixed_trial base = run_scaled(plan, l, trial, 0, d::node_id::inv_out);
+  for (int k : {-3, -1, 1, 3}) {
+    const d::fixed_trial scaled = run_scaled(plan, l, trial, k, d::node_id::inv_out);
+    // W = H G^-1 scales by 2^k: its mantissas, the power, its reciprocal root and the weights
+    // stay the same, bit for bit; only the exponent moves (f = top - u rises by k).
+    for (d::node_id id : {d::node_id::precoder, d::node_id::power_acc, d::node_id::norm, d::node_id::weights}) {
+      EXPECT_EQ(words(scaled, id).re, words(base, id).re) << d::node_name(id) << " k=" << k;
+      EXPECT_EQ(words(scaled, id).im, words(base, id).im) << d::node_name(id) << " k=" << k;
+    }
+    EXPECT_EQ(d::fixed_block_exponents(plan, l.config, scaled.words).whole,
+              d::fixed_block_exponents(plan, l.config, base.words).whole + k)
+        << k;
+  }
+  // The precoder's mantissas use the format: the largest part lies in [1/2, 1).
+  std::int64_t largest = 0;
+  for (const auto* part : {&words(base, d::node_id::precoder).re, &words(base, d::node_id::precoder).im})
+    for (std::int64_t w : *part) largest = std::max(largest, std::abs(w));
+  const int f = l.config[d::node_id::precoder].spec.fmt.frac_bits;
+  EXPECT_GE(largest, std::int64_t{1} << (f - 1));
+  EXPECT_LE(largest, std::int64_t{1} << f);
+}
+
 TEST(block_float, every_exponent_law_matches_the_golden_values_at_wide_formats) {
-  for (const std::string& variant :
-       {std::string(""), std::string("[precoder]\nkind = \"rzf\"\n"),
-        std::string("[precoder]\nkind = \"zf\"\ninversion = \"neumann\"\nneumann_terms = 6\n"),
-        std::string("[precoder]\nkind = \"mf\"\n")}) {
+  // Each case: the [precoder] table, and whether the precoder is block-scaled too.
+  const std::string whole = "[block_float.precoder]\nblock = \"whole\"\ntop = 6\n";
+  const std::vector<std::pair<std::string, bool>> cases{
+      {"[precoder]\nkind = \"zf\"\ninversion = \"ldl\"\n", false},
+      {"[precoder]\nkind = \"rzf\"\n", false},
+      {"[precoder]\nkind = \"zf\"\ninversion = \"neumann\"\nneumann_terms = 6\n", false},
+      {"[precoder]\nkind = \"mf\"\n", false},
+      {"[precoder]\nkind = \"zf\"\ninversion = \"ldl\"\n", true},
+      {"[precoder]\nkind = \"rzf\"\nnormalization = \"per_antenna\"\n", true},
+      {"[precoder]\nkind = \"mf\"\n", true}};
+  for (const auto& [precoder, whole_block] : cases) {
+    const std::string variant = precoder + (whole_block ? whole : "");
     std::string text = scenario_text("");
-    if (!variant.empty()) {
-      // Replace the [precoder] table by the variant's.
+    {
+      // Replace the [precoder] table by the case's.
       const auto at = text.find("[precoder]"), end = text.find("[data]");
       text = text.substr(0, at) + variant + text.substr(end);
     }
@@ -203,8 +239,10 @@ TEST(block_float, every_exponent_law_matches_the_golden_values_at_wide_formats) 
     const g::trial_data trial = g::run_trial(l.scen, 0);
     const d::fixed_trial f = d::run_fixed_datapath(plan, l.scen, l.config, trial);
     const std::vector<Eigen::MatrixXcd> golden = d::golden_node_values(plan, l.scen, trial);
-    const Eigen::VectorXi e = d::fixed_block_exponents(plan.block_top, l.config, f.words);
-    EXPECT_EQ(e, d::golden_block_exponents(golden[d::index_of(d::node_id::chan_est)], plan.block_top));
+    const d::block_exponents e = d::fixed_block_exponents(plan, l.config, f.words);
+    const d::block_exponents eg = d::golden_block_exponents(plan, golden);
+    EXPECT_EQ(e.user, eg.user);
+    EXPECT_EQ(e.whole, eg.whole);
     int carrying = 0;
     for (d::node_id id : plan.nodes()) {
       if (plan.data_nodes()[d::index_of(id)]) continue;
@@ -217,8 +255,13 @@ TEST(block_float, every_exponent_law_matches_the_golden_values_at_wide_formats) 
                            << "} in " << variant;
       carrying += plan.law_of(id).carries() ? 1 : 0;
     }
-    // The estimate alone with MF; with an inverter also the Gram and the inverter's nodes.
-    EXPECT_GE(carrying, l.scen.precoder.kind == g::precoder_kind::mf ? 1 : 4) << variant;
+    // The estimate alone with MF; with an inverter also the Gram and the inverter's nodes; with
+    // a block-scaled precoder also the precoder, power_acc and norm.
+    EXPECT_GE(carrying, (l.scen.precoder.kind == g::precoder_kind::mf ? 1 : 4) + (whole_block ? 3 : 0)) << variant;
+    if (whole_block) {
+      EXPECT_EQ(plan.law_of(d::node_id::power_acc), (d::exponent_law{0, 0, 2}));
+      EXPECT_FALSE(plan.law_of(d::node_id::weights).carries());
+    }
   }
 }
 
@@ -296,6 +339,8 @@ TEST(block_float, scenario_errors_name_the_key) {
   std::string cholesky = scenario_text("");
   cholesky.replace(cholesky.find("inversion = \"ldl\""), 17, "inversion = \"cholesky\"");
   EXPECT_NE(error_of(cholesky).find("LDL^H and Neumann inverters only"), std::string::npos) << error_of(cholesky);
+  const std::string by_user = scenario_text("[block_float.precoder]\nblock = \"user\"\ntop = 3\n");
+  EXPECT_NE(error_of(by_user).find("block_float.precoder.block"), std::string::npos) << error_of(by_user);
   std::string far = scenario_text("");
   far.replace(far.find("top = 12"), 8, "top = 99");
   EXPECT_NE(error_of(far).find("block_float.chan_est.top: 99 is out of range [-64, 64]"), std::string::npos)

@@ -3,22 +3,12 @@
 // chan_est[m,k] = Q(pilot_acc[m,k] est_scale[k] 2^-e_k), est_exp[k] = u_k, e_k the smallest
 // exponent in [top - u_max, top] at which every rounded part of the column lies in [-1, 1)
 // (u_max: the largest whole number est_exp's format holds).
-#include <cmath>
-
-#include "../stage_support.hpp"
-#include "fxmimo/datapath/block_float.hpp"
+#include "block_exponent.hpp"
 #include "stages.hpp"
 
 namespace fxmimo::datapath::detail {
 
 namespace {
-
-/// The largest whole number a format holds (0 when it holds none above 0), at most the span of
-/// the golden exponents.
-int largest_whole(const fp::format& fmt) {
-  const double top = std::floor(fmt.max_value());
-  return top < 1.0 ? 0 : static_cast<int>(std::min(top, static_cast<double>(max_exponent_span)));
-}
 
 class estimate final : public stage {
  public:
@@ -73,7 +63,7 @@ class estimate final : public stage {
           hi = std::max({hi, p.re, p.im});
           lo = std::min({lo, p.re, p.im});
         }
-        const int e = column_exponent<P>(hi, lo, product_frac, est, lowest);
+        const int e = block_exponent<P>(hi, lo, product_frac, est, lowest, *block_top_);
         for (int i_ant = 0; i_ant < a.rows; ++i_ant)
           put(*est.words, i_ant, i_user,
               narrow(fp::requantize(product(i_ant, i_user), product_frac + e, q, *est.counters)));
@@ -85,7 +75,7 @@ class estimate final : public stage {
   void golden_view(golden_context& ctx) const override {
     ctx.set(output(0), ctx.trial.chan_est);
     if (!block_top_) return;
-    const Eigen::VectorXi e = golden_block_exponents(ctx.trial.chan_est, *block_top_);
+    const Eigen::VectorXi e = golden_column_exponents(ctx.trial.chan_est, *block_top_);
     ctx.set(output(1), (*block_top_ - e.array()).cast<double>().cast<std::complex<double>>().matrix());
   }
 
@@ -94,38 +84,6 @@ class estimate final : public stage {
     std::vector<port> p{{node_id::chan_est, {node_id::pilot_acc, node_id::est_scale}}};
     if (block_float) p.push_back({node_id::est_exp, {node_id::pilot_acc, node_id::est_scale}});
     return p;
-  }
-
-  /// Whether the parts hi >= 0 >= lo (exact, at `frac` fraction bits), read at frac + e and
-  /// rounded by the node's mode into its fraction bits, lie in [-1, 1).
-  template <class P>
-  static bool fits(const P& hi, const P& lo, int frac, int e, const node_state& node) {
-    const int f = node.frac(), s = frac + e - f;  // bits dropped by the requantisation
-    if (s <= 0) {
-      // No rounding: x 2^-s in [-2^f, 2^f) iff x in [-2^(f+s), 2^(f+s)), f + s = frac + e.
-      const int b = frac + e;
-      if (b < 0) return hi == 0 && lo == 0;
-      if (b >= fp::int_traits<P>::bits - 2) return true;
-      return hi < fp::pow2<P>(b) && lo >= P(-fp::pow2<P>(b));
-    }
-    const P limit = fp::pow2<P>(f);
-    return fp::round_shift(hi, s, node.spec.rounding).value < limit &&
-           fp::round_shift(lo, s, node.spec.rounding).value >= P(-limit);
-  }
-
-  /// The smallest exponent in [lowest, top] at which the column fits (top when none does: the
-  /// requantisation then overflows by the node's mode).
-  template <class P>
-  int column_exponent(const P& hi, const P& lo, int frac, const node_state& node, int lowest) const {
-    const int top = *block_top_;
-    if (hi == 0 && lo == 0) return lowest;
-    // A first guess from the magnitude (within one of the answer), then the exact test.
-    int bits = 0;
-    std::frexp(std::max(fp::to_double_approx(hi), -fp::to_double_approx(lo)), &bits);
-    int e = std::clamp(bits - frac + 1, lowest, top);
-    while (e < top && !fits(hi, lo, frac, e, node)) ++e;
-    while (e > lowest && fits(hi, lo, frac, e - 1, node)) --e;
-    return e;
   }
 
   std::optional<int> block_top_;

@@ -66,7 +66,7 @@ class gram_stage final : public stage {
       if (loading_) {
         const word reg = block_top_ ? 0 : fp::from_double(*loading_, q_acc, *g.counters);
         const Eigen::VectorXi e =
-            block_top_ ? fixed_block_exponents(*block_top_, ctx.config, ctx.words) : Eigen::VectorXi();
+            block_top_ ? fixed_user_exponents(*block_top_, ctx.config, ctx.words) : Eigen::VectorXi();
         for (int i_user = 0; i_user < num_users; ++i_user) {
           const word reg_k =
               block_top_ ? fp::from_double(std::ldexp(*loading_, -2 * e(i_user)), q_acc, *g.counters) : reg;

@@ -16,6 +16,14 @@ class power_stage final : public stage {
       : stage("power", power_ports(divide_root_unit(fp::newton_function::rsqrt, rsqrt_unit, norm_nodes))),
         per_antenna_(per_antenna),
         unit_(fp::newton_function::rsqrt, rsqrt_unit, norm_nodes) {}
+  /// For W = 2^f W' (block floating point on the precoder): sum |W'|^2 = 2^-2f sum |W|^2
+  /// ({0, 0, 2}), its reciprocal root 2^f / sqrt ({0, 0, -1}); the unit's mantissa, ROM and
+  /// iterates are those of the power (an even shift).
+  [[nodiscard]] std::optional<exponent_law> carried_law(node_id id) const override {
+    if (id == node_id::power_acc) return exponent_law{0, 0, 2};
+    if (id == node_id::norm) return exponent_law{0, 0, -1};
+    return exponent_law{};
+  }
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
     const int pre = bits_of(c, source(0, 0));
     return product_bits({pre, pre}, bits_of(c, node_id::power_acc)) + 1;

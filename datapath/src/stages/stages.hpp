@@ -21,8 +21,9 @@ std::shared_ptr<stage> make_cholesky(
     const golden::unit_choice& rsqrt_unit);     // cholesky.cpp: chol_acc, the unit, chol_factor
 std::shared_ptr<stage> make_cholesky_solves();  // cholesky_solves.cpp: chol_fwd, inv_out
 std::shared_ptr<stage> make_gauss_seidel(int num_sweeps,
-                                         const golden::unit_choice& recip_unit);        // gauss_seidel.cpp
-std::shared_ptr<stage> make_precoder(bool uses_inverse, std::optional<int> block_top);  // precoder.cpp
+                                         const golden::unit_choice& recip_unit);  // gauss_seidel.cpp
+std::shared_ptr<stage> make_precoder(bool uses_inverse, std::optional<int> block_top, std::optional<int> whole_top,
+                                     int num_users);  // precoder.cpp: precoder, pre_exp
 std::shared_ptr<stage> make_power(bool per_antenna,
                                   const golden::unit_choice& rsqrt_unit);  // power.cpp: power_acc, the unit, norm
 std::shared_ptr<stage> make_weights();                                     // weights.cpp

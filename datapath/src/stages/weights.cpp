@@ -9,6 +9,8 @@ namespace {
 class weights_stage final : public stage {
  public:
   weights_stage() : stage("weights", {{node_id::weights, {node_id::precoder, node_id::norm, node_id::tx_gain}}}) {}
+  /// W' norm' = 2^-f W 2^f norm: the precoder's exponent cancels here.
+  [[nodiscard]] std::optional<exponent_law> carried_law(node_id) const override { return exponent_law{}; }
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
     return product_bits({bits_of(c, source(0, 0)), bits_of(c, source(0, 1)), bits_of(c, source(0, 2))},
                         bits_of(c, output(0)));

@@ -47,6 +47,7 @@ enum class node_id : std::uint16_t {
   gs_sweep,         ///< Gauss-Seidel iterates X_s, s = 1..S-1, side by side (K x K(S-1))
   inv_out,          ///< G^-1 (K x K)
   precoder,         ///< W before scaling: conj(H_hat) (MF) or conj(H_hat G^-1) (M x K)
+  pre_exp,          ///< block exponent word u of the whole precoder (block floating point) (1)
   power_acc,        ///< sum |W|^2, total (1) or per antenna (M)
   rsqrt_rom,        ///< seed ROM of a table + Newton reciprocal square root unit (2^a)
   rsqrt_mant,       ///< its normalised input mantissa m in [1/4, 1] (1 or M)
@@ -269,6 +270,12 @@ inline constexpr std::array reference_node_table{
              {dim::antenna, dim::user},
              node_role::accumulator,
              "W before scaling: conj(H_hat) (MF) or conj(H_hat G^-1)"},
+    node_row{node_id::pre_exp,
+             "pre_exp",
+             false,
+             {dim::one, dim::one},
+             node_role::register_,
+             "block floating point: precoder holds mantissas of W 2^-(top - pre_exp)"},
     node_row{node_id::power_acc,
              "power_acc",
              false,

@@ -19,8 +19,9 @@ struct datapath_plan {
   /// Block floating point on the estimate (README "Block floating point"): per node (index_of)
   /// the exponent law its words carry, from the stages' carried_law; empty without it.
   std::vector<exponent_law> laws;
-  /// The largest exponent of the estimate's blocks (e_k = block_top - est_exp[k]).
-  int block_top = 0;
+  /// The largest exponents of the block-scaled nodes: the estimate's columns (e_k = user_top -
+  /// est_exp[k]) and the whole precoder (f = whole_top - pre_exp).
+  std::optional<int> user_top, whole_top;
 
   /// The law of node `id` ({0, 0} without block floating point).
   [[nodiscard]] exponent_law law_of(node_id id) const;

@@ -37,13 +37,13 @@ struct port {
 };
 
 /// Block floating point (README "Block floating point"): how a node's words relate to its value
-/// when the channel estimate's user columns carry exponents e_k. The value at (i, j) is the
-/// word's value times 2^(row e_r(i) + col e_c(j)), r(i) the user of row i (i mod K for a
-/// dimension of users, or of users side by side), c(j) likewise; a dimension that is not a
-/// user's contributes nothing. {0, 0}: the node's words are its value.
+/// when the channel estimate's user columns carry exponents e_k and the precoder one exponent f.
+/// The value at (i, j) is the word's value times 2^(row e_r(i) + col e_c(j) + whole f), r(i) the
+/// user of row i (i mod K for a dimension of users, or of users side by side), c(j) likewise; a
+/// dimension that is not a user's contributes nothing. {0, 0, 0}: the node's words are its value.
 struct exponent_law {
-  int row = 0, col = 0;
-  [[nodiscard]] bool carries() const { return row != 0 || col != 0; }
+  int row = 0, col = 0, whole = 0;
+  [[nodiscard]] bool carries() const { return row != 0 || col != 0 || whole != 0; }
   friend bool operator==(const exponent_law&, const exponent_law&) = default;
 };
 

@@ -136,6 +136,7 @@ struct block_float_choice {
 /// The nodes that may carry a block exponent.
 struct block_float_config {
   block_float_choice chan_est;  ///< one exponent per user column of the channel estimate
+  block_float_choice precoder;  ///< one exponent for the whole precoder W (power normalisation cancels it)
 };
 
 /// One parsed and validated scenario.
