@@ -408,7 +408,9 @@ tune_results tune_unit_variants(const std::vector<tune_corner>& corners, const d
   std::vector<tune_results> all;
   std::vector<variant_outcome> outcomes;
   for (std::size_t v = 0; v < variants.size(); ++v) {
-    const auto& [label, units] = variants[v];
+    // Named copies, not a structured binding: the status lambda captures the label.
+    const std::string& label = variants[v].first;
+    const golden::units_config& units = variants[v].second;
     std::vector<tune_corner> these = corners;
     for (tune_corner& c : these) c.scen.units = units;
     const auto say = [&](const std::string& s) {
