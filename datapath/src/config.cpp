@@ -26,6 +26,9 @@ datapath_config parse_datapath_config(const golden::scenario_document& doc) {
     const std::string name(name_key.str());
     const auto id = parse_node_name(name);
     if (!id) nodes_reader.fail(name, fmt::format("unknown node '{}' (known: {})", name, list_node_names()));
+    if (setting_home(*id) != *id)
+      nodes_reader.fail(name, fmt::format("{} is the {} converter at another time: set [nodes.{}]", name,
+                                          node_name(setting_home(*id)), node_name(setting_home(*id))));
     if (!value.is_table()) nodes_reader.fail(name, "must be a table with format, rounding, overflow");
     const golden::checked_table t(doc.source_name, *value.as_table(), "nodes." + name);
     const bool accumulates = role_of(*id) == node_role::accumulator;
@@ -135,7 +138,8 @@ std::string node_table_toml(node_id id, const node_setting& s) {
 
 std::string to_toml(const datapath_config& config) {
   std::string out;
-  for (node_id id : all_nodes()) out += node_table_toml(id, config[id]) + "\n";
+  for (node_id id : all_nodes())
+    if (setting_home(id) == id) out += node_table_toml(id, config[id]) + "\n";
   return out;
 }
 
@@ -223,6 +227,7 @@ std::string scenario_with_nodes(const std::string& scenario_text, const datapath
   for (const std::string& l : lines) out += l + "\n";
   bool first_new = true;
   for (node_id id : nodes) {
+    if (setting_home(id) != id) continue;  // written at its home's table
     if (std::find(written.begin(), written.end(), id) != written.end()) continue;
     if (first_new) {
       while (out.size() >= 2 && out[out.size() - 1] == '\n' && out[out.size() - 2] == '\n') out.pop_back();

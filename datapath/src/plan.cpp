@@ -9,6 +9,7 @@
 #include <stdexcept>
 
 #include "fxmimo/golden/precoder.hpp"
+#include "fxmimo/golden/qam.hpp"
 #include "stages/stages.hpp"
 #include "stages/units.hpp"
 
@@ -149,6 +150,10 @@ datapath_plan stages_for(const golden::scenario& scen) {
   plan.dims.term_user = neumann ? scen.cells.num_users * (scen.precoder.neumann_terms - 1) : 0;
   plan.dims.sweep_user = gauss_seidel ? scen.cells.num_users * (scen.precoder.gauss_seidel_sweeps - 1) : 0;
   plan.dims.power_group = per_antenna ? scen.array.num_antennas : 1;
+  if (scen.uplink.on) {
+    plan.dims.ul_symbol = scen.uplink.num_symbols;
+    plan.dims.ul_bit = scen.uplink.num_symbols * golden::bits_per_symbol(scen.uplink.mod);
+  }
   if (uses_inverse && !cholesky)
     detail::divide_root_unit(fixedpoint::newton_function::reciprocal, scen.units.inv_diag_recip,
                              detail::diag_recip_nodes)
@@ -201,6 +206,18 @@ datapath_plan stages_for(const golden::scenario& scen) {
   s.push_back(make_block_converter(node_id::symbols, [](const golden::data_block& b) { return b.symbols; }));
   s.push_back(detail::make_transmit());
   s.push_back(make_requantizer(node_id::dac, node_id::tx_acc));
+  if (scen.uplink.on) {
+    // The uplink block, computed once per trial after the downlink's inverse it may share.
+    const bool combined = scen.uplink.combiner != golden::combiner_kind::mrc;
+    s.push_back(make_golden_converter(node_id::ul_adc, [](const golden::trial_data& t) { return t.uplink->adc; }));
+    s.push_back(detail::make_uplink_match());
+    if (combined) s.push_back(detail::make_uplink_combiner());
+    s.push_back(make_golden_converter(node_id::ul_scale, [](const golden::trial_data& t) {
+      return Eigen::MatrixXcd(t.uplink->scale.cast<std::complex<double>>());
+    }));
+    s.push_back(detail::make_uplink_equaliser(combined));
+    s.push_back(detail::make_uplink_demapper(scen.uplink.mod));
+  }
 
   for (const plan_extension& e : extensions()) e(plan, scen);
   plan.user_top = block_top;

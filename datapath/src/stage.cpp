@@ -26,6 +26,8 @@ int dimension_sizes::size(dim d) const {
     case dim::chol_rsqrt_entry: return chol_rsqrt_entry;
     case dim::chol_rsqrt_step: return chol_rsqrt_step;
     case dim::sweep_user: return sweep_user;
+    case dim::ul_symbol: return ul_symbol;
+    case dim::ul_bit: return ul_bit;
     case dim::one: return 1;
   }
   throw std::logic_error("dimension_sizes::size: unknown dimension");
@@ -46,6 +48,8 @@ std::string_view dimension_sizes::name(dim d) const {
     case dim::chol_rsqrt_entry: return "rom_entry";
     case dim::chol_rsqrt_step: return "newton_step";
     case dim::sweep_user: return "sweep_user";
+    case dim::ul_symbol: return "uplink_symbol";
+    case dim::ul_bit: return "uplink_bit";
     case dim::one: return "one";
   }
   throw std::logic_error("dimension_sizes::name: unknown dimension");

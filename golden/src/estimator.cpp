@@ -5,13 +5,17 @@
 namespace fxmimo::golden {
 
 double agc_gain(const scenario& scen, const large_scale& gains, int i_bs) {
+  return agc_gain_at(scen, gains, i_bs, scen.pilot_snr());
+}
+
+double agc_gain_at(const scenario& scen, const large_scale& gains, int i_bs, double snr) {
   double total_gain = 0.0;
   for (int i_cell = 0; i_cell < gains.num_cells; ++i_cell) {
     for (int i_user = 0; i_user < gains.num_users; ++i_user) {
       total_gain += gains.at(i_bs, i_cell, i_user);
     }
   }
-  return std::pow(10.0, -scen.frontend.agc_backoff_db / 20.0) / std::sqrt(scen.pilot_snr() * total_gain + 1.0);
+  return std::pow(10.0, -scen.frontend.agc_backoff_db / 20.0) / std::sqrt(snr * total_gain + 1.0);
 }
 
 Eigen::MatrixXcd received_pilots(const scenario& scen, const std::vector<Eigen::MatrixXcd>& channels,

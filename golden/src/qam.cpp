@@ -66,4 +66,31 @@ std::uint32_t qam_demap(modulation mod, std::complex<double> point) {
   return (axis_label(point.real()) << half) | axis_label(point.imag());
 }
 
+double qam_step(modulation mod) { return qam_scale(bits_per_symbol(mod)); }
+
+int qam_axis_levels(modulation mod) { return 1 << (bits_per_symbol(mod) / 2); }
+
+int qam_axis_bit(modulation mod, int level_index, int t) {
+  const int half = bits_per_symbol(mod) / 2;
+  const auto i = static_cast<std::uint32_t>(level_index);
+  return static_cast<int>(((i ^ (i >> 1)) >> (half - 1 - t)) & 1U);
+}
+
+void maxlog_distances(modulation mod, std::complex<double> grid_point, double* out) {
+  const int half = bits_per_symbol(mod) / 2;
+  const int levels = qam_axis_levels(mod);
+  for (int axis = 0; axis < 2; ++axis) {
+    const double x = axis == 0 ? grid_point.real() : grid_point.imag();
+    for (int t = 0; t < half; ++t) {
+      double best[2] = {HUGE_VAL, HUGE_VAL};
+      for (int i = 0; i < levels; ++i) {
+        const double d = x - (2.0 * i - (levels - 1));
+        double& b = best[qam_axis_bit(mod, i, t)];
+        b = std::min(b, d * d);
+      }
+      out[axis * half + t] = best[1] - best[0];
+    }
+  }
+}
+
 }  // namespace fxmimo::golden

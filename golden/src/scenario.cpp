@@ -27,6 +27,7 @@ scenario_error::scenario_error(std::string file_name, int line_number, std::stri
 
 double scenario::pilot_snr() const { return std::pow(10.0, pilots.snr_db / 10.0); }
 double scenario::downlink_snr() const { return std::pow(10.0, data.snr_db / 10.0); }
+double scenario::uplink_snr() const { return std::pow(10.0, uplink.snr_db / 10.0); }
 double scenario::rzf_regularizer() const {
   return precoder.has_regularizer ? precoder.regularizer : cells.num_users / downlink_snr();
 }
@@ -38,6 +39,15 @@ int scenario::pilot_group(int i_cell) const {
     return hex_pilot_group(i_cell, pilots.reuse);
   }
   return i_cell % pilots.reuse;
+}
+
+std::string_view combiner_name(combiner_kind kind) {
+  switch (kind) {
+    case combiner_kind::mrc: return "mrc";
+    case combiner_kind::zf: return "zf";
+    case combiner_kind::mmse: return "mmse";
+  }
+  return "mrc";
 }
 
 std::string_view modulation_name(modulation mod) {
@@ -321,20 +331,64 @@ void read_precoder(const checked_table& root, scenario& scen) {
   }
 }
 
+modulation read_modulation(const checked_table& r) {
+  return r
+      .choice<modulation>("modulation", {{"qpsk", modulation::qpsk},
+                                         {"16qam", modulation::qam16},
+                                         {"64qam", modulation::qam64},
+                                         {"256qam", modulation::qam256},
+                                         {"1024qam", modulation::qam1024}})
+      .value_or(modulation::qam16);
+}
+
 void read_data(const checked_table& root, scenario& scen) {
   const checked_table r(root.file(), sub_table(root, "data"), "data");
   r.only({"modulation", "symbols", "snr_db"});
   if (!root.has("data")) {
     root.fail("data", "missing required table [data] (at least snr_db)");
   }
-  scen.data.mod = r.choice<modulation>("modulation", {{"qpsk", modulation::qpsk},
-                                                      {"16qam", modulation::qam16},
-                                                      {"64qam", modulation::qam64},
-                                                      {"256qam", modulation::qam256},
-                                                      {"1024qam", modulation::qam1024}})
-                      .value_or(modulation::qam16);
+  scen.data.mod = read_modulation(r);
   scen.data.num_symbols = static_cast<int>(r.integer("symbols", 1, 1'000'000).value_or(168));
   scen.data.snr_db = r.required("snr_db", r.number("snr_db", -50.0, 80.0));
+}
+
+/// [uplink]: read after [precoder] and [data], whose choices the combiner must match. ZF and
+/// MMSE detection reuse the downlink's Gram inverse (one inverse per block, as shared hardware
+/// computes it), so the combiner must be the one that inverse is.
+void read_uplink(const checked_table& root, scenario& scen) {
+  if (!root.has("uplink")) return;
+  const checked_table r(root.file(), sub_table(root, "uplink"), "uplink");
+  r.only({"snr_db", "modulation", "symbols", "combiner"});
+  uplink_config& ul = scen.uplink;
+  ul.on = true;
+  ul.snr_db = r.required("snr_db", r.number("snr_db", -50.0, 80.0));
+  ul.mod = read_modulation(r);
+  ul.num_symbols = static_cast<int>(r.integer("symbols", 1, 4096).value_or(168));
+  ul.combiner =
+      r.choice<combiner_kind>("combiner",
+                              {{"mrc", combiner_kind::mrc}, {"zf", combiner_kind::zf}, {"mmse", combiner_kind::mmse}})
+          .value_or(combiner_kind::mrc);
+  const precoder_config& pc = scen.precoder;
+  if (ul.combiner == combiner_kind::zf && pc.kind != precoder_kind::zf) {
+    r.fail("combiner",
+           "combiner = \"zf\" reuses the downlink's inverse of H_hat^H H_hat: it needs precoder kind = \"zf\"");
+  }
+  if (ul.combiner == combiner_kind::mmse) {
+    const double loading = 1.0 / scen.uplink_snr();
+    if (pc.kind != precoder_kind::rzf || std::abs(scen.rzf_regularizer() - loading) > 1e-9 * loading) {
+      r.fail("combiner", fmt::format("combiner = \"mmse\" reuses the downlink's inverse of H_hat^H H_hat + "
+                                     "(1 / rho_ul) I: it needs precoder kind = \"rzf\" with regularizer = {} "
+                                     "(10^(-snr_db / 10))",
+                                     loading));
+    }
+  }
+  if (scen.block_float.chan_est.on || scen.block_float.precoder.on) {
+    r.fail("snr_db", "the uplink does not carry block exponents yet: remove [block_float] to model the uplink");
+  }
+  const std::int64_t words = static_cast<std::int64_t>(scen.array.num_antennas) * ul.num_symbols;
+  if (words > (std::int64_t{1} << 22)) {
+    r.fail("symbols", fmt::format("antennas x symbols = {} uplink samples per trial exceeds 2^22", words));
+  }
 }
 
 void read_frontend(const checked_table& root, scenario& scen) {
@@ -776,7 +830,7 @@ scenario parse_scenario(const scenario_document& doc) {
   const std::string& source_name = doc.source_name;
   const checked_table root(source_name, doc.root, "");
   root.only({"name", "seed", "trials", "array", "cells", "channel", "pilots", "estimator", "precoder", "data",
-             "frontend", "units", "block_float", "nodes"});
+             "frontend", "units", "block_float", "uplink", "nodes"});
 
   scenario scen;
   scen.source_name = source_name;
@@ -805,6 +859,7 @@ scenario parse_scenario(const scenario_document& doc) {
   read_frontend(root, scen);
   read_units(root, scen);
   read_block_float(root, scen);
+  read_uplink(root, scen);
   return scen;
 }
 

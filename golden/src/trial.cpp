@@ -12,6 +12,7 @@
 #include "fxmimo/golden/precoder.hpp"
 #include "fxmimo/golden/qam.hpp"
 #include "fxmimo/golden/rng.hpp"
+#include "fxmimo/golden/uplink.hpp"
 
 namespace fxmimo::golden {
 
@@ -54,6 +55,7 @@ trial_data run_trial(const scenario& scen, std::uint64_t trial_index) {
   td.amplitude = std::sqrt(scen.downlink_snr() / td.digital_power);
 
   std::vector<Eigen::MatrixXcd> pilots;
+  std::vector<Eigen::MatrixXcd> uplink_channels;  // H^0_l, kept for the uplink
   for (int i_cell = 0; i_cell < num_cells; ++i_cell) {
     pilots.push_back(pilot_matrix(scen, i_cell));
   }
@@ -81,6 +83,7 @@ trial_data run_trial(const scenario& scen, std::uint64_t trial_index) {
       for (int i_sym = 0; i_sym < num_sym; ++i_sym) rng.uniform_below(num_labels);
     }
     td.cell_labels.push_back(std::move(cell));
+    if (i_bs == 0 && scen.uplink.on) uplink_channels = channels;
     td.cross_gain.push_back(i_bs == 0 ? Eigen::MatrixXcd() : Eigen::MatrixXcd(channels[0].transpose() * prec.weights));
     td.channel_to_cell0.push_back(std::move(channels[0]));
     td.cell_precoder.push_back(prec.precoder);
@@ -107,6 +110,7 @@ trial_data run_trial(const scenario& scen, std::uint64_t trial_index) {
   data_block block;
   while (stream.next(block)) sums.add(own_received(td, block, block.tx), block.interference, block.symbols);
   td.metrics = sums.metrics(td.amplitude, 1.0, 1.0);
+  if (scen.uplink.on) td.uplink = run_uplink(scen, td, uplink_channels);
   return td;
 }
 

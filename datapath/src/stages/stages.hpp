@@ -28,5 +28,10 @@ std::shared_ptr<stage> make_power(bool per_antenna,
                                   const golden::unit_choice& rsqrt_unit);  // power.cpp: power_acc, the unit, norm
 std::shared_ptr<stage> make_weights();                                     // weights.cpp
 std::shared_ptr<stage> make_transmit();                                    // transmit.cpp: tx_acc
+// uplink.cpp: ul_match; ul_comb (ZF, MMSE); ul_eq from ul_comb (`combined`) or ul_match; ul_llr
+std::shared_ptr<stage> make_uplink_match();
+std::shared_ptr<stage> make_uplink_combiner();
+std::shared_ptr<stage> make_uplink_equaliser(bool combined);
+std::shared_ptr<stage> make_uplink_demapper(golden::modulation mod);
 
 }  // namespace fxmimo::datapath::detail

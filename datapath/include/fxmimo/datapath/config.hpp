@@ -30,8 +30,9 @@ struct node_setting {
 /// (every node at default_target(), sequential accumulation).
 struct datapath_config {
   std::vector<node_setting> nodes = std::vector<node_setting>(node_count());
-  [[nodiscard]] const node_setting& operator[](node_id id) const { return nodes.at(index_of(id)); }
-  node_setting& operator[](node_id id) { return nodes.at(index_of(id)); }
+  /// A node's setting: its home's (setting_home), so that a shared converter has one.
+  [[nodiscard]] const node_setting& operator[](node_id id) const { return nodes.at(index_of(setting_home(id))); }
+  node_setting& operator[](node_id id) { return nodes.at(index_of(setting_home(id))); }
 };
 
 /// Reads the `[nodes.NAME]` tables of a scenario (keys: format, rounding, overflow; for an

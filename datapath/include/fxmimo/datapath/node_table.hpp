@@ -60,6 +60,12 @@ enum class node_id : std::uint16_t {
   symbols,          ///< QAM symbols (K x N)
   tx_acc,           ///< precoding accumulator sum_k weights[m,k] symbols[k,n] (M x N)
   dac,              ///< transmitted samples (M x N)
+  ul_adc,           ///< uplink data block after the AGC, through the adc's format (M x N_ul)
+  ul_match,         ///< matched-filter accumulator H_hat^H ul_adc, summed over antennas (K x N_ul)
+  ul_comb,          ///< ZF / MMSE combiner accumulator inv_out ul_match, summed over users (K x N_ul)
+  ul_scale,         ///< per-user real gain onto the constellation's odd-integer grid (K)
+  ul_eq,            ///< equalised symbols ul_scale (ul_comb or ul_match), on the grid (K x N_ul)
+  ul_llr,           ///< max-log distance differences of every bit, K x (b N_ul)
 };
 
 /// A named dimension of a node's words. Its size comes from the scenario through the plan
@@ -78,6 +84,8 @@ enum class dim : std::uint8_t {
   chol_rsqrt_entry,  ///< 2^a: entries of the Cholesky diagonal's rsqrt unit's seed ROM
   chol_rsqrt_step,   ///< n: its Newton steps
   sweep_user,        ///< K (S - 1): Gauss-Seidel sweeps s = 1..S-1 side by side, column (s-1) K + c
+  ul_symbol,         ///< N_ul: the uplink data symbols of a block
+  ul_bit,            ///< b N_ul: the uplink bits, column n b + t (bit t, MSB first, of symbol n)
   one,               ///< 1: a column vector's second dimension, left out of vector files
 };
 
@@ -328,6 +336,42 @@ inline constexpr std::array reference_node_table{
              node_role::accumulator,
              "precoding accumulator sum_k weights[m,k] symbols[k,n]"},
     node_row{node_id::dac, "dac", true, {dim::antenna, dim::symbol}, node_role::converter, "transmitted samples"},
+    node_row{node_id::ul_adc,
+             "ul_adc",
+             true,
+             {dim::antenna, dim::ul_symbol},
+             node_role::converter,
+             "uplink data block after the AGC, through the one ADC (adc's setting)"},
+    node_row{node_id::ul_match,
+             "ul_match",
+             true,
+             {dim::user, dim::ul_symbol},
+             node_role::accumulator,
+             "matched filter sum_m conj(chan_est[m,k]) ul_adc[m,n]"},
+    node_row{node_id::ul_comb,
+             "ul_comb",
+             true,
+             {dim::user, dim::ul_symbol},
+             node_role::accumulator,
+             "ZF / MMSE combiner sum_j inv_out[k,j] ul_match[j,n]"},
+    node_row{node_id::ul_scale,
+             "ul_scale",
+             false,
+             {dim::user, dim::one},
+             node_role::rom,
+             "per-user gain onto the constellation's odd-integer grid"},
+    node_row{node_id::ul_eq,
+             "ul_eq",
+             true,
+             {dim::user, dim::ul_symbol},
+             node_role::register_,
+             "equalised symbols ul_scale[k] (ul_comb or ul_match)[k,n]"},
+    node_row{node_id::ul_llr,
+             "ul_llr",
+             false,
+             {dim::user, dim::ul_bit},
+             node_role::register_,
+             "max-log distance difference of each bit of ul_eq (positive favours 0)"},
 };
 inline constexpr std::size_t num_reference_nodes = reference_node_table.size();
 
@@ -340,10 +384,15 @@ constexpr bool rows_in_enum_order() {
 }  // namespace detail
 // A row missing, repeated or out of order does not compile. The last enumerator is the last row.
 static_assert(detail::rows_in_enum_order(), "node table rows must follow node_id order");
-static_assert(static_cast<std::size_t>(node_id::dac) + 1 == num_reference_nodes,
+static_assert(static_cast<std::size_t>(node_id::ul_llr) + 1 == num_reference_nodes,
               "every node_id needs its row in reference_node_table");
 
 constexpr std::size_t index_of(node_id id) { return static_cast<std::size_t>(id); }
+
+/// The node whose setting (format, rounding, overflow) a node uses: itself, except a node that
+/// is a second use of one piece of hardware (ul_adc is the adc converter at another time). A
+/// configuration reads and writes such a node's setting at its home's (config.hpp).
+constexpr node_id setting_home(node_id id) { return id == node_id::ul_adc ? node_id::adc : id; }
 
 /// A row of a node added by a program of its own (owns its strings).
 struct custom_node {

@@ -24,7 +24,7 @@ namespace fxmimo::datapath {
 struct dimension_sizes {
   int antenna = 0, user = 0, pilot_symbol = 0, symbol = 0, term_user = 0, power_group = 1;
   int recip_entry = 0, recip_step = 0, rsqrt_entry = 0, rsqrt_step = 0;
-  int chol_rsqrt_entry = 0, chol_rsqrt_step = 0, sweep_user = 0;
+  int chol_rsqrt_entry = 0, chol_rsqrt_step = 0, sweep_user = 0, ul_symbol = 0, ul_bit = 0;
   [[nodiscard]] int size(dim d) const;
   /// The name written into vector files ("antenna", "user", ...; power_group says which it is).
   [[nodiscard]] std::string_view name(dim d) const;

@@ -16,6 +16,9 @@ namespace fxmimo::golden {
 /// g_agc = 10^(-agc_backoff_db/20) / sqrt(rho_p sum_{l,k} beta^j_{lk} + 1),
 /// so the expected RMS of one adc sample (per complex sample) sits agc_backoff_db below 1.0.
 double agc_gain(const scenario& scen, const large_scale& gains, int i_bs);
+/// The same rule for a phase whose users send at `snr` (linear) per unit gain: the pilots
+/// (rho_p, agc_gain) or the uplink data (rho_ul).
+double agc_gain_at(const scenario& scen, const large_scale& gains, int i_bs, double snr);
 
 /// Received pilot block Y_j (before the AGC) from the channels of every cell's users at BS j
 /// (`channels[l]` = M x K matrix h^j_{l.}) and `pilots[l]` (tau_p x K), plus unit CN noise drawn

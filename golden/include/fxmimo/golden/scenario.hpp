@@ -30,6 +30,7 @@ enum class precoder_kind { mf, zf, rzf };
 enum class inversion_kind { ldl, neumann, reference, cholesky, gauss_seidel };
 enum class power_normalization { total, per_antenna };
 enum class modulation { qpsk, qam16, qam64, qam256, qam1024 };
+enum class combiner_kind { mrc, zf, mmse };
 
 /// The base-station array (the same at every cell).
 struct array_config {
@@ -94,6 +95,17 @@ struct frontend_config {
   double dac_backoff_db = 12.0;  ///< per-antenna transmit RMS below full scale 1.0, dB
 };
 
+/// The uplink data phase (`[uplink]`, optional): every user of every cell sends N_ul QAM
+/// symbols through the same small-scale channels as its pilots, and cell 0's base station
+/// combines, equalises and demaps them (README "The uplink").
+struct uplink_config {
+  bool on = false;
+  double snr_db = 0.0;                          ///< rho_ul: each user's transmit power over noise at unit gain, dB
+  modulation mod = modulation::qam16;           ///< the users' constellation
+  int num_symbols = 168;                        ///< N_ul per coherence block, 1..4096
+  combiner_kind combiner = combiner_kind::mrc;  ///< mrc: H_hat^H y; zf, mmse: the downlink's inverse times that
+};
+
 /// How a divide or root node is built (`[units.NODE]`): the exact unit (the result rounded once,
 /// fixedpoint/divide.hpp) or a table + Newton-Raphson unit (fixedpoint/newton.hpp) with a seed
 /// ROM of 2^seed_bits entries and `steps` iterations.
@@ -155,11 +167,14 @@ struct scenario {
   frontend_config frontend;
   units_config units;
   block_float_config block_float;
+  uplink_config uplink;
 
   /// rho_p in linear units.
   double pilot_snr() const;
   /// rho_d in linear units.
   double downlink_snr() const;
+  /// rho_ul in linear units.
+  double uplink_snr() const;
   /// Regulariser actually used by RZF: the given one, else K / rho_d.
   double rzf_regularizer() const;
   /// Pilot group (0 .. reuse-1) of cell `i_cell`: cells of one group share a pilot set.
@@ -181,5 +196,7 @@ scenario load_scenario_file(const std::string& path);
 
 /// Name used in files for a modulation ("qpsk", "16qam", ...).
 std::string_view modulation_name(modulation mod);
+/// Name used in files for a combiner ("mrc", "zf", "mmse").
+std::string_view combiner_name(combiner_kind kind);
 
 }  // namespace fxmimo::golden

@@ -30,6 +30,35 @@ struct label_rows {
   std::vector<random_stream> rows;  ///< [k]
 };
 
+/// Figures of cell 0's uplink after combining and equalisation (README "The uplink",
+/// Evaluation), per user then over the users.
+struct uplink_metrics {
+  std::vector<double> sinr;               ///< |g_k|^2 E|s|^2 / mean|r_k - g_k s_k|^2 (receiver noise included), linear
+  std::vector<double> sinr_db;            ///< 10 log10 sinr
+  std::vector<double> evm_pct;            ///< 100 sqrt(mean|r_k - g_k s_k|^2 / (|g_k|^2 E|s|^2)), after the one-tap fit
+  std::vector<std::uint64_t> bit_errors;  ///< hard decisions of r_k (nearest point) against the sent labels
+  std::uint64_t bits = 0;                 ///< bits sent per user
+  double mean_sinr_db = 0.0;
+  double mean_evm_pct = 0.0;
+  std::uint64_t total_bit_errors = 0;
+  [[nodiscard]] double ber() const;  ///< total_bit_errors / (bits K)
+};
+
+/// Cell 0's uplink data phase in one trial: what its base station receives and computes, in
+/// double (README "The uplink"). Kept whole (K x N_ul and M x N_ul), N_ul <= 4096.
+struct uplink_data {
+  label_matrix labels;         ///< K x N_ul labels of cell 0's users
+  Eigen::MatrixXcd symbols;    ///< K x N_ul unit-power QAM symbols of cell 0's users
+  double agc_gain = 0.0;       ///< g_ul: the AGC rule at rho_ul
+  Eigen::MatrixXcd adc;        ///< g_ul Y_ul (M x N_ul)
+  Eigen::MatrixXcd match;      ///< H_hat^H adc (K x N_ul)
+  Eigen::MatrixXcd combined;   ///< inverse * match (K x N_ul; zf and mmse), else empty
+  Eigen::VectorXd scale;       ///< per-user real gain c_k onto the odd-integer grid (K)
+  Eigen::MatrixXcd equalised;  ///< diag(scale) (combined or match) (K x N_ul), on the grid
+  Eigen::MatrixXd distances;   ///< max-log distance differences, K x (b N_ul), column n b + t
+  uplink_metrics metrics;      ///< of equalised, golden
+};
+
 /// All golden values of one trial at cell 0's base station (the datapath nodes of README "How it computes", in double),
 /// the true channels, the other cells' transmissions and the golden metrics.
 struct trial_data {
@@ -66,8 +95,9 @@ struct trial_data {
   /// weights); index 0 empty. The other cells' signal at cell 0's users is sum over l >= 1 of
   /// cross_gain[l] s_l (cell order), one K x K product per cell instead of two M x K ones.
   std::vector<Eigen::MatrixXcd> cross_gain;
-  double amplitude = 0.0;  ///< sqrt(rho_d / P_dig): received samples r = amplitude (h^T x + others)
-  link_metrics metrics;    ///< the golden data phase's link figures (link_sums of its blocks, scale 1)
+  double amplitude = 0.0;             ///< sqrt(rho_d / P_dig): received samples r = amplitude (h^T x + others)
+  link_metrics metrics;               ///< the golden data phase's link figures (link_sums of its blocks, scale 1)
+  std::optional<uplink_data> uplink;  ///< with an [uplink] table
 };
 
 /// One block of the data phase: symbols first .. first + B - 1 of every cell.

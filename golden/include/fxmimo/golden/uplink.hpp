@@ -1,0 +1,37 @@
+// The uplink data phase at cell 0's base station (README "The uplink"): every user of every
+// cell l sends N_ul QAM symbols at rho_ul through the channels of its pilots in the same block,
+// Y_ul = sqrt(rho_ul) sum_l H^0_l S_l + N (M x N_ul, N i.i.d. CN(0, 1)); the base station
+// converts g_ul Y_ul, combines with its estimate (and, for ZF and MMSE, the downlink's inverse),
+// scales each user onto the odd-integer grid of its constellation and demaps.
+#pragma once
+
+#include <Eigen/Dense>
+#include <vector>
+
+#include "fxmimo/golden/scenario.hpp"
+#include "fxmimo/golden/trial.hpp"
+
+namespace fxmimo::golden {
+
+/// The per-user real gain c_k that puts user k's combined output on the odd-integer grid:
+/// c_k = 1 / (g_ul sqrt(rho_ul) a_k qam_step), a_k the expected combined gain of user k's own
+/// symbol from large-scale statistics: for mrc E[h_hat_k^H h_k] / 1 = M beta (perfect CSI and
+/// LS), M tau_p rho_p beta^2 psi_k (MMSE, uncorrelated Rayleigh); for zf 1; for mmse 1 (the
+/// loading's bias, below 1 by O(1 / (rho_ul M)), is left to the one-tap fit of the metrics).
+Eigen::VectorXd uplink_scales(const scenario& scen, const large_scale& gains, double agc_ul);
+
+/// Figures of equalised outputs on the grid (K x N) against the sent symbols and labels.
+uplink_metrics measure_uplink(modulation mod, const Eigen::MatrixXcd& equalised_grid, const Eigen::MatrixXcd& symbols,
+                              const label_matrix& labels);
+
+/// Max-log distance differences of every output: K x (b N), column n b + t (maxlog_distances).
+Eigen::MatrixXd uplink_distances(modulation mod, const Eigen::MatrixXcd& equalised_grid);
+
+/// The uplink of one trial from its own random stream (seeded from the trial's seed, so the
+/// downlink's draws are untouched): labels cell by cell, user by user, N_ul each; then the noise,
+/// symbol by symbol, antenna by antenna. `channels_bs0[l]` is H^0_l (M x K), `trial` holds the
+/// estimate, the inverse and the gains.
+uplink_data run_uplink(const scenario& scen, const trial_data& trial,
+                       const std::vector<Eigen::MatrixXcd>& channels_bs0);
+
+}  // namespace fxmimo::golden
