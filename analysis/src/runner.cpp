@@ -18,6 +18,7 @@
 #include "fxmimo/golden/link_metrics.hpp"
 #include "fxmimo/golden/precoder.hpp"
 #include "fxmimo/golden/trial.hpp"
+#include "fxmimo/golden/uplink.hpp"
 #include "wire.hpp"
 
 namespace fxmimo::analysis {
@@ -101,6 +102,37 @@ node_result measure_node(datapath::node_id id, const datapath::node_setting& set
   return r;
 }
 
+/// The uplink figures of one trial into `out`: the golden ones, and the fixed ones from ul_eq's
+/// and ul_llr's words (or `earlier`'s, when those were not computed again).
+void summarise_uplink(const golden::scenario& scen, const datapath::datapath_config& config,
+                      const golden::uplink_data& ul, const datapath::fixed_trial& fixed, const trial_summary* earlier,
+                      trial_summary& out) {
+  const golden::uplink_metrics& g = ul.metrics;
+  out.ul_sinr_golden = g.sinr;
+  out.ul_evm_golden_pct = g.evm_pct;
+  out.ul_bits = g.bits * g.bit_errors.size();
+  out.ul_bit_errors_golden = g.total_bit_errors;
+  if (earlier != nullptr) {
+    out.ul_sinr_fixed = earlier->ul_sinr_fixed;
+    out.ul_evm_fixed_pct = earlier->ul_evm_fixed_pct;
+    out.ul_bit_errors_fixed = earlier->ul_bit_errors_fixed;
+    out.ul_llr_sign_flips = earlier->ul_llr_sign_flips;
+    return;
+  }
+  using datapath::node_id;
+  const Eigen::MatrixXcd eq =
+      datapath::to_values(fixed.words[datapath::index_of(node_id::ul_eq)], config[node_id::ul_eq].spec.fmt.frac_bits);
+  const golden::uplink_metrics f = golden::measure_uplink(scen.uplink.mod, eq, ul.symbols, ul.labels);
+  out.ul_sinr_fixed = f.sinr;
+  out.ul_evm_fixed_pct = f.evm_pct;
+  out.ul_bit_errors_fixed = f.total_bit_errors;
+  // A hard decision per LLR: bit 1 where it is negative (README "The uplink").
+  const datapath::word_matrix& llr = fixed.words[datapath::index_of(node_id::ul_llr)];
+  for (int k = 0; k < llr.rows; ++k)
+    for (int c = 0; c < llr.cols; ++c)
+      out.ul_llr_sign_flips += static_cast<std::uint64_t>((llr.re[llr.at(k, c)] < 0) != (ul.distances(k, c) < 0));
+}
+
 /// The figures of one trial from its golden part and the words of its stages outside the data
 /// phase (`fixed`, from run_block_stages or rerun_block_stages); the data phase is computed
 /// here, block by block, into `fixed`'s data nodes, which are emptied at the end (a kept
@@ -160,6 +192,10 @@ trial_summary summarise_trial(const datapath::datapath_plan& plan, const golden:
   }
   out.sinr_golden = trial.metrics.sinr;
   out.evm_golden_pct = trial.metrics.evm_pct;
+  if (trial.uplink) {
+    const bool uplink_again = again(datapath::node_id::ul_eq) || again(datapath::node_id::ul_llr);
+    summarise_uplink(scen, config, *trial.uplink, fixed, uplink_again ? nullptr : &earlier->summary, out);
+  }
   out.neumann_radius = trial.neumann_radius;
   out.gauss_seidel_residual = trial.gauss_seidel_residual;
   out.gram_condition = g.gram_condition;
@@ -329,6 +365,14 @@ void put_trials(wire::writer& w, const std::vector<trial_summary>& trials) {
     w.put(t.neumann_radius);
     w.put(t.gauss_seidel_residual);
     w.put(t.gram_condition);
+    w.put_vector(t.ul_sinr_golden);
+    w.put_vector(t.ul_sinr_fixed);
+    w.put_vector(t.ul_evm_golden_pct);
+    w.put_vector(t.ul_evm_fixed_pct);
+    w.put(t.ul_bits);
+    w.put(t.ul_bit_errors_golden);
+    w.put(t.ul_bit_errors_fixed);
+    w.put(t.ul_llr_sign_flips);
   }
 }
 
@@ -347,6 +391,14 @@ void get_trials(wire::reader& r, std::vector<trial_summary>& out) {
     t.neumann_radius = r.get<double>();
     t.gauss_seidel_residual = r.get<double>();
     t.gram_condition = r.get<double>();
+    t.ul_sinr_golden = r.get_vector<double>();
+    t.ul_sinr_fixed = r.get_vector<double>();
+    t.ul_evm_golden_pct = r.get_vector<double>();
+    t.ul_evm_fixed_pct = r.get_vector<double>();
+    t.ul_bits = r.get<std::uint64_t>();
+    t.ul_bit_errors_golden = r.get<std::uint64_t>();
+    t.ul_bit_errors_fixed = r.get<std::uint64_t>();
+    t.ul_llr_sign_flips = r.get<std::uint64_t>();
     out.push_back(std::move(t));
   }
 }
@@ -409,6 +461,49 @@ run_results run_trials(trial_cache& cache, const datapath::datapath_config& conf
                        evaluate_each(trial_indices, num_threads, progress,
                                      [&](std::uint64_t t) { return evaluate_trial(cache, config, t); }));
 }
+
+namespace {
+
+/// The uplink's figures over the trials, in trial order: per user the mean linear SINR (in dB)
+/// and the RMS EVM, as the downlink's; the counts summed.
+uplink_results reduce_uplink(const std::vector<trial_summary>& per_trial) {
+  uplink_results out;
+  const std::size_t num_users = per_trial.front().ul_sinr_golden.size();
+  std::vector<double> sinr_g(num_users, 0.0), sinr_f(num_users, 0.0), evm_g2(num_users, 0.0), evm_f2(num_users, 0.0);
+  for (const trial_summary& t : per_trial) {
+    for (std::size_t k = 0; k < num_users; ++k) {
+      sinr_g[k] += t.ul_sinr_golden[k];
+      sinr_f[k] += t.ul_sinr_fixed[k];
+      evm_g2[k] += t.ul_evm_golden_pct[k] * t.ul_evm_golden_pct[k];
+      evm_f2[k] += t.ul_evm_fixed_pct[k] * t.ul_evm_fixed_pct[k];
+    }
+    out.bits += t.ul_bits;
+    out.bit_errors_golden += t.ul_bit_errors_golden;
+    out.bit_errors_fixed += t.ul_bit_errors_fixed;
+    out.llrs += t.ul_bits;
+    out.llr_sign_flips += t.ul_llr_sign_flips;
+  }
+  const double n = static_cast<double>(per_trial.size()), nu = static_cast<double>(num_users);
+  double evm_g_sum2 = 0, evm_f_sum2 = 0;
+  for (std::size_t k = 0; k < num_users; ++k) {
+    user_result u;
+    u.sinr_golden_db = 10 * std::log10(sinr_g[k] / n);
+    u.sinr_fixed_db = 10 * std::log10(sinr_f[k] / n);
+    u.evm_golden_pct = std::sqrt(evm_g2[k] / n);
+    u.evm_fixed_pct = std::sqrt(evm_f2[k] / n);
+    out.sinr_golden_db += u.sinr_golden_db / nu;
+    out.sinr_fixed_db += u.sinr_fixed_db / nu;
+    out.sinr_loss_db += u.sinr_loss_db() / nu;
+    evm_g_sum2 += u.evm_golden_pct * u.evm_golden_pct;
+    evm_f_sum2 += u.evm_fixed_pct * u.evm_fixed_pct;
+    out.users.push_back(u);
+  }
+  out.evm_golden_pct = std::sqrt(evm_g_sum2 / nu);
+  out.evm_fixed_pct = std::sqrt(evm_f_sum2 / nu);
+  return out;
+}
+
+}  // namespace
 
 run_results reduce_trials(const golden::scenario& scen, const datapath::datapath_config& config,
                           const std::vector<std::uint64_t>& trial_indices,
@@ -521,6 +616,7 @@ run_results reduce_trials(const golden::scenario& scen, const datapath::datapath
         scen.precoder.gauss_seidel_sweeps, gauss_seidel_unconverged, per_trial.size(),
         golden::gauss_seidel_residual_limit));
   }
+  if (scen.uplink.on) out.uplink = reduce_uplink(per_trial);
   for (const node_result& r : out.nodes) {
     if (r.counters.overflowed > 0) {
       out.warnings.push_back(fmt::format("node {} overflowed {} times ({:.3g} of its values)",

@@ -1,5 +1,6 @@
 #include "fxmimo/golden/uplink.hpp"
 
+#include <bit>
 #include <cmath>
 
 #include "fxmimo/golden/estimator.hpp"
@@ -20,18 +21,16 @@ double uplink_metrics::ber() const {
   return n > 0 ? static_cast<double>(total_bit_errors) / n : 0.0;
 }
 
-Eigen::VectorXd uplink_scales(const scenario& scen, const large_scale& gains, double agc_ul) {
+Eigen::VectorXd uplink_scales(const scenario& scen, const trial_data& trial, double agc_ul) {
   const int num_users = scen.cells.num_users;
   const double base = agc_ul * std::sqrt(scen.uplink_snr()) * qam_step(scen.uplink.mod);
   Eigen::VectorXd c(num_users);
   for (int k = 0; k < num_users; ++k) {
     double a = 1.0;
     if (scen.uplink.combiner == combiner_kind::mrc) {
-      const double beta = gains.at(0, 0, k);
-      const double m = scen.array.num_antennas;
-      a = scen.estimator.kind == estimator_kind::mmse
-              ? m * scen.pilots.length * scen.pilot_snr() * beta * beta * mmse_psi(scen, gains, 0, k)
-              : m * beta;
+      a = trial.chan_est.col(k).squaredNorm();
+    } else if (scen.uplink.combiner == combiner_kind::mmse) {
+      a = 1.0 - trial.inverse(k, k).real() / scen.uplink_snr();
     }
     c(k) = 1.0 / (base * a);
   }
@@ -62,7 +61,7 @@ uplink_metrics measure_uplink(modulation mod, const Eigen::MatrixXcd& equalised_
       const std::complex<double> r = step * equalised_grid(k, i);
       err += std::norm(r - g * symbols(k, i));
       const std::uint32_t decided = qam_demap(mod, r);
-      errors += static_cast<std::uint64_t>(__builtin_popcount(decided ^ labels(k, i)));
+      errors += static_cast<std::uint64_t>(std::popcount(decided ^ labels(k, i)));
     }
     const double signal = std::norm(g) * ss;
     const double sinr = err > 0 ? signal / err : HUGE_VAL;
@@ -124,7 +123,7 @@ uplink_data run_uplink(const scenario& scen, const trial_data& trial,
   ul.adc = ul.agc_gain * y;
   ul.match.noalias() = trial.chan_est.adjoint() * ul.adc;
   if (cfg.combiner != combiner_kind::mrc) ul.combined.noalias() = trial.inverse * ul.match;
-  ul.scale = uplink_scales(scen, trial.gains, ul.agc_gain);
+  ul.scale = uplink_scales(scen, trial, ul.agc_gain);
   ul.equalised = ul.scale.asDiagonal() * (cfg.combiner == combiner_kind::mrc ? ul.match : ul.combined);
   ul.distances = uplink_distances(cfg.mod, ul.equalised);
   ul.metrics = measure_uplink(cfg.mod, ul.equalised, ul.symbols, ul.labels);

@@ -72,17 +72,28 @@ analysis::node_result node_from_json(const checked_json& j) {
 json trial_json(const analysis::trial_summary& t, const std::vector<datapath::node_id>& nodes) {
   json node_list = json::array();
   for (datapath::node_id id : nodes) node_list.push_back(node_json(t.nodes[datapath::index_of(id)]));
-  return {{"trial", t.trial_index},
-          {"nodes", node_list},
-          {"sinr_golden", exact_list(t.sinr_golden)},
-          {"sinr_fixed", exact_list(t.sinr_fixed)},
-          {"evm_golden_pct", exact_list(t.evm_golden_pct)},
-          {"evm_fixed_pct", exact_list(t.evm_fixed_pct)},
-          {"evm_impl", exact(t.evm_impl)},
-          {"tx_power_error_db", exact(t.tx_power_error_db)},
-          {"neumann_radius", exact(t.neumann_radius)},
-          {"gauss_seidel_residual", exact(t.gauss_seidel_residual)},
-          {"gram_condition", exact(t.gram_condition)}};
+  json out = {{"trial", t.trial_index},
+              {"nodes", node_list},
+              {"sinr_golden", exact_list(t.sinr_golden)},
+              {"sinr_fixed", exact_list(t.sinr_fixed)},
+              {"evm_golden_pct", exact_list(t.evm_golden_pct)},
+              {"evm_fixed_pct", exact_list(t.evm_fixed_pct)},
+              {"evm_impl", exact(t.evm_impl)},
+              {"tx_power_error_db", exact(t.tx_power_error_db)},
+              {"neumann_radius", exact(t.neumann_radius)},
+              {"gauss_seidel_residual", exact(t.gauss_seidel_residual)},
+              {"gram_condition", exact(t.gram_condition)}};
+  if (!t.ul_sinr_golden.empty()) {
+    out["uplink"] = {{"sinr_golden", exact_list(t.ul_sinr_golden)},
+                     {"sinr_fixed", exact_list(t.ul_sinr_fixed)},
+                     {"evm_golden_pct", exact_list(t.ul_evm_golden_pct)},
+                     {"evm_fixed_pct", exact_list(t.ul_evm_fixed_pct)},
+                     {"bits", t.ul_bits},
+                     {"bit_errors_golden", t.ul_bit_errors_golden},
+                     {"bit_errors_fixed", t.ul_bit_errors_fixed},
+                     {"llr_sign_flips", t.ul_llr_sign_flips}};
+  }
+  return out;
 }
 
 /// A trial; `nodes` gets the order of its nodes.
@@ -113,6 +124,21 @@ analysis::trial_summary trial_from_json(const checked_json& j, std::vector<datap
   // Parts written before the Gauss-Seidel inverse existed lack it (0: no such inverse).
   if (const auto v = j.find("gauss_seidel_residual")) t.gauss_seidel_residual = v->exact_double();
   t.gram_condition = j["gram_condition"].exact_double();
+  if (const auto u = j.find("uplink")) {
+    t.ul_sinr_golden = exact_list_from((*u)["sinr_golden"]);
+    t.ul_sinr_fixed = exact_list_from((*u)["sinr_fixed"]);
+    t.ul_evm_golden_pct = exact_list_from((*u)["evm_golden_pct"]);
+    t.ul_evm_fixed_pct = exact_list_from((*u)["evm_fixed_pct"]);
+    const std::size_t ul_users = t.ul_sinr_golden.size();
+    for (const char* key : {"sinr_fixed", "evm_golden_pct", "evm_fixed_pct"}) {
+      if ((*u)[key].size() != ul_users)
+        (*u)[key].fail(fmt::format("{} values; sinr_golden has {}", (*u)[key].size(), ul_users));
+    }
+    t.ul_bits = (*u)["bits"].count();
+    t.ul_bit_errors_golden = (*u)["bit_errors_golden"].count();
+    t.ul_bit_errors_fixed = (*u)["bit_errors_fixed"].count();
+    t.ul_llr_sign_flips = (*u)["llr_sign_flips"].count();
+  }
   return t;
 }
 

@@ -200,9 +200,76 @@ run_record make_record(const analysis::run_results& r) {
                  finite_or_none(s.max_abs_tx_power_error_db),
                  finite_or_none(s.rms_tx_power_error_db)};
   out.distribution = distribution_of(r.distribution);
+  if (r.uplink) {
+    const analysis::uplink_results& u = *r.uplink;
+    uplink_record ul;
+    for (const analysis::user_result& k : u.users) {
+      ul.users.push_back({finite_or_none(k.sinr_golden_db), finite_or_none(k.sinr_fixed_db),
+                          finite_or_none(k.sinr_loss_db()), finite_or_none(k.evm_golden_pct),
+                          finite_or_none(k.evm_fixed_pct)});
+    }
+    ul.sinr_golden_db = finite_or_none(u.sinr_golden_db);
+    ul.sinr_fixed_db = finite_or_none(u.sinr_fixed_db);
+    ul.sinr_loss_db = finite_or_none(u.sinr_loss_db);
+    ul.evm_golden_pct = finite_or_none(u.evm_golden_pct);
+    ul.evm_fixed_pct = finite_or_none(u.evm_fixed_pct);
+    ul.bits = u.bits;
+    ul.bit_errors_golden = u.bit_errors_golden;
+    ul.bit_errors_fixed = u.bit_errors_fixed;
+    ul.llr_sign_flips = u.llr_sign_flips;
+    out.uplink = std::move(ul);
+  }
   out.warnings = r.warnings;
   return out;
 }
+
+namespace {
+
+json user_json(const run_user_record& u) {
+  return {{"sinr_golden_db", metric_json(u.sinr_golden_db)},
+          {"sinr_fixed_db", metric_json(u.sinr_fixed_db)},
+          {"sinr_loss_db", metric_json(u.sinr_loss_db)},
+          {"evm_golden_pct", metric_json(u.evm_golden_pct)},
+          {"evm_fixed_pct", metric_json(u.evm_fixed_pct)}};
+}
+
+run_user_record user_from_json(const checked_json& u) {
+  return {u["sinr_golden_db"].number_or_null(), u["sinr_fixed_db"].number_or_null(), u["sinr_loss_db"].number_or_null(),
+          u["evm_golden_pct"].number_or_null(), u["evm_fixed_pct"].number_or_null()};
+}
+
+json uplink_json(const uplink_record& u) {
+  json users = json::array();
+  for (const run_user_record& k : u.users) users.push_back(user_json(k));
+  return {{"users", users},
+          {"sinr_golden_db", metric_json(u.sinr_golden_db)},
+          {"sinr_fixed_db", metric_json(u.sinr_fixed_db)},
+          {"sinr_loss_db", metric_json(u.sinr_loss_db)},
+          {"evm_golden_pct", metric_json(u.evm_golden_pct)},
+          {"evm_fixed_pct", metric_json(u.evm_fixed_pct)},
+          {"bits", u.bits},
+          {"bit_errors_golden", u.bit_errors_golden},
+          {"bit_errors_fixed", u.bit_errors_fixed},
+          {"llr_sign_flips", u.llr_sign_flips}};
+}
+
+uplink_record uplink_from_json(const checked_json& j) {
+  uplink_record u;
+  const checked_json users = j["users"];
+  for (std::size_t i = 0; i < users.size(); ++i) u.users.push_back(user_from_json(users[i]));
+  u.sinr_golden_db = j["sinr_golden_db"].number_or_null();
+  u.sinr_fixed_db = j["sinr_fixed_db"].number_or_null();
+  u.sinr_loss_db = j["sinr_loss_db"].number_or_null();
+  u.evm_golden_pct = j["evm_golden_pct"].number_or_null();
+  u.evm_fixed_pct = j["evm_fixed_pct"].number_or_null();
+  u.bits = j["bits"].count();
+  u.bit_errors_golden = j["bit_errors_golden"].count();
+  u.bit_errors_fixed = j["bit_errors_fixed"].count();
+  u.llr_sign_flips = j["llr_sign_flips"].count();
+  return u;
+}
+
+}  // namespace
 
 json to_json(const run_record& r) {
   json out = file_head(report_kind::run, r.scenario, true);
@@ -231,13 +298,7 @@ json to_json(const run_record& r) {
     out["nodes"][n.node] = std::move(j);
   }
   out["users"] = json::array();
-  for (const run_user_record& u : r.users) {
-    out["users"].push_back({{"sinr_golden_db", metric_json(u.sinr_golden_db)},
-                            {"sinr_fixed_db", metric_json(u.sinr_fixed_db)},
-                            {"sinr_loss_db", metric_json(u.sinr_loss_db)},
-                            {"evm_golden_pct", metric_json(u.evm_golden_pct)},
-                            {"evm_fixed_pct", metric_json(u.evm_fixed_pct)}});
-  }
+  for (const run_user_record& u : r.users) out["users"].push_back(user_json(u));
   const run_summary_record& s = r.summary;
   out["summary"] = {
       {"sinr_golden_db", metric_json(s.sinr_golden_db)}, {"sinr_fixed_db", metric_json(s.sinr_fixed_db)},
@@ -249,6 +310,7 @@ json to_json(const run_record& r) {
     out["summary"]["max_abs_tx_power_error_db"] = metric_json(*s.max_abs_tx_power_error_db);
   if (s.rms_tx_power_error_db) out["summary"]["rms_tx_power_error_db"] = metric_json(*s.rms_tx_power_error_db);
   if (r.distribution) out["distribution"] = distribution_json(*r.distribution);
+  if (r.uplink) out["uplink"] = uplink_json(*r.uplink);
   out["warnings"] = r.warnings;
   return out;
 }
@@ -281,12 +343,7 @@ run_record run_from_json(const checked_json& doc) {
   }
   sort_by_datapath_order(r.nodes);
   const checked_json users = doc["users"];
-  for (std::size_t i = 0; i < users.size(); ++i) {
-    const checked_json u = users[i];
-    r.users.push_back({u["sinr_golden_db"].number_or_null(), u["sinr_fixed_db"].number_or_null(),
-                       u["sinr_loss_db"].number_or_null(), u["evm_golden_pct"].number_or_null(),
-                       u["evm_fixed_pct"].number_or_null()});
-  }
+  for (std::size_t i = 0; i < users.size(); ++i) r.users.push_back(user_from_json(users[i]));
   const checked_json s = doc["summary"];
   r.summary.sinr_golden_db = s["sinr_golden_db"].number_or_null();
   r.summary.sinr_fixed_db = s["sinr_fixed_db"].number_or_null();
@@ -299,6 +356,7 @@ run_record run_from_json(const checked_json& doc) {
   r.summary.max_abs_tx_power_error_db = optional_metric(s, "max_abs_tx_power_error_db");
   r.summary.rms_tx_power_error_db = optional_metric(s, "rms_tx_power_error_db");
   if (const auto d = doc.find("distribution")) r.distribution = distribution_from(*d);
+  if (const auto u = doc.find("uplink")) r.uplink = uplink_from_json(*u);
   const checked_json warnings = doc["warnings"];
   for (std::size_t i = 0; i < warnings.size(); ++i) r.warnings.push_back(warnings[i].text());
   return r;

@@ -51,7 +51,26 @@ std::string format_run_table(const analysis::run_results& r) {
   }
   out += "\n";
   out += format_distribution(r.distribution, r.trial_indices.size(), r.users.size());
+  if (r.uplink) out += format_uplink(*r.uplink);
   for (const std::string& w : r.warnings) out += "warning: " + w + "\n";
+  return out;
+}
+
+std::string format_uplink(const analysis::uplink_results& u) {
+  std::string out = "\nuplink (ul_eq against the users' symbols, receiver noise included):\n";
+  out += fmt::format("{:<6} {:>12} {:>12} {:>9} {:>10} {:>10}\n", "user", "SINR gold dB", "SINR fixed dB", "loss dB",
+                     "EVM gold %", "EVM fixed %");
+  for (std::size_t k = 0; k < u.users.size(); ++k) {
+    const analysis::user_result& r = u.users[k];
+    out += fmt::format("{:<6} {:>12.2f} {:>13.2f} {:>9.3f} {:>10.3f} {:>11.3f}\n", k, r.sinr_golden_db, r.sinr_fixed_db,
+                       r.sinr_loss_db(), r.evm_golden_pct, r.evm_fixed_pct);
+  }
+  out += fmt::format("{:<6} {:>12.2f} {:>13.2f} {:>9.3f} {:>10.3f} {:>11.3f}\n", "mean", u.sinr_golden_db,
+                     u.sinr_fixed_db, u.sinr_loss_db, u.evm_golden_pct, u.evm_fixed_pct);
+  out += fmt::format("uncoded BER: golden {:.3g} ({} errors), fixed {:.3g} ({} errors) in {} bits\n", u.ber_golden(),
+                     u.bit_errors_golden, u.ber_fixed(), u.bit_errors_fixed, u.bits);
+  out += fmt::format("LLRs (ul_llr) whose hard decision differs from the golden LLR's: {} of {} ({:.3g})\n",
+                     u.llr_sign_flips, u.llrs, u.llr_flip_rate());
   return out;
 }
 

@@ -75,6 +75,20 @@ struct run_distribution {
   std::optional<double> gram_condition_p50, gram_condition_p95, gram_condition_max;
 };
 
+/// The uplink of cell 0 over all trials (README "The uplink"), golden and fixed side by side.
+struct uplink_results {
+  std::vector<user_result> users;  ///< per user: SINR (10 log10 of the mean linear SINR), EVM (RMS)
+  double sinr_golden_db = 0.0, sinr_fixed_db = 0.0, sinr_loss_db = 0.0;  ///< means over users
+  double evm_golden_pct = 0.0, evm_fixed_pct = 0.0;                      ///< RMS over users
+  std::uint64_t bits = 0;                                                ///< bits sent by cell 0's users
+  std::uint64_t bit_errors_golden = 0, bit_errors_fixed = 0;             ///< hard-decision errors
+  std::uint64_t llrs = 0;                                                ///< LLRs (= bits)
+  std::uint64_t llr_sign_flips = 0;  ///< LLRs whose hard decision differs from the golden LLR's
+  [[nodiscard]] double ber_golden() const { return bits > 0 ? static_cast<double>(bit_errors_golden) / bits : 0.0; }
+  [[nodiscard]] double ber_fixed() const { return bits > 0 ? static_cast<double>(bit_errors_fixed) / bits : 0.0; }
+  [[nodiscard]] double llr_flip_rate() const { return llrs > 0 ? static_cast<double>(llr_sign_flips) / llrs : 0.0; }
+};
+
 struct run_results {
   std::string scenario_name;
   std::string scenario_source;
@@ -83,6 +97,7 @@ struct run_results {
   std::vector<user_result> users;
   run_summary summary;
   run_distribution distribution;
+  std::optional<uplink_results> uplink;  ///< with an [uplink] table
   std::vector<std::string> warnings;
 };
 
@@ -97,6 +112,10 @@ struct trial_summary {
   double neumann_radius = 0.0;
   double gauss_seidel_residual = 0.0;  ///< golden ||I - G X||_F / sqrt(K) with inversion = gauss_seidel, else 0
   double gram_condition = 0.0;         ///< 0 without a Gram
+  // The uplink (empty and zero without [uplink]): per user, linear SINR and EVM of ul_eq.
+  std::vector<double> ul_sinr_golden, ul_sinr_fixed, ul_evm_golden_pct, ul_evm_fixed_pct;
+  std::uint64_t ul_bits = 0;  ///< bits sent by cell 0's users (K b N_ul)
+  std::uint64_t ul_bit_errors_golden = 0, ul_bit_errors_fixed = 0, ul_llr_sign_flips = 0;
 };
 
 /// Golden trial, fixed datapath, evaluation through the true channel, per-node errors.

@@ -63,7 +63,7 @@ enum class node_id : std::uint16_t {
   ul_adc,           ///< uplink data block after the AGC, through the adc's format (M x N_ul)
   ul_match,         ///< matched-filter accumulator H_hat^H ul_adc, summed over antennas (K x N_ul)
   ul_comb,          ///< ZF / MMSE combiner accumulator inv_out ul_match, summed over users (K x N_ul)
-  ul_scale,         ///< per-user real gain onto the constellation's odd-integer grid (K)
+  ul_scale,         ///< per-user real gain onto the constellation's odd-integer grid, from the golden estimate (K)
   ul_eq,            ///< equalised symbols ul_scale (ul_comb or ul_match), on the grid (K x N_ul)
   ul_llr,           ///< max-log distance differences of every bit, K x (b N_ul)
 };
@@ -358,8 +358,8 @@ inline constexpr std::array reference_node_table{
              "ul_scale",
              false,
              {dim::user, dim::one},
-             node_role::rom,
-             "per-user gain onto the constellation's odd-integer grid"},
+             node_role::converter,
+             "per-user gain onto the constellation's odd-integer grid (from the golden estimate, converted)"},
     node_row{node_id::ul_eq,
              "ul_eq",
              true,

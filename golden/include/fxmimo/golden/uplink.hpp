@@ -14,11 +14,11 @@
 namespace fxmimo::golden {
 
 /// The per-user real gain c_k that puts user k's combined output on the odd-integer grid:
-/// c_k = 1 / (g_ul sqrt(rho_ul) a_k qam_step), a_k the expected combined gain of user k's own
-/// symbol from large-scale statistics: for mrc E[h_hat_k^H h_k] / 1 = M beta (perfect CSI and
-/// LS), M tau_p rho_p beta^2 psi_k (MMSE, uncorrelated Rayleigh); for zf 1; for mmse 1 (the
-/// loading's bias, below 1 by O(1 / (rho_ul M)), is left to the one-tap fit of the metrics).
-Eigen::VectorXd uplink_scales(const scenario& scen, const large_scale& gains, double agc_ul);
+/// c_k = 1 / (g_ul sqrt(rho_ul) a_k qam_step), a_k user k's own gain through the combiner A as
+/// the estimate sees it, a_k = [A H_hat^H H_hat]_kk: ||h_hat_k||^2 for mrc (unbiased for an
+/// MMSE estimate, whose error is uncorrelated with it), 1 for zf, 1 - delta [inverse]_kk for
+/// mmse (inverse = (H_hat^H H_hat + delta I)^-1, delta = 1 / rho_ul).
+Eigen::VectorXd uplink_scales(const scenario& scen, const trial_data& trial, double agc_ul);
 
 /// Figures of equalised outputs on the grid (K x N) against the sent symbols and labels.
 uplink_metrics measure_uplink(modulation mod, const Eigen::MatrixXcd& equalised_grid, const Eigen::MatrixXcd& symbols,

@@ -82,6 +82,13 @@ struct distribution_record {
   std::optional<double> gram_condition_p50, gram_condition_p95, gram_condition_max;
 };
 
+/// The uplink of a run (analysis::uplink_results); absent without [uplink].
+struct uplink_record {
+  std::vector<run_user_record> users;
+  metric sinr_golden_db, sinr_fixed_db, sinr_loss_db, evm_golden_pct, evm_fixed_pct;
+  std::uint64_t bits = 0, bit_errors_golden = 0, bit_errors_fixed = 0, llr_sign_flips = 0;
+};
+
 struct run_record {
   scenario_ref scenario;
   std::uint64_t trials = 0;
@@ -90,6 +97,7 @@ struct run_record {
   std::vector<run_user_record> users;
   run_summary_record summary;
   std::optional<distribution_record> distribution;
+  std::optional<uplink_record> uplink;
   std::vector<std::string> warnings;
 };
 

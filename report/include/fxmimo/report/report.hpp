@@ -15,6 +15,8 @@ namespace fxmimo::report {
 std::string format_run_table(const analysis::run_results& results);
 /// Two lines: the SINR-loss and EVM percentiles, and the Gram's condition number where there is one.
 std::string format_distribution(const analysis::run_distribution& d, std::size_t trials, std::size_t users);
+/// The uplink's table (per user and mean, golden and fixed), its bit errors and LLR decisions.
+std::string format_uplink(const analysis::uplink_results& u);
 std::string format_range_table(const analysis::range_results& r);
 std::string format_sweep_table(const analysis::sweep_results& r);
 /// CSV: node,bits,format,sinr_loss_db,evm_fixed_pct,evm_impl_pct,sqnr_db,overflow_rate,max_overflow_rate,
