@@ -111,15 +111,18 @@ class uplink_equaliser final : public stage {
 
 /// ul_llr[k, n b + t] = Q(D_t) with D_t = min over levels a with bit t = 1 of (a^2 - 2 a x) minus
 /// the same over bit t = 0 (the x^2 of (x - a)^2 cancels), x the axis part of ul_eq[k,n]; each
-/// a^2 2^f - 2 a X (X the word, f its fraction bits) is an exact integer at f fraction bits.
+/// a^2 2^F - 2 a X 2^(F - f) (X the word, f its fraction bits, F = max(f, 0)) is an exact
+/// integer at F fraction bits.
 class uplink_demapper final : public stage {
  public:
   explicit uplink_demapper(golden::modulation mod)
       : stage("ul_llr", {{node_id::ul_llr, {node_id::ul_eq}}}), mod_(mod) {}
-  /// The word, times 2 a (a up to 2^(b/2) - 1: b/2 + 1 bits), plus a^2 2^f, a difference: + 2.
+  /// At F = max(f, 0) fraction bits (f = ul_eq's): X 2^(F - f) times 2 a (a < 2^h, h = b/2: h + 1
+  /// bits), a^2 2^F (2 h + F + 1 bits), and their difference and the min's difference (+ 2).
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
     const int half = golden::bits_per_symbol(mod_) / 2;
-    return std::max(bits_of(c, source(0, 0)) + 2 * half + 3, bits_of(c, output(0)) + 1);
+    const int f = c[source(0, 0)].spec.fmt.frac_bits, frac = std::max(f, 0);
+    return std::max({bits_of(c, source(0, 0)) + (frac - f) + half + 4, 2 * half + frac + 4, bits_of(c, output(0)) + 1});
   }
   /// Comparisons and shifts only: no multiplier (the levels are constants).
   [[nodiscard]] double multiplier_cost(const datapath_config&, const dimension_sizes&) const override { return 0; }
@@ -128,6 +131,7 @@ class uplink_demapper final : public stage {
     node_state out = state(ctx, output(0));
     const int half = golden::bits_per_symbol(mod_) / 2;
     const int levels = golden::qam_axis_levels(mod_);
+    const int frac = std::max(x.frac(), 0);  // the fraction bits D is computed at
     with_width(work_bits(ctx.config), [&](auto tag) {
       using P = decltype(tag);
       const word_matrix& xw = *x.words;
@@ -137,19 +141,19 @@ class uplink_demapper final : public stage {
         for (int i_sym = 0; i_sym < xw.cols; ++i_sym) {
           const cw v = get(xw, k, i_sym);
           for (int axis = 0; axis < 2; ++axis) {
-            const P xp = fp::convert_int<P>(axis == 0 ? v.re : v.im);
+            const P xp = fp::shift_left(fp::convert_int<P>(axis == 0 ? v.re : v.im), frac - x.frac());
             for (int t = 0; t < half; ++t) {
               std::array<std::optional<P>, 2> best;
               for (int i = 0; i < levels; ++i) {
                 const int a = 2 * i - (levels - 1);
-                const P d = P(fp::convert_int<P>(word{a} * a) * fp::convert_int<P>(word{1} << x.frac()) -
-                              P(fp::convert_int<P>(word{2} * a) * xp));
+                const P d =
+                    P(fp::shift_left(fp::convert_int<P>(word{a} * a), frac) - P(fp::convert_int<P>(word{2} * a) * xp));
                 std::optional<P>& b = best[static_cast<std::size_t>(golden::qam_axis_bit(mod_, i, t))];
                 if (!b || d < *b) b = d;
               }
               const P diff = P(*best[1] - *best[0]);
               out.words->re[out.words->at(k, i_sym * 2 * half + axis * half + t)] =
-                  fp::convert_int<word>(q(diff, x.frac(), *out.counters));
+                  fp::convert_int<word>(q(diff, frac, *out.counters));
             }
           }
         }
