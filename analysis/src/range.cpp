@@ -107,7 +107,8 @@ range_results profile_ranges(const golden::scenario& scen, const datapath::datap
           const std::size_t t = share.begin + k;
           const golden::trial_data trial = golden::run_trial(scen, t);
           // A block-scaled node's words hold mantissas: its range is that of its words' scale.
-          auto values = datapath::golden_block_values(plan, scen, trial);
+          std::vector<Eigen::MatrixXcd> extents;
+          auto values = datapath::golden_block_values(plan, scen, trial, &extents);
           if (trial.gram.size() > 0) conditions[t] = golden::condition_number(datapath::inverter_gram(plan, values));
           datapath::golden_to_word_scale(plan, values);
           // This trial's profile of each node, over its values (a data node's block by block).
@@ -141,8 +142,12 @@ range_results profile_ranges(const golden::scenario& scen, const datapath::datap
               }
             }
           }
-          for (std::size_t i = 0; i < active.size(); ++i)
-            if (!data_node[datapath::index_of(active[i])]) add_values(i, values[datapath::index_of(active[i])]);
+          // An accumulator that records its register's extent is profiled on it (the partial sums
+          // its register holds), not on its result.
+          for (std::size_t i = 0; i < active.size(); ++i) {
+            const std::size_t id = datapath::index_of(active[i]);
+            if (!data_node[id]) add_values(i, extents[id].size() > 0 ? extents[id] : values[id]);
+          }
           const std::lock_guard lock(mutex);
           for (std::size_t i = 0; i < active.size(); ++i) {
             trim(mine[i].largest, keep[i]);

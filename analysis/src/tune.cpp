@@ -17,9 +17,12 @@ namespace fp = fxmimo::fixedpoint;
 
 double tune_figures::worst_ratio(const tune_limits& l) const {
   auto ratio = [](double value, double limit) { return limit > 0 ? value / limit : (value > 0 ? 1e300 : 0.0); };
-  return std::max({ratio(sinr_loss_db, l.max_sinr_loss_db), ratio(evm_pct, l.max_evm_pct),
-                   ratio(max_overflow_rate, l.max_overflow_rate),
-                   ratio(rms_tx_power_error_db, l.max_rms_tx_power_error_db)});
+  double worst = std::max({ratio(sinr_loss_db, l.max_sinr_loss_db), ratio(evm_pct, l.max_evm_pct),
+                           ratio(max_overflow_rate, l.max_overflow_rate),
+                           ratio(rms_tx_power_error_db, l.max_rms_tx_power_error_db)});
+  if (l.max_uplink_sinr_loss_db) worst = std::max(worst, ratio(uplink_sinr_loss_db, *l.max_uplink_sinr_loss_db));
+  if (l.max_uplink_ber_ratio) worst = std::max(worst, ratio(uplink_ber_ratio, *l.max_uplink_ber_ratio));
+  return worst;
 }
 
 tune_figures figures_of(const run_results& r, const tune_limits& limits) {
@@ -28,6 +31,11 @@ tune_figures figures_of(const run_results& r, const tune_limits& limits) {
   f.evm_pct = r.summary.evm_impl_pct;
   f.rms_tx_power_error_db = r.summary.rms_tx_power_error_db;
   for (const node_result& n : r.nodes) f.max_overflow_rate = std::max(f.max_overflow_rate, n.overflow_rate());
+  if (r.uplink) {
+    f.uplink_sinr_loss_db = r.uplink->sinr_loss_db;
+    f.uplink_ber_ratio =
+        static_cast<double>(r.uplink->bit_errors_fixed + 1) / static_cast<double>(r.uplink->bit_errors_golden + 1);
+  }
   return f;
 }
 
@@ -150,6 +158,8 @@ tune_figures worst_of(const std::vector<tune_figures>& all) {
     w.evm_pct = std::max(w.evm_pct, f.evm_pct);
     w.max_overflow_rate = std::max(w.max_overflow_rate, f.max_overflow_rate);
     w.rms_tx_power_error_db = std::max(w.rms_tx_power_error_db, f.rms_tx_power_error_db);
+    w.uplink_sinr_loss_db = std::max(w.uplink_sinr_loss_db, f.uplink_sinr_loss_db);
+    w.uplink_ber_ratio = std::max(w.uplink_ber_ratio, f.uplink_ber_ratio);
   }
   return w;
 }
@@ -171,10 +181,15 @@ std::string fresh_failure_diagnosis(const tune_results& r, const std::vector<int
         fmt::format("RMS power error {:.4g} dB > {:g} dB", f.rms_tx_power_error_db, l.max_rms_tx_power_error_db));
   if (f.max_overflow_rate > l.max_overflow_rate)
     parts.push_back(fmt::format("overflow rate {:.3g} > {:g}", f.max_overflow_rate, l.max_overflow_rate));
+  if (l.max_uplink_sinr_loss_db && f.uplink_sinr_loss_db > *l.max_uplink_sinr_loss_db)
+    parts.push_back(
+        fmt::format("uplink SINR loss {:.4g} dB > {:g} dB", f.uplink_sinr_loss_db, *l.max_uplink_sinr_loss_db));
+  if (l.max_uplink_ber_ratio && f.uplink_ber_ratio > *l.max_uplink_ber_ratio)
+    parts.push_back(fmt::format("uplink BER ratio {:.4g} > {:g}", f.uplink_ber_ratio, *l.max_uplink_ber_ratio));
   std::string beyond;
   for (std::size_t i = 0; i < r.nodes.size(); ++i) {
     for (const node_result& n : r.verify_nodes) {
-      if (n.id == r.nodes[i] && n.max_abs_golden >= std::ldexp(1.0, int_bits[i]))
+      if (datapath::setting_home(n.id) == r.nodes[i] && n.max_abs_golden >= std::ldexp(1.0, int_bits[i]))
         beyond += fmt::format("{}{} {:.4g} >= 2^{}", beyond.empty() ? "" : ", ", datapath::node_name(n.id),
                               n.max_abs_golden, int_bits[i]);
     }
@@ -224,9 +239,13 @@ tune_results tune_widths_at_corners(const std::vector<tune_corner>& corners, con
   out.scenario_name = base.name;
   out.limits = limits;
   out.model = model;
-  out.nodes = datapath::active_nodes(base);
+  const std::vector<datapath::node_id> active = datapath::active_nodes(base);
+  // A node that uses another's setting (setting_home: the uplink block through the pilot ADC) is
+  // not a variable of its own: its home's setting is chosen once, for both.
+  for (datapath::node_id id : active)
+    if (datapath::setting_home(id) == id) out.nodes.push_back(id);
   for (const tune_corner& c : corners) {
-    if (datapath::active_nodes(c.scen) != out.nodes)
+    if (datapath::active_nodes(c.scen) != active)
       throw std::invalid_argument(
           fmt::format("corner {} has other datapath nodes than the first (its algorithm differs)", c.name));
   }
@@ -244,9 +263,14 @@ tune_results tune_widths_at_corners(const std::vector<tune_corner>& corners, con
     say(fmt::format("{}range profiling for integer bits: {} golden trials", label(c), c.trials.range));
     const range_results ranges =
         profile_ranges(c.scen, start, static_cast<int>(c.trials.range), num_threads, overflow_prob);
-    for (std::size_t i = 0; i < n; ++i) {
-      if (ranges.nodes[i].proposed_int_bits > int_bits[i]) {
-        int_bits[i] = ranges.nodes[i].proposed_int_bits;
+    // Each node's proposal goes to the variable of its setting: a shared setting takes the
+    // largest of its nodes' proposals.
+    for (const node_range& r : ranges.nodes) {
+      const auto at = std::find(out.nodes.begin(), out.nodes.end(), datapath::setting_home(r.id));
+      if (at == out.nodes.end()) continue;
+      const auto i = static_cast<std::size_t>(at - out.nodes.begin());
+      if (r.proposed_int_bits > int_bits[i]) {
+        int_bits[i] = r.proposed_int_bits;
         out.int_bits_corner[i] = c.name;
       }
     }
@@ -293,6 +317,10 @@ tune_results tune_widths_at_corners(const std::vector<tune_corner>& corners, con
   search_limits.max_sinr_loss_db *= 1.0 - search_margin;
   search_limits.max_evm_pct *= 1.0 - search_margin;
   search_limits.max_rms_tx_power_error_db *= 1.0 - search_margin;
+  if (search_limits.max_uplink_sinr_loss_db) *search_limits.max_uplink_sinr_loss_db *= 1.0 - search_margin;
+  // A ratio's margin is taken from its excess over 1.
+  if (search_limits.max_uplink_ber_ratio)
+    search_limits.max_uplink_ber_ratio = 1.0 + (*search_limits.max_uplink_ber_ratio - 1.0) * (1.0 - search_margin);
   const std::vector<int> best = greedy_search(lo, hi, evaluate, cost, search_limits, out.evaluations);
   out.config = config_of(best);
   out.cost = datapath_cost(base, out.config, model);

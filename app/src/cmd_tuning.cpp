@@ -222,6 +222,8 @@ struct tune_options {
   double evm_budget = 0.25;
   double max_overflow_rate = 1e-6;
   double max_rms_tx_power_error_db = 0.1;
+  double max_uplink_sinr_loss_db = -1;  ///< < 0: --max-sinr-loss's value when the scenario has an uplink
+  double max_uplink_ber_ratio = -1;     ///< < 0: no limit
   std::string cost = "bits";
   int num_trials = 0;
   std::size_t range_trials = 0, verify_trials = 0;
@@ -315,6 +317,16 @@ int run_tune(const tune_options& opt) {
   limits.sinr_loss_percentile = parse_loss_statistic(opt.sinr_loss_at);
   limits.max_overflow_rate = opt.max_overflow_rate;
   limits.max_rms_tx_power_error_db = opt.max_rms_tx_power_error_db;
+  if ((opt.max_uplink_sinr_loss_db >= 0 || opt.max_uplink_ber_ratio >= 0) && !in.scen.uplink.on)
+    throw usage_error(
+        fmt::format("--max-uplink-sinr-loss and --max-uplink-ber-ratio need a scenario with an "
+                    "[uplink] table; {} has none",
+                    opt.scenario_path));
+  if (in.scen.uplink.on) {
+    limits.max_uplink_sinr_loss_db =
+        opt.max_uplink_sinr_loss_db >= 0 ? opt.max_uplink_sinr_loss_db : opt.max_sinr_loss_db;
+    if (opt.max_uplink_ber_ratio >= 0) limits.max_uplink_ber_ratio = opt.max_uplink_ber_ratio;
+  }
   if (opt.max_evm_pct > 0) {
     limits.max_evm_pct = opt.max_evm_pct;
   } else if (!opt.modulation.empty()) {
@@ -474,6 +486,12 @@ void add_tune_command(CLI::App& app) {
   cmd->add_option("--max-power-error", opt->max_rms_tx_power_error_db,
                   "Largest RMS over trials of the transmit-power error of the fixed block against the golden one, dB")
       ->capture_default_str();
+  cmd->add_option("--max-uplink-sinr-loss", opt->max_uplink_sinr_loss_db,
+                  "With an [uplink]: largest uplink SINR loss (mean over users), dB (default: --max-sinr-loss)")
+      ->check(CLI::Range(0.0, 100.0));
+  cmd->add_option("--max-uplink-ber-ratio", opt->max_uplink_ber_ratio,
+                  "With an [uplink]: largest (fixed bit errors + 1) / (golden bit errors + 1) (default: no limit)")
+      ->check(CLI::Range(1.0, 1e6));
   cmd->add_option("--cost", opt->cost, "bits (total word bits) or area (a stated proxy, README)")
       ->capture_default_str();
   cmd->add_option("--trials", opt->num_trials, "Trials per evaluation of the search (default: the scenario's)")
@@ -521,6 +539,8 @@ void add_tune_command(CLI::App& app) {
       "--json t.json\n"
       "  fxmimo tune -c examples/rooftop-64.toml --max-evm 0.5 -o tuned.toml --junit tune.xml\n"
       "  fxmimo tune -c examples/rooftop-64.toml --max-evm 0.5 --max-sinr-loss 0.2 --sinr-loss-at 95 -o t.toml\n"
+      "  fxmimo tune -c examples/pier-64-uplink.toml --max-evm 0.5 --max-uplink-sinr-loss 0.05 "
+      "--max-uplink-ber-ratio 1.1 -o t.toml\n"
       "  fxmimo tune -c examples/village-16-mf.toml --max-evm 1 --corner data.snr_db=10,20,30 \\\n"
       "      --corner 'cells.users_per_cell=2,4' --corner 'cells.user_gains_db=[0.0, 6.0, 2.0, 4.0]' -o t.toml\n"
       "  mpirun -np 8 fxmimo tune -c examples/metro-7-shadowed.toml --modulation scenario --threads 1 -o m.toml");

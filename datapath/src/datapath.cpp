@@ -96,10 +96,12 @@ fixed_trial rerun_block_stages(const datapath_plan& plan, const golden::scenario
 }
 
 std::vector<Eigen::MatrixXcd> golden_block_values(const datapath_plan& plan, const golden::scenario& scen,
-                                                  const golden::trial_data& trial) {
+                                                  const golden::trial_data& trial,
+                                                  std::vector<Eigen::MatrixXcd>* extents) {
   const std::vector<bool> data = plan.data_stages();
   std::vector<Eigen::MatrixXcd> values(node_count());
-  golden_context ctx{scen, trial, values};
+  if (extents != nullptr) extents->assign(node_count(), Eigen::MatrixXcd());
+  golden_context ctx{scen, trial, values, nullptr, nullptr, extents};
   for (std::size_t i_stage = 0; i_stage < plan.stages.size(); ++i_stage)
     if (!data[i_stage]) plan.stages[i_stage]->golden_view(ctx);
   return values;

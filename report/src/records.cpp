@@ -610,9 +610,19 @@ key_sweep_record key_sweep_from_json(const checked_json& doc) {
 
 namespace {
 
-tune_figures_record figures_of(const analysis::tune_figures& f) {
-  return {finite_or_none(f.sinr_loss_db), finite_or_none(f.evm_pct), finite_or_none(f.max_overflow_rate),
-          finite_or_none(f.rms_tx_power_error_db)};
+/// `uplink`: the tune had an uplink limit, so its figures are written.
+tune_figures_record figures_of(const analysis::tune_figures& f, bool uplink) {
+  tune_figures_record out{finite_or_none(f.sinr_loss_db),
+                          finite_or_none(f.evm_pct),
+                          finite_or_none(f.max_overflow_rate),
+                          finite_or_none(f.rms_tx_power_error_db),
+                          {},
+                          {}};
+  if (uplink) {
+    out.uplink_sinr_loss_db = finite_or_none(f.uplink_sinr_loss_db);
+    out.uplink_ber_ratio = finite_or_none(f.uplink_ber_ratio);
+  }
+  return out;
 }
 
 json figures_json(const tune_figures_record& f) {
@@ -620,13 +630,21 @@ json figures_json(const tune_figures_record& f) {
               {"evm_impl_pct", metric_json(f.evm_impl_pct)},
               {"max_overflow_rate", metric_json(f.max_overflow_rate)}};
   if (f.rms_tx_power_error_db) out["rms_tx_power_error_db"] = metric_json(*f.rms_tx_power_error_db);
+  if (f.uplink_sinr_loss_db) out["uplink_sinr_loss_db"] = metric_json(*f.uplink_sinr_loss_db);
+  if (f.uplink_ber_ratio) out["uplink_ber_ratio"] = metric_json(*f.uplink_ber_ratio);
   return out;
 }
 
 tune_figures_record figures_from(const checked_json& obj) {
-  return {obj["sinr_loss_db"].number_or_null(), obj["evm_impl_pct"].number_or_null(),
-          obj["max_overflow_rate"].number_or_null(),
-          optional_metric(obj, {"rms_tx_power_error_db", "abs_tx_power_error_db"})};
+  tune_figures_record out{obj["sinr_loss_db"].number_or_null(),
+                          obj["evm_impl_pct"].number_or_null(),
+                          obj["max_overflow_rate"].number_or_null(),
+                          optional_metric(obj, {"rms_tx_power_error_db", "abs_tx_power_error_db"}),
+                          {},
+                          {}};
+  out.uplink_sinr_loss_db = optional_metric(obj, {"uplink_sinr_loss_db"});
+  out.uplink_ber_ratio = optional_metric(obj, {"uplink_ber_ratio"});
+  return out;
 }
 
 metric margin(double limit, const metric& value) { return value ? finite_or_none(limit - *value) : std::nullopt; }
@@ -642,6 +660,9 @@ tune_record make_record(const golden::scenario& scen, const analysis::tune_resul
   out.max_evm_pct = r.limits.max_evm_pct;
   out.max_overflow_rate = r.limits.max_overflow_rate;
   out.max_rms_tx_power_error_db = r.limits.max_rms_tx_power_error_db;
+  out.max_uplink_sinr_loss_db = r.limits.max_uplink_sinr_loss_db;
+  out.max_uplink_ber_ratio = r.limits.max_uplink_ber_ratio;
+  const bool uplink = out.max_uplink_sinr_loss_db || out.max_uplink_ber_ratio;
   const datapath::datapath_plan plan = datapath::stages_for(scen);
   for (datapath::node_id id : r.nodes) {
     out.nodes.push_back({std::string(datapath::node_name(id)), r.config[id].spec.fmt, r.config[id].spec.rounding,
@@ -650,10 +671,10 @@ tune_record make_record(const golden::scenario& scen, const analysis::tune_resul
       if (n.id == id) out.nodes.back().overflow_rate_bound = finite_or_none(n.overflow_rate_bound());
     }
   }
-  out.search = figures_of(r.search);
+  out.search = figures_of(r.search, uplink);
   out.search_trials = r.search_trials.size();
   out.evaluations = static_cast<std::uint64_t>(r.evaluations);
-  out.verification = figures_of(r.verification);
+  out.verification = figures_of(r.verification, uplink);
   out.verification_trials = r.verify_trials.size();
   out.verification_trial_indices = r.verify_trials;
   out.range_trials = r.range_trials;
@@ -665,8 +686,8 @@ tune_record make_record(const golden::scenario& scen, const analysis::tune_resul
   }
   if (r.corners.size() > 1) {
     for (const analysis::corner_outcome& c : r.corners) {
-      out.corners.push_back(
-          {c.name, figures_of(c.verification), finite_or_none(c.proven_overflow_bound), c.verify_trials.size(), c.met});
+      out.corners.push_back({c.name, figures_of(c.verification, uplink), finite_or_none(c.proven_overflow_bound),
+                             c.verify_trials.size(), c.met});
     }
     out.int_bits_corner = r.int_bits_corner;
     out.frac_bits_corner = r.frac_bits_corner;
@@ -685,6 +706,8 @@ json to_json(const tune_record& r) {
                    {"max_evm_pct", r.max_evm_pct},
                    {"max_overflow_rate", r.max_overflow_rate}};
   if (r.max_rms_tx_power_error_db) out["limits"]["max_rms_tx_power_error_db"] = *r.max_rms_tx_power_error_db;
+  if (r.max_uplink_sinr_loss_db) out["limits"]["max_uplink_sinr_loss_db"] = *r.max_uplink_sinr_loss_db;
+  if (r.max_uplink_ber_ratio) out["limits"]["max_uplink_ber_ratio"] = *r.max_uplink_ber_ratio;
   out["nodes"] = json::object();
   for (const tune_node_record& n : r.nodes) {
     json j = {{"format", fp::to_q_string(n.fmt)},
@@ -743,6 +766,13 @@ json to_json(const tune_record& r) {
     out["margins"]["rms_tx_power_error_db"] =
         metric_json(margin(*r.max_rms_tx_power_error_db, *r.verification.rms_tx_power_error_db));
   }
+  if (r.max_uplink_sinr_loss_db && r.verification.uplink_sinr_loss_db) {
+    out["margins"]["uplink_sinr_loss_db"] =
+        metric_json(margin(*r.max_uplink_sinr_loss_db, *r.verification.uplink_sinr_loss_db));
+  }
+  if (r.max_uplink_ber_ratio && r.verification.uplink_ber_ratio) {
+    out["margins"]["uplink_ber_ratio"] = metric_json(margin(*r.max_uplink_ber_ratio, *r.verification.uplink_ber_ratio));
+  }
   out["met"] = r.meets_limits;
   out["note"] = r.note;
   return out;
@@ -755,7 +785,9 @@ std::optional<bool> tune_record::search_meets_limits() const {
   };
   return within(search->sinr_loss_db, max_sinr_loss_db) && within(search->evm_impl_pct, max_evm_pct) &&
          within(search->max_overflow_rate, max_overflow_rate) &&
-         (!search->rms_tx_power_error_db || within(*search->rms_tx_power_error_db, max_rms_tx_power_error_db));
+         (!search->rms_tx_power_error_db || within(*search->rms_tx_power_error_db, max_rms_tx_power_error_db)) &&
+         (!search->uplink_sinr_loss_db || within(*search->uplink_sinr_loss_db, max_uplink_sinr_loss_db)) &&
+         (!search->uplink_ber_ratio || within(*search->uplink_ber_ratio, max_uplink_ber_ratio));
 }
 
 tune_record tune_from_json(const checked_json& doc) {
@@ -772,6 +804,8 @@ tune_record tune_from_json(const checked_json& doc) {
   for (const char* key : {"max_rms_tx_power_error_db", "max_tx_power_error_db"}) {
     if (const auto v = limits.find(key); v && !r.max_rms_tx_power_error_db) r.max_rms_tx_power_error_db = v->number();
   }
+  if (const auto v = limits.find("max_uplink_sinr_loss_db")) r.max_uplink_sinr_loss_db = v->number();
+  if (const auto v = limits.find("max_uplink_ber_ratio")) r.max_uplink_ber_ratio = v->number();
   const checked_json nodes = doc["nodes"];
   for (const std::string& name : nodes.keys()) {
     const checked_json n = nodes[name];

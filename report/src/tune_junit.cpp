@@ -46,6 +46,11 @@ io::junit_suite to_junit(const tune_record& r) {
   limit_case("overflow rate (worst node)", r.max_overflow_rate, r.verification.max_overflow_rate, "");
   limit_case("RMS tx power error", r.max_rms_tx_power_error_db,
              r.verification.rms_tx_power_error_db.value_or(std::nullopt), " dB");
+  if (r.max_uplink_sinr_loss_db)
+    limit_case("uplink SINR loss", r.max_uplink_sinr_loss_db, r.verification.uplink_sinr_loss_db.value_or(std::nullopt),
+               " dB");
+  if (r.max_uplink_ber_ratio)
+    limit_case("uplink BER ratio", r.max_uplink_ber_ratio, r.verification.uplink_ber_ratio.value_or(std::nullopt), "");
   return suite;
 }
 

@@ -48,6 +48,16 @@ std::string format_tune_table(const analysis::tune_results& r) {
   out += fmt::format("{:<22} {:>12.3g} {:>12.3g} {:>12.3g} {:>12.3g}\n", "max overflow rate",
                      r.limits.max_overflow_rate, r.search.max_overflow_rate, r.verification.max_overflow_rate,
                      r.limits.max_overflow_rate - r.verification.max_overflow_rate);
+  if (const auto& l = r.limits.max_uplink_sinr_loss_db) {
+    out += fmt::format("{:<22} {:>12.4f} {:>12.4f} {:>12.4f} {:>12.4f}\n", "uplink SINR loss dB", *l,
+                       r.search.uplink_sinr_loss_db, r.verification.uplink_sinr_loss_db,
+                       *l - r.verification.uplink_sinr_loss_db);
+  }
+  if (const auto& l = r.limits.max_uplink_ber_ratio) {
+    out +=
+        fmt::format("{:<22} {:>12.4f} {:>12.4f} {:>12.4f} {:>12.4f}\n", "uplink BER ratio", *l,
+                    r.search.uplink_ber_ratio, r.verification.uplink_ber_ratio, *l - r.verification.uplink_ber_ratio);
+  }
   if (corners) {
     out += fmt::format("\n{:<44} {:>10} {:>10} {:>10} {:>10} {:>8}  {}\n", "corner (fresh trials)", "SINR loss",
                        "EVM %", "overflow", "bound 95%", "trials", "verdict");

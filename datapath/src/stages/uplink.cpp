@@ -74,6 +74,24 @@ class uplink_sum_stage final : public stage {
   void golden_view(golden_context& ctx) const override {
     const golden::uplink_data& ul = *ctx.trial.uplink;
     ctx.set(output(0), matched_ ? ul.match : ul.combined);
+    if (matched_ || ctx.extents == nullptr) return;
+    // The combiner's terms cancel (inv_out undoes the users' coupling in ul_match), so its
+    // register's partial sums over j exceed the result: record their extent for `range`.
+    const Eigen::MatrixXcd& inv = ctx.trial.inverse;
+    Eigen::MatrixXcd extent = Eigen::MatrixXcd::Zero(ul.match.rows(), ul.match.cols());
+    for (Eigen::Index k = 0; k < inv.rows(); ++k) {
+      for (Eigen::Index n = 0; n < ul.match.cols(); ++n) {
+        std::complex<double> sum = 0;
+        double re = 0, im = 0;
+        for (Eigen::Index j = 0; j < inv.cols(); ++j) {
+          sum += inv(k, j) * ul.match(j, n);
+          re = std::max(re, std::abs(sum.real()));
+          im = std::max(im, std::abs(sum.imag()));
+        }
+        extent(k, n) = {re, im};
+      }
+    }
+    ctx.set_extent(output(0), std::move(extent));
   }
 
  private:

@@ -26,6 +26,10 @@ struct tune_limits {
   /// The SINR-loss limit applies to this percentile (0..100) of the per-(trial, user) losses;
   /// nullopt: to the mean over users (sinr_loss_statistic).
   std::optional<double> sinr_loss_percentile = std::nullopt;
+  /// With an uplink (README "The uplink"): the uplink's mean SINR loss over users, dB, and the
+  /// ratio of its bit error counts (fixed + 1) / (golden + 1); nullopt: no limit.
+  std::optional<double> max_uplink_sinr_loss_db = std::nullopt;
+  std::optional<double> max_uplink_ber_ratio = std::nullopt;
 };
 
 /// The figures the limits apply to.
@@ -34,9 +38,13 @@ struct tune_figures {
   double evm_pct = 0.0;
   double max_overflow_rate = 0.0;
   double rms_tx_power_error_db = 0.0;
+  double uplink_sinr_loss_db = 0.0;  ///< 0 without an uplink
+  double uplink_ber_ratio = 1.0;     ///< (fixed errors + 1) / (golden errors + 1); 1 without an uplink
   [[nodiscard]] bool meets(const tune_limits& l) const {
     return sinr_loss_db <= l.max_sinr_loss_db && evm_pct <= l.max_evm_pct && max_overflow_rate <= l.max_overflow_rate &&
-           rms_tx_power_error_db <= l.max_rms_tx_power_error_db;
+           rms_tx_power_error_db <= l.max_rms_tx_power_error_db &&
+           (!l.max_uplink_sinr_loss_db || uplink_sinr_loss_db <= *l.max_uplink_sinr_loss_db) &&
+           (!l.max_uplink_ber_ratio || uplink_ber_ratio <= *l.max_uplink_ber_ratio);
   }
   /// Largest of the three figures over their limits (<= 1 when every limit holds).
   [[nodiscard]] double worst_ratio(const tune_limits& l) const;

@@ -64,8 +64,11 @@ fixed_trial rerun_block_stages(const datapath_plan& plan, const golden::scenario
 
 /// The golden (double) value of every node outside the data phase, shaped like the node's words
 /// (real nodes as complex matrices with zero imaginary part); data nodes stay empty.
+/// With `extents`, also the register extents the stages record (golden_context::set_extent),
+/// resized to the node table (empty where a stage records none).
 std::vector<Eigen::MatrixXcd> golden_block_values(const datapath_plan& plan, const golden::scenario& scen,
-                                                  const golden::trial_data& trial);
+                                                  const golden::trial_data& trial,
+                                                  std::vector<Eigen::MatrixXcd>* extents = nullptr);
 /// The golden values of the data nodes over one symbol block into `values` (resized to the node
 /// table; every other node empty), reading the other nodes' from `block_values`.
 void golden_data_values(const datapath_plan& plan, const golden::scenario& scen, const golden::trial_data& trial,

@@ -81,11 +81,20 @@ struct golden_context {
   std::vector<Eigen::MatrixXcd>& values;
   const golden::data_block* block = nullptr;
   const std::vector<Eigen::MatrixXcd>* upstream = nullptr;
+  /// Where a stage may record an accumulator's register extent (set_extent); nullptr: nobody asks.
+  std::vector<Eigen::MatrixXcd>* extents = nullptr;
   [[nodiscard]] const Eigen::MatrixXcd& value_of(node_id id) const {
     const Eigen::MatrixXcd& own = values[index_of(id)];
     return upstream == nullptr || own.size() > 0 ? own : (*upstream)[index_of(id)];
   }
   void set(node_id id, Eigen::MatrixXcd m) const { values[index_of(id)] = std::move(m); }
+  /// An accumulator whose partial sums can exceed its result (terms that cancel) records, per
+  /// output, the largest |real part| and |imaginary part| of its golden partial sums in index
+  /// order, as the real and imaginary parts of `m` (shaped like the node's words): the values its
+  /// register holds on the way. `range` profiles these instead of the results.
+  void set_extent(node_id id, Eigen::MatrixXcd m) const {
+    if (extents != nullptr) (*extents)[index_of(id)] = std::move(m);
+  }
   [[nodiscard]] const golden::data_block& data() const { return block_or_throw(block); }
 };
 

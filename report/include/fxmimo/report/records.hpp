@@ -182,6 +182,8 @@ struct tune_figures_record {
   /// RMS over trials of the transmit-power error; absent from files without that limit. Files
   /// written before it was named so call it abs_tx_power_error_db (read as this).
   std::optional<metric> rms_tx_power_error_db;
+  /// With an uplink limit: the uplink's SINR loss (dB) and bit-error ratio (README "The uplink").
+  std::optional<metric> uplink_sinr_loss_db, uplink_ber_ratio;
 };
 
 /// A tune's outcome at one operating corner.
@@ -206,8 +208,9 @@ struct tune_record {
   std::string cost_model;  ///< "bits" or "area"
   double cost = 0.0;
   double max_sinr_loss_db = 0.0, max_evm_pct = 0.0, max_overflow_rate = 0.0;
-  std::optional<double> max_rms_tx_power_error_db;  ///< older name: max_tx_power_error_db
-  std::vector<tune_node_record> nodes;              ///< datapath order
+  std::optional<double> max_rms_tx_power_error_db;                      ///< older name: max_tx_power_error_db
+  std::optional<double> max_uplink_sinr_loss_db, max_uplink_ber_ratio;  ///< with an uplink limit
+  std::vector<tune_node_record> nodes;                                  ///< datapath order
   /// On the search trials (absent from hand-written files only).
   std::optional<tune_figures_record> search;
   std::optional<std::uint64_t> search_trials, evaluations;
