@@ -182,7 +182,8 @@ datapath_plan stages_for(const golden::scenario& scen) {
   }
   if (uses_inverse) {
     const bool loaded = scen.precoder.kind == golden::precoder_kind::rzf;
-    s.push_back(detail::make_gram(loaded ? std::optional<double>(scen.rzf_regularizer()) : std::nullopt, block_top));
+    s.push_back(detail::make_gram(detail::downlink_inverter,
+                                  loaded ? std::optional<double>(scen.rzf_regularizer()) : std::nullopt, block_top));
     if (neumann) {
       s.push_back(detail::make_neumann(scen.precoder.neumann_terms, scen.units.inv_diag_recip));
     } else if (gauss_seidel) {
@@ -192,8 +193,8 @@ datapath_plan stages_for(const golden::scenario& scen) {
       s.push_back(detail::make_cholesky_solves());
     } else {
       // LDL^H (the golden model's reference inversion is also realised by LDL^H here).
-      s.push_back(detail::make_ldl(scen.units.inv_diag_recip));
-      s.push_back(detail::make_ldl_solves());
+      s.push_back(detail::make_ldl(detail::downlink_inverter, scen.units.inv_diag_recip));
+      s.push_back(detail::make_ldl_solves(detail::downlink_inverter));
     }
   }
   s.push_back(detail::make_precoder(uses_inverse, block_top, whole_top, scen.cells.num_users));
@@ -211,7 +212,16 @@ datapath_plan stages_for(const golden::scenario& scen) {
     const bool combined = scen.uplink.combiner != golden::combiner_kind::mrc;
     s.push_back(make_golden_converter(node_id::ul_adc, [](const golden::trial_data& t) { return t.uplink->adc; }));
     s.push_back(detail::make_uplink_match());
-    if (combined) s.push_back(detail::make_uplink_combiner());
+    if (combined && scen.uplink.own_inverse) {
+      // The uplink's own Gram (MMSE-loaded) and LDL^H inverter, with the exact reciprocal.
+      const double loading = scen.uplink.loading(scen.uplink_snr());
+      s.push_back(detail::make_gram(detail::uplink_inverter,
+                                    loading > 0 ? std::optional<double>(loading) : std::nullopt, std::nullopt));
+      s.push_back(detail::make_ldl(detail::uplink_inverter, golden::unit_choice{}));
+      s.push_back(detail::make_ldl_solves(detail::uplink_inverter));
+    }
+    if (combined)
+      s.push_back(detail::make_uplink_combiner(scen.uplink.own_inverse ? node_id::ul_inv_out : node_id::inv_out));
     s.push_back(make_golden_converter(node_id::ul_scale, [](const golden::trial_data& t) {
       return Eigen::MatrixXcd(t.uplink->scale.cast<std::complex<double>>());
     }));

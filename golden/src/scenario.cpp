@@ -354,11 +354,12 @@ void read_data(const checked_table& root, scenario& scen) {
 
 /// [uplink]: read after [precoder] and [data], whose choices the combiner must match. ZF and
 /// MMSE detection reuse the downlink's Gram inverse (one inverse per block, as shared hardware
-/// computes it), so the combiner must be the one that inverse is.
+/// computes it), so the combiner must be the one that inverse is, unless `inverse = "own"`
+/// gives the uplink its own Gram and inverse.
 void read_uplink(const checked_table& root, scenario& scen) {
   if (!root.has("uplink")) return;
   const checked_table r(root.file(), sub_table(root, "uplink"), "uplink");
-  r.only({"snr_db", "modulation", "symbols", "combiner"});
+  r.only({"snr_db", "modulation", "symbols", "combiner", "inverse"});
   uplink_config& ul = scen.uplink;
   ul.on = true;
   ul.snr_db = r.required("snr_db", r.number("snr_db", -50.0, 80.0));
@@ -368,17 +369,24 @@ void read_uplink(const checked_table& root, scenario& scen) {
       r.choice<combiner_kind>("combiner",
                               {{"mrc", combiner_kind::mrc}, {"zf", combiner_kind::zf}, {"mmse", combiner_kind::mmse}})
           .value_or(combiner_kind::mrc);
-  const precoder_config& pc = scen.precoder;
-  if (ul.combiner == combiner_kind::zf && pc.kind != precoder_kind::zf) {
-    r.fail("combiner",
-           "combiner = \"zf\" reuses the downlink's inverse of H_hat^H H_hat: it needs precoder kind = \"zf\"");
+  ul.own_inverse = r.choice<bool>("inverse", {{"shared", false}, {"own", true}}).value_or(false);
+  if (ul.own_inverse && ul.combiner == combiner_kind::mrc) {
+    r.fail("inverse",
+           "inverse = \"own\" builds an uplink Gram inverse, which combiner = \"mrc\" does not use: "
+           "choose combiner = \"zf\" or \"mmse\", or remove inverse");
   }
-  if (ul.combiner == combiner_kind::mmse) {
+  const precoder_config& pc = scen.precoder;
+  if (!ul.own_inverse && ul.combiner == combiner_kind::zf && pc.kind != precoder_kind::zf) {
+    r.fail("combiner",
+           "combiner = \"zf\" reuses the downlink's inverse of H_hat^H H_hat: it needs precoder kind = \"zf\" "
+           "(or inverse = \"own\" for an uplink inverse of its own)");
+  }
+  if (!ul.own_inverse && ul.combiner == combiner_kind::mmse) {
     const double loading = 1.0 / scen.uplink_snr();
     if (pc.kind != precoder_kind::rzf || std::abs(scen.rzf_regularizer() - loading) > 1e-9 * loading) {
       r.fail("combiner", fmt::format("combiner = \"mmse\" reuses the downlink's inverse of H_hat^H H_hat + "
                                      "(1 / rho_ul) I: it needs precoder kind = \"rzf\" with regularizer = {} "
-                                     "(10^(-snr_db / 10))",
+                                     "(10^(-snr_db / 10)), or inverse = \"own\" for an uplink inverse of its own",
                                      loading));
     }
   }

@@ -4,6 +4,8 @@
 #include <cmath>
 
 #include "fxmimo/golden/estimator.hpp"
+#include "fxmimo/golden/ldl.hpp"
+#include "fxmimo/golden/precoder.hpp"
 #include "fxmimo/golden/qam.hpp"
 #include "fxmimo/golden/rng.hpp"
 
@@ -21,20 +23,25 @@ double uplink_metrics::ber() const {
   return n > 0 ? static_cast<double>(total_bit_errors) / n : 0.0;
 }
 
-Eigen::VectorXd uplink_scales(const scenario& scen, const trial_data& trial, double agc_ul) {
+Eigen::VectorXd uplink_scales(const scenario& scen, const Eigen::MatrixXcd& chan_est, const Eigen::MatrixXcd& inverse,
+                              double agc_ul) {
   const int num_users = scen.cells.num_users;
   const double base = agc_ul * std::sqrt(scen.uplink_snr()) * qam_step(scen.uplink.mod);
   Eigen::VectorXd c(num_users);
   for (int k = 0; k < num_users; ++k) {
     double a = 1.0;
     if (scen.uplink.combiner == combiner_kind::mrc) {
-      a = trial.chan_est.col(k).squaredNorm();
+      a = chan_est.col(k).squaredNorm();
     } else if (scen.uplink.combiner == combiner_kind::mmse) {
-      a = 1.0 - trial.inverse(k, k).real() / scen.uplink_snr();
+      a = 1.0 - inverse(k, k).real() / scen.uplink_snr();
     }
     c(k) = 1.0 / (base * a);
   }
   return c;
+}
+
+const Eigen::MatrixXcd& combiner_inverse(const scenario& scen, const trial_data& trial, const uplink_data& ul) {
+  return scen.uplink.own_inverse ? ul.inverse : trial.inverse;
 }
 
 uplink_metrics measure_uplink(modulation mod, const Eigen::MatrixXcd& equalised_grid, const Eigen::MatrixXcd& symbols,
@@ -122,8 +129,15 @@ uplink_data run_uplink(const scenario& scen, const trial_data& trial,
   ul.agc_gain = agc_gain_at(scen, trial.gains, 0, scen.uplink_snr());
   ul.adc = ul.agc_gain * y;
   ul.match.noalias() = trial.chan_est.adjoint() * ul.adc;
-  if (cfg.combiner != combiner_kind::mrc) ul.combined.noalias() = trial.inverse * ul.match;
-  ul.scale = uplink_scales(scen, trial, ul.agc_gain);
+  if (cfg.own_inverse) {
+    ul.gram = gram_matrix(trial.chan_est);
+    ul.gram.diagonal().array() += cfg.loading(scen.uplink_snr());
+    ul.ldl = ldl_decompose(ul.gram);
+    ul.inverse = ldl_inverse(*ul.ldl);
+  }
+  const Eigen::MatrixXcd& inverse = combiner_inverse(scen, trial, ul);
+  if (cfg.combiner != combiner_kind::mrc) ul.combined.noalias() = inverse * ul.match;
+  ul.scale = uplink_scales(scen, trial.chan_est, inverse, ul.agc_gain);
   ul.equalised = ul.scale.asDiagonal() * (cfg.combiner == combiner_kind::mrc ? ul.match : ul.combined);
   ul.distances = uplink_distances(cfg.mod, ul.equalised);
   ul.metrics = measure_uplink(cfg.mod, ul.equalised, ul.symbols, ul.labels);

@@ -98,6 +98,11 @@ void prepare(const fs::path& dir) {
   write(dir / "block_float_no_top.toml", good + "\n[block_float.chan_est]\nblock = \"user\"\n");
   write(dir / "unit_alternative_twice.toml",
         good + "\n[units.norm]\nkind = \"exact\"\nalternatives = [{ kind = \"exact\" }]\n");
+  write(dir / "uplink_zf_beside_mf.toml", good + "\n[uplink]\nsnr_db = 5.0\ncombiner = \"zf\"\n");
+  write(dir / "uplink_mrc_own.toml", good + "\n[uplink]\nsnr_db = 5.0\ncombiner = \"mrc\"\ninverse = \"own\"\n");
+  write(dir / "uplink_block_float.toml",
+        good + "\n[uplink]\nsnr_db = 5.0\n[block_float.chan_est]\nblock = \"user\"\ntop = 2\n");
+  write(dir / "ul_adc_table.toml", good + "\n[uplink]\nsnr_db = 5.0\n[nodes.ul_adc]\nformat = \"Q0.9\"\n");
   write(dir / "notaset/keep.txt", "");
   fs::create_directories(dir / "notaset");
   write(dir / "notaset" / "keep.txt", "a file of the user's");
@@ -191,6 +196,15 @@ const bad_input catalogue[] = {
               "tune -c unit_alternative_twice.toml --max-sinr-loss 0.1 "
               "--max-evm 2 -o t.toml",
               "units.norm.alternatives: exact is listed twice"},
+    bad_input{"scenario_uplink_combiner_without_its_inverse", "run -c uplink_zf_beside_mf.toml",
+              "uplink.combiner: combiner = \"zf\" reuses the downlink's inverse of H_hat^H H_hat: it needs "
+              "precoder kind = \"zf\" (or inverse = \"own\""},
+    bad_input{"scenario_uplink_mrc_with_its_own_inverse", "run -c uplink_mrc_own.toml",
+              "uplink.inverse: inverse = \"own\" builds an uplink Gram inverse, which combiner = \"mrc\" does not use"},
+    bad_input{"scenario_uplink_with_block_float", "run -c uplink_block_float.toml",
+              "uplink.snr_db: the uplink does not carry block exponents yet"},
+    bad_input{"scenario_table_for_ul_adc", "run -c ul_adc_table.toml",
+              "nodes.ul_adc: ul_adc is the adc converter at another time: set [nodes.adc]"},
     // Resource guards: memory and work estimated before the first trial.
     bad_input{"scenario_needs_more_memory_than_available", "run -c huge.toml --trials 256 --threads 256",
               "huge.toml:13: cells.users_per_cell: the run needs about"},

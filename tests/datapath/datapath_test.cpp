@@ -275,6 +275,32 @@ TEST(datapath, bit_identical_for_any_thread_count_and_trial_order) {
   }
 }
 
+// The same with both directions: the shared-inverse ZF uplink and the own-inverse MMSE uplink
+// (their nodes, figures, bit counts and LLR decisions in the record) for 1, 2 and 3 threads and
+// either trial order.
+TEST(datapath, uplink_bit_identical_for_any_thread_count_and_trial_order) {
+  for (const char* uplink : {"combiner = \"zf\"\n", "combiner = \"mmse\"\ninverse = \"own\"\n"}) {
+    const std::string text =
+        std::string(small_scenario) + "[uplink]\nsnr_db = 6.0\nmodulation = \"16qam\"\nsymbols = 48\n" + uplink;
+    const g::scenario scen = g::parse_scenario_text(text, "test.toml");
+    ASSERT_TRUE(scen.uplink.on);
+    const d::datapath_config c = wide_config(scen, 14);
+    const std::string one = rep::to_json(rep::make_record(h::run_trials(scen, c, h::first_trials(6), 1))).dump();
+    ASSERT_NE(one.find("\"uplink\""), std::string::npos) << "the record carries the uplink";
+    for (unsigned threads : {2U, 3U})
+      EXPECT_EQ(rep::to_json(rep::make_record(h::run_trials(scen, c, h::first_trials(6), threads))).dump(), one)
+          << uplink << threads << " threads";
+    const h::run_results reversed = h::run_trials(scen, c, {5, 4, 3, 2, 1, 0}, 2);
+    const h::run_results forward = h::run_trials(scen, c, {0, 1, 2, 3, 4, 5}, 1);
+    ASSERT_TRUE(forward.uplink && reversed.uplink);
+    EXPECT_EQ(forward.uplink->bit_errors_fixed, reversed.uplink->bit_errors_fixed);
+    EXPECT_EQ(forward.uplink->llr_sign_flips, reversed.uplink->llr_sign_flips);
+    EXPECT_EQ(forward.uplink->sinr_fixed_db, reversed.uplink->sinr_fixed_db);
+    for (std::size_t i = 0; i < forward.nodes.size(); ++i)
+      EXPECT_EQ(forward.nodes[i].counters, reversed.nodes[i].counters) << d::node_name(forward.nodes[i].id);
+  }
+}
+
 }  // namespace
 
 namespace {

@@ -696,6 +696,119 @@ TEST(uplink_stages, wide_formats_follow_the_golden_model_within_the_derived_boun
 }
 
 // =============================================================================================
+// 3b. The uplink's own inverter (inverse = "own"): ul_gram .. ul_inv_out are the downlink's Gram
+// and LDL^H stages on their own nodes. Its arithmetic is checked where the downlink's is
+// (tests/datapath/inverters_test.cpp: every word against an exact recomputation); here: (a) at
+// the settings of the shared nodes, every word of every own node equals its downlink twin and
+// the uplink's outputs equal those of the shared inverse, bit for bit, at narrow formats where
+// rounding and saturation are exercised; (b) its formats are its own: narrowing ul_gram changes
+// the uplink's words and none of the downlink's; (c) with an MF precoder (no downlink inverse)
+// at wide formats, ul_inv_out is the golden (H^H H + I / rho_ul)^-1 to within 2^-30 of its
+// largest entry, checked against Eigen's LU inverse written here (a general-purpose library).
+
+const std::vector<std::pair<d::node_id, d::node_id>>& inverter_twins() {
+  static const std::vector<std::pair<d::node_id, d::node_id>> twins{
+      {d::node_id::gram, d::node_id::ul_gram},
+      {d::node_id::ldl_acc, d::node_id::ul_ldl_acc},
+      {d::node_id::inv_diag_recip, d::node_id::ul_inv_recip},
+      {d::node_id::inv_factor, d::node_id::ul_inv_factor},
+      {d::node_id::inv_fwd, d::node_id::ul_inv_fwd},
+      {d::node_id::inv_out, d::node_id::ul_inv_out}};
+  return twins;
+}
+
+TEST(uplink_stages, own_inverter_at_the_shared_settings_is_the_shared_one_bit_for_bit) {
+  for (const char* combiner : {"zf", "mmse"}) {
+    const std::string body = uplink_body("16qam", 6, combiner);
+    const loaded shared = load(scenario_text(8, 3, "mmse", precoder_for(combiner), body));
+    const loaded own = load(scenario_text(8, 3, "mmse", precoder_for(combiner), body + "inverse = \"own\"\n"));
+    d::datapath_config c;
+    // Narrow enough that rounding is inexact everywhere and the Gram saturates now and then.
+    set_node(c, d::node_id::chan_est, "Q1.8", rounding_mode::half_even, overflow_mode::saturate);
+    set_node(c, d::node_id::gram, "Q2.9", rounding_mode::half_up, overflow_mode::saturate);
+    set_node(c, d::node_id::ldl_acc, "Q3.10", rounding_mode::half_even, overflow_mode::wrap);
+    set_node(c, d::node_id::inv_diag_recip, "Q1.10", rounding_mode::floor, overflow_mode::saturate);
+    set_node(c, d::node_id::inv_factor, "Q1.9", rounding_mode::half_away, overflow_mode::saturate);
+    set_node(c, d::node_id::inv_fwd, "Q2.9", rounding_mode::half_even, overflow_mode::saturate);
+    set_node(c, d::node_id::inv_out, "Q1.11", rounding_mode::toward_zero, overflow_mode::saturate);
+    set_node(c, d::node_id::ul_comb, "Q3.10", rounding_mode::half_even, overflow_mode::saturate);
+    for (const auto& [dl, ul] : inverter_twins()) c[ul] = c[dl];
+    const d::datapath_plan plan_shared = d::stages_for(shared.scen), plan_own = d::stages_for(own.scen);
+    EXPECT_EQ(plan_own.sources_of(d::node_id::ul_comb),
+              (std::vector<d::node_id>{d::node_id::ul_inv_out, d::node_id::ul_match}));
+    EXPECT_EQ(plan_own.sources_of(d::node_id::ul_gram), (std::vector<d::node_id>{d::node_id::chan_est}));
+    EXPECT_FALSE(plan_shared.has(d::node_id::ul_gram));
+    std::uint64_t inexact = 0;
+    for (std::uint64_t i_trial = 0; i_trial < 3; ++i_trial) {
+      const g::trial_data t_shared = g::run_trial(shared.scen, i_trial), t_own = g::run_trial(own.scen, i_trial);
+      const d::fixed_trial a = d::run_fixed_datapath(plan_shared, shared.scen, c, t_shared);
+      const d::fixed_trial b = d::run_fixed_datapath(plan_own, own.scen, c, t_own);
+      const std::string what = fmt::format("{} trial {}", combiner, i_trial);
+      for (const auto& [dl, ul] : inverter_twins()) {
+        EXPECT_EQ(words_of(b, ul).re, words_of(b, dl).re) << what << " " << d::node_name(ul);
+        EXPECT_EQ(words_of(b, ul).im, words_of(b, dl).im) << what << " " << d::node_name(ul);
+        EXPECT_EQ(counts_of(b, ul).overflowed, counts_of(b, dl).overflowed) << what << " " << d::node_name(ul);
+        inexact += counts_of(b, ul).inexact;
+      }
+      for (d::node_id id : {d::node_id::ul_comb, d::node_id::ul_eq, d::node_id::ul_llr, d::node_id::dac}) {
+        EXPECT_EQ(words_of(a, id).re, words_of(b, id).re) << what << " " << d::node_name(id);
+        EXPECT_EQ(words_of(a, id).im, words_of(b, id).im) << what << " " << d::node_name(id);
+      }
+    }
+    EXPECT_GT(inexact, 0U) << combiner << ": the formats must make the twins round";
+  }
+}
+
+TEST(uplink_stages, own_inverter_formats_are_its_own) {
+  const loaded own =
+      load(scenario_text(8, 3, "mmse", precoder_for("zf"), uplink_body("16qam", 6, "zf") + "inverse = \"own\"\n"));
+  const d::datapath_plan plan = d::stages_for(own.scen);
+  const d::datapath_config wide;
+  d::datapath_config narrow = wide;
+  set_node(narrow, d::node_id::ul_gram, "Q4.3", rounding_mode::half_even, overflow_mode::saturate);
+  const g::trial_data trial = g::run_trial(own.scen, 1);
+  const d::fixed_trial a = d::run_fixed_datapath(plan, own.scen, wide, trial);
+  const d::fixed_trial b = d::run_fixed_datapath(plan, own.scen, narrow, trial);
+  for (d::node_id id : plan.nodes()) {
+    const bool uplink_side = d::node_name(id).substr(0, 3) == "ul_";
+    const bool same = words_of(a, id).re == words_of(b, id).re && words_of(a, id).im == words_of(b, id).im;
+    if (!uplink_side) {
+      EXPECT_TRUE(same) << d::node_name(id) << " is the downlink's";
+    }
+  }
+  for (d::node_id id : {d::node_id::ul_gram, d::node_id::ul_inv_out, d::node_id::ul_comb, d::node_id::ul_eq})
+    EXPECT_NE(words_of(a, id).re, words_of(b, id).re) << d::node_name(id) << " follows ul_gram";
+  for (d::node_id id : {d::node_id::ul_adc, d::node_id::ul_match, d::node_id::ul_scale})
+    EXPECT_EQ(words_of(a, id).re, words_of(b, id).re) << d::node_name(id) << " is upstream of ul_gram";
+}
+
+TEST(uplink_stages, own_inverter_without_a_downlink_inverse_matches_the_loaded_gram_inverse) {
+  const double lsb = std::ldexp(1.0, -43);
+  for (const char* combiner : {"zf", "mmse"}) {
+    const loaded own =
+        load(scenario_text(16, 4, "mmse", "kind = \"mf\"", uplink_body("qpsk", 4, combiner) + "inverse = \"own\"\n"));
+    const d::datapath_plan plan = d::stages_for(own.scen);
+    EXPECT_FALSE(plan.has(d::node_id::inv_out)) << "an MF precoder inverts nothing";
+    const d::datapath_config c;
+    const double loading = std::string(combiner) == "mmse" ? 0.1 : 0.0;  // 1 / rho_ul at 10 dB
+    for (std::uint64_t i_trial = 0; i_trial < 3; ++i_trial) {
+      const g::trial_data trial = g::run_trial(own.scen, i_trial);
+      const d::fixed_trial f = d::run_fixed_datapath(plan, own.scen, c, trial);
+      Eigen::MatrixXcd h = d::to_values(words_of(f, d::node_id::chan_est), frac_of(c, d::node_id::chan_est));
+      Eigen::MatrixXcd gram = h.adjoint() * h;
+      gram.diagonal().array() += loading;
+      const Eigen::MatrixXcd expected = gram.partialPivLu().inverse();
+      const Eigen::MatrixXcd got =
+          d::to_values(words_of(f, d::node_id::ul_inv_out), frac_of(c, d::node_id::ul_inv_out));
+      const double top = expected.cwiseAbs().maxCoeff();
+      EXPECT_LE((got - expected).cwiseAbs().maxCoeff(), std::ldexp(top, -30) + 64 * lsb)
+          << combiner << " trial " << i_trial;
+      EXPECT_EQ(counts_of(f, d::node_id::ul_inv_out).overflowed, 0U);
+    }
+  }
+}
+
+// =============================================================================================
 // 4. One ADC: ul_adc is the adc converter at another time.
 
 TEST(uplink_stages, ul_adc_uses_the_adc_setting) {

@@ -200,6 +200,49 @@ TEST(uplink, combiner_sinr_matches_closed_forms) {
   }
 }
 
+// 1b. The uplink's own inverse (inverse = "own"): with a matched-filter precoder there is no
+// downlink inverse at all, and the ZF and MMSE combiners still meet the instantaneous formulas
+// above (Ngo, Larsson & Marzetta 2013; Tse & Viswanath 2005, Sec. 8.3.3), with the same
+// tolerance; with the precoder whose inverse it would share, the own inverse gives the shared
+// combiner's outputs to rounding (both are inverses of the same matrix: LDL^H here, the
+// precoder's inversion there; relative 1e-9 is far above the double rounding of K = 8 and far
+// below any modelling difference, e.g. a loading off by 1 % moves MMSE outputs by about 1e-3).
+TEST(uplink, own_inverse_meets_the_formulas_without_a_downlink_inverse) {
+  const double ul_snr_db = 5.0;
+  const int num_symbols = 512;
+  const double n = num_symbols;
+  const double fit = (n - 1.0) / n;
+  for (const char* combiner_c : {"zf", "mmse"}) {
+    const std::string combiner = combiner_c;
+    const scenario scen =
+        make_scenario(single_cell_text(64, 8, "kind = \"mf\"", ul_snr_db, "qpsk", num_symbols, combiner, 5151) +
+                      "inverse = \"own\"\n");
+    ASSERT_TRUE(scen.uplink.own_inverse);
+    const sinr_run r = run_sinr(scen, combiner, 300);
+    std::cout << fmt::format("own inverse, MF precoder, {:4s}: SINR_formula / SINR_fit = {:.5f} +- {:.5f}\n", combiner,
+                             r.ratio.mean, r.ratio.se);
+    EXPECT_NEAR(r.ratio.mean, fit, 4.5 * r.ratio.se + 1.0 / n) << combiner;
+    EXPECT_LT(4.5 * r.ratio.se, 0.005) << "the conditional check must stay sharp";
+    const trial_data td = run_trial(scen, 3);
+    EXPECT_EQ(td.inverse.size(), 0) << "an MF precoder has no inverse";
+    ASSERT_EQ(td.uplink->inverse.rows(), 8);
+
+    // Against the shared inverse of the matching precoder: same outputs to rounding.
+    const std::string shared_precoder = combiner == "mmse" ? rzf_precoder_for(ul_snr_db) : zf_precoder();
+    const scenario shared =
+        make_scenario(single_cell_text(64, 8, shared_precoder, ul_snr_db, "qpsk", num_symbols, combiner, 5151));
+    const scenario own =
+        make_scenario(single_cell_text(64, 8, shared_precoder, ul_snr_db, "qpsk", num_symbols, combiner, 5151) +
+                      "inverse = \"own\"\n");
+    const trial_data a = run_trial(shared, 3), b = run_trial(own, 3);
+    const double scale = a.uplink->equalised.norm();
+    EXPECT_LT((a.uplink->equalised - b.uplink->equalised).norm(), 1e-9 * scale) << combiner;
+    EXPECT_LT((a.inverse - b.uplink->inverse).norm(), 1e-9 * a.inverse.norm()) << combiner;
+    EXPECT_TRUE(a.uplink->labels == b.uplink->labels);
+    EXPECT_EQ(a.uplink->metrics.total_bit_errors, b.uplink->metrics.total_bit_errors) << combiner;
+  }
+}
+
 // ---------------------------------------------------------------------------------------------
 // 2. Uncoded BER of one user (K = 1) against the exact bit error probability of square Gray QAM.
 //
@@ -586,6 +629,15 @@ TEST(uplink, scenario_errors_name_the_key) {
             "uplink.combiner");  // default loading K / rho_d = 0.2
   EXPECT_EQ(error_key(error_text("kind = \"zf\"", "snr_db = 5\ncombiner = \"mmse\"")), "uplink.combiner");
   EXPECT_EQ(error_key(error_text(rzf_precoder_for(5.0), "snr_db = 5\ncombiner = \"mmse\"")), "(no error)");
+  // An inverse of its own lifts both requirements; MRC has no inverse to own; a bad choice.
+  EXPECT_EQ(error_key(error_text("kind = \"mf\"", "snr_db = 5\ncombiner = \"zf\"\ninverse = \"own\"")), "(no error)");
+  EXPECT_EQ(error_key(error_text("kind = \"zf\"", "snr_db = 5\ncombiner = \"mmse\"\ninverse = \"own\"")), "(no error)");
+  EXPECT_EQ(error_key(error_text("kind = \"zf\"", "snr_db = 5\ncombiner = \"mrc\"\ninverse = \"own\"")),
+            "uplink.inverse");
+  EXPECT_EQ(error_key(error_text("kind = \"zf\"", "snr_db = 5\ncombiner = \"zf\"\ninverse = \"separate\"")),
+            "uplink.inverse");
+  EXPECT_EQ(error_key(error_text("kind = \"zf\"", "snr_db = 5\ncombiner = \"zf\"\ninverse = \"shared\"")),
+            "(no error)");
   // Unknown key, and the required snr_db.
   EXPECT_EQ(error_key(error_text("kind = \"zf\"", "snr_db = 5\ncombiners = \"zf\"")), "uplink.combiners");
   EXPECT_EQ(error_key(error_text("kind = \"zf\"", "combiner = \"mrc\"")), "uplink.snr_db");

@@ -2,7 +2,8 @@
 // accumulation order) of Q(conj(H[m,i]) H[m,j]); with RZF the diagonal gets the loading
 // OV(gram + Q(reg)); the upper triangle mirrors: G[j,i] = conj(G[i,j]). With block floating
 // point on the estimate the sum runs over its mantissas and the loading of user k is
-// Q(reg 2^-2e_k) (G carries the law {1, 1}).
+// Q(reg 2^-2e_k) (G carries the law {1, 1}). The uplink's own Gram (ul_gram) is the same stage
+// with its MMSE loading 1/rho_ul.
 #include <cmath>
 
 #include "../stage_support.hpp"
@@ -15,9 +16,11 @@ namespace {
 
 class gram_stage final : public stage {
  public:
-  gram_stage(std::optional<double> loading, std::optional<int> block_top)
-      : stage("gram", {{node_id::gram, block_top ? std::vector<node_id>{node_id::chan_est, node_id::est_exp}
-                                                 : std::vector<node_id>{node_id::chan_est}}}),
+  gram_stage(const inverter_nodes& nodes, std::optional<double> loading, std::optional<int> block_top)
+      : stage(std::string(nodes.gram_stage),
+              {{nodes.gram, block_top ? std::vector<node_id>{node_id::chan_est, node_id::est_exp}
+                                      : std::vector<node_id>{node_id::chan_est}}}),
+        nodes_(nodes),
         loading_(loading),
         block_top_(block_top) {}
   /// G' = D^-1 G D^-1 for H = H' D, D = diag(2^e_k).
@@ -86,17 +89,19 @@ class gram_stage final : public stage {
       }
     });
   }
-  void golden_view(golden_context& ctx) const override { ctx.set(output(0), ctx.trial.gram); }
+  void golden_view(golden_context& ctx) const override { ctx.set(output(0), nodes_.golden_gram(ctx.trial)); }
 
  private:
+  inverter_nodes nodes_;
   std::optional<double> loading_;
   std::optional<int> block_top_;
 };
 
 }  // namespace
 
-std::shared_ptr<stage> make_gram(std::optional<double> rzf_loading, std::optional<int> block_top) {
-  return std::make_shared<gram_stage>(rzf_loading, block_top);
+std::shared_ptr<stage> make_gram(const inverter_nodes& nodes, std::optional<double> loading,
+                                 std::optional<int> block_top) {
+  return std::make_shared<gram_stage>(nodes, loading, block_top);
 }
 
 }  // namespace fxmimo::datapath::detail

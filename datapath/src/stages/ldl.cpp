@@ -4,6 +4,7 @@
 //   r_j  = Q(1 / d_j)  (or the table + Newton unit of [units.inv_diag_recip])  [inv_diag_recip]
 //   n_ij = Q(... Q(Q(G_ij) - Q(l_i0 conj(l_j0) d_0)) ...), i > j              [ldl_acc]
 //   l_ij = Q(n_ij r_j)                                                     [inv_factor]
+// The uplink's own inverter (ul_ldl_acc, ul_inv_recip, ul_inv_factor) is the same stage on ul_gram.
 #include "fxmimo/golden/ldl.hpp"
 
 #include "../stage_support.hpp"
@@ -15,34 +16,42 @@ namespace fxmimo::datapath::detail {
 
 namespace {
 
+/// The reciprocal unit's nodes: the downlink's recip_* set with the inverter's output (only the
+/// downlink's unit may be a Newton one, whose intermediates those are).
+unit_nodes recip_nodes_of(const inverter_nodes& n) {
+  unit_nodes u = diag_recip_nodes;
+  u.output = n.recip;
+  return u;
+}
+
 class ldl_stage final : public stage {
  public:
-  explicit ldl_stage(const golden::unit_choice& recip_unit)
-      : stage("ldl", ldl_ports(divide_root_unit(fp::newton_function::reciprocal, recip_unit, diag_recip_nodes))),
-        unit_(fp::newton_function::reciprocal, recip_unit, diag_recip_nodes) {}
+  ldl_stage(const inverter_nodes& nodes, const golden::unit_choice& recip_unit)
+      : stage(std::string(nodes.ldl_stage),
+              ldl_ports(nodes, divide_root_unit(fp::newton_function::reciprocal, recip_unit, recip_nodes_of(nodes)))),
+        n_(nodes),
+        unit_(fp::newton_function::reciprocal, recip_unit, recip_nodes_of(nodes)) {}
   /// For G' = D^-1 G D^-1 (D = diag(2^e_k)): L' = D^-1 L D and d' = D^-2 d, so ldl_acc (l_ij d_j)
   /// carries {1, 1}, the reciprocal {-2, 0} and L {1, -1}; the unit's mantissa, ROM and iterates
   /// are those of d (an even shift leaves a normalised mantissa as it is).
   [[nodiscard]] std::optional<exponent_law> carried_law(node_id id) const override {
-    if (id == node_id::ldl_acc) return exponent_law{1, 1};
-    if (id == node_id::inv_diag_recip) return exponent_law{-2, 0};
-    if (id == node_id::inv_factor) return exponent_law{1, -1};
+    if (id == n_.acc) return exponent_law{1, 1};
+    if (id == n_.recip) return exponent_law{-2, 0};
+    if (id == n_.factor) return exponent_law{1, -1};
     return exponent_law{};
   }
   /// Terms |l|^2 d and l conj(l) d (three factors), n_ij r_j, and G's entry with two headroom bits.
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
-    const int factor = bits_of(c, node_id::inv_factor), acc = bits_of(c, node_id::ldl_acc);
-    return std::max({product_bits({factor, factor, acc}, acc),
-                     product_bits({acc, bits_of(c, node_id::inv_diag_recip)}, factor), bits_of(c, source(0, 0)) + 2});
+    const int factor = bits_of(c, n_.factor), acc = bits_of(c, n_.acc);
+    return std::max({product_bits({factor, factor, acc}, acc), product_bits({acc, bits_of(c, n_.recip)}, factor),
+                     bits_of(c, source(0, 0)) + 2});
   }
   [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
-    return 4 * word_bits_of(c, node_id::inv_factor) * word_bits_of(c, node_id::inv_factor) +
-           unit_.multiplier_cost(c, node_id::ldl_acc);
+    return 4 * word_bits_of(c, n_.factor) * word_bits_of(c, n_.factor) + unit_.multiplier_cost(c, n_.acc);
   }
   void compute(fixed_context& ctx) const override {
     const node_state g = state(ctx, source(0, 0));
-    node_state acc_node = state(ctx, node_id::ldl_acc), recip = state(ctx, node_id::inv_diag_recip),
-               factor = state(ctx, node_id::inv_factor);
+    node_state acc_node = state(ctx, n_.acc), recip = state(ctx, n_.recip), factor = state(ctx, n_.factor);
     divide_root_unit::session session = unit_.start(ctx, g.words->rows);
     with_width(work_bits(ctx.config), [&](auto tag) {
       run<decltype(tag)>(g, acc_node, recip, factor,
@@ -51,7 +60,8 @@ class ldl_stage final : public stage {
     unit_.finish(session);
   }
   void golden_view(golden_context& ctx) const override {
-    const golden::ldl_factors f = ctx.trial.ldl ? *ctx.trial.ldl : golden::ldl_decompose(ctx.trial.gram);
+    const std::optional<golden::ldl_factors>& kept = n_.golden_ldl(ctx.trial);
+    const golden::ldl_factors f = kept ? *kept : golden::ldl_decompose(n_.golden_gram(ctx.trial));
     const auto num_users = static_cast<int>(f.diag.size());
     Eigen::MatrixXcd acc = Eigen::MatrixXcd::Zero(num_users, num_users);
     Eigen::MatrixXcd strict = Eigen::MatrixXcd::Zero(num_users, num_users);
@@ -62,17 +72,17 @@ class ldl_stage final : public stage {
         strict(i, j) = f.unit_lower(i, j);
       }
     }
-    ctx.set(node_id::ldl_acc, acc);
-    ctx.set(node_id::inv_diag_recip, f.diag.cwiseInverse().cast<std::complex<double>>());
+    ctx.set(n_.acc, acc);
+    ctx.set(n_.recip, f.diag.cwiseInverse().cast<std::complex<double>>());
     unit_.golden_view(ctx, f.diag);
-    ctx.set(node_id::inv_factor, strict);
+    ctx.set(n_.factor, strict);
   }
 
  private:
-  static std::vector<port> ldl_ports(const divide_root_unit& unit) {
-    std::vector<port> p{{node_id::ldl_acc, {node_id::gram, node_id::inv_factor}}};
-    for (port& q : unit.ports(node_id::ldl_acc)) p.push_back(std::move(q));
-    p.push_back({node_id::inv_factor, {node_id::ldl_acc, node_id::inv_diag_recip}});
+  static std::vector<port> ldl_ports(const inverter_nodes& n, const divide_root_unit& unit) {
+    std::vector<port> p{{n.acc, {n.gram, n.factor}}};
+    for (port& q : unit.ports(n.acc)) p.push_back(std::move(q));
+    p.push_back({n.factor, {n.acc, n.recip}});
     return p;
   }
 
@@ -120,13 +130,14 @@ class ldl_stage final : public stage {
     }
   }
 
+  inverter_nodes n_;
   divide_root_unit unit_;
 };
 
 }  // namespace
 
-std::shared_ptr<stage> make_ldl(const golden::unit_choice& recip_unit) {
-  return std::make_shared<ldl_stage>(recip_unit);
+std::shared_ptr<stage> make_ldl(const inverter_nodes& nodes, const golden::unit_choice& recip_unit) {
+  return std::make_shared<ldl_stage>(nodes, recip_unit);
 }
 
 }  // namespace fxmimo::datapath::detail

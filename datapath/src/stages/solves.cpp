@@ -2,6 +2,7 @@
 // accumulation order:
 //   forward  y_c = Q(1); y_i = Q(... Q(0 - Q(l_ic y_c)) ... - Q(l_i,i-1 y_{i-1})), i > c   [inv_fwd]
 //   backward x_i = Q(... Q(Q(y_i r_i) - Q(conj(l_{i+1,i}) x_{i+1})) ... ), i = K-1 .. 0, k rising  [inv_out]
+// The uplink's own inverter (ul_inv_fwd, ul_inv_out) is the same stage on its factors.
 #include "../stage_support.hpp"
 #include "stages.hpp"
 
@@ -11,37 +12,39 @@ namespace {
 
 class ldl_solves final : public stage {
  public:
-  ldl_solves()
-      : stage("ldl_solves", {{node_id::inv_fwd, {node_id::inv_factor}},
-                             {node_id::inv_out, {node_id::inv_diag_recip, node_id::inv_factor, node_id::inv_fwd}}}) {}
+  explicit ldl_solves(const inverter_nodes& nodes)
+      : stage(std::string(nodes.solves_stage),
+              {{nodes.fwd, {nodes.factor}}, {nodes.out, {nodes.recip, nodes.factor, nodes.fwd}}}),
+        n_(nodes) {}
   /// With L = D L' D^-1 (D = diag(2^e_k), ldl.cpp): L^-1 = D L'^-1 D^-1 ({1, -1}) and
   /// G^-1 = D^-1 G'^-1 D^-1 ({-1, -1}).
   [[nodiscard]] std::optional<exponent_law> carried_law(node_id id) const override {
-    return id == node_id::inv_fwd ? exponent_law{1, -1} : exponent_law{-1, -1};
+    return id == n_.fwd ? exponent_law{1, -1} : exponent_law{-1, -1};
   }
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
-    const int factor = bits_of(c, node_id::inv_factor), fwd = bits_of(c, node_id::inv_fwd),
-              out = bits_of(c, node_id::inv_out);
-    return std::max({product_bits({factor, fwd}, fwd), product_bits({fwd, bits_of(c, node_id::inv_diag_recip)}, out),
+    const int factor = bits_of(c, n_.factor), fwd = bits_of(c, n_.fwd), out = bits_of(c, n_.out);
+    return std::max({product_bits({factor, fwd}, fwd), product_bits({fwd, bits_of(c, n_.recip)}, out),
                      product_bits({out, factor}, out)});
   }
   [[nodiscard]] double multiplier_cost(const datapath_config& c, const dimension_sizes&) const override {
-    return 4 * word_bits_of(c, node_id::inv_factor) * word_bits_of(c, node_id::inv_fwd);
+    return 4 * word_bits_of(c, n_.factor) * word_bits_of(c, n_.fwd);
   }
   void compute(fixed_context& ctx) const override {
-    const node_state factor = state(ctx, node_id::inv_factor), recip = state(ctx, node_id::inv_diag_recip);
-    node_state fwd = state(ctx, node_id::inv_fwd), out = state(ctx, node_id::inv_out);
+    const node_state factor = state(ctx, n_.factor), recip = state(ctx, n_.recip);
+    node_state fwd = state(ctx, n_.fwd), out = state(ctx, n_.out);
     with_width(work_bits(ctx.config), [&](auto tag) { run<decltype(tag)>(factor, recip, fwd, out); });
   }
   /// L^-1 from the golden strict factor (L = I + strict), and the golden inverse.
   void golden_view(golden_context& ctx) const override {
-    const Eigen::MatrixXcd& strict = ctx.value_of(node_id::inv_factor);
+    const Eigen::MatrixXcd& strict = ctx.value_of(n_.factor);
     const Eigen::MatrixXcd identity = Eigen::MatrixXcd::Identity(strict.rows(), strict.cols());
-    ctx.set(node_id::inv_fwd, strict.triangularView<Eigen::UnitLower>().solve(identity));
-    ctx.set(node_id::inv_out, ctx.trial.inverse);
+    ctx.set(n_.fwd, strict.triangularView<Eigen::UnitLower>().solve(identity));
+    ctx.set(n_.out, n_.golden_inverse(ctx.trial));
   }
 
  private:
+  inverter_nodes n_;
+
   template <class P>
   static void run(const node_state& factor, const node_state& recip, node_state& fwd, node_state& out) {
     const word_matrix& l = *factor.words;
@@ -80,6 +83,6 @@ class ldl_solves final : public stage {
 
 }  // namespace
 
-std::shared_ptr<stage> make_ldl_solves() { return std::make_shared<ldl_solves>(); }
+std::shared_ptr<stage> make_ldl_solves(const inverter_nodes& nodes) { return std::make_shared<ldl_solves>(nodes); }
 
 }  // namespace fxmimo::datapath::detail

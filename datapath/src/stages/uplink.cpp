@@ -2,7 +2,8 @@
 // ul_match[k,n] = sum over antennas m (index order, or the node's order) of
 // Q(conj(chan_est[m,k]) ul_adc[m,n]); for ZF and MMSE the combiner
 // ul_comb[k,n] = sum over users j of Q(inv_out[k,j] ul_match[j,n]) (the downlink's inverse,
-// shared); the equaliser ul_eq[k,n] = Q(ul_scale[k] x[k,n]), x the combiner's output, onto the
+// shared, or ul_inv_out, the uplink's own); the equaliser ul_eq[k,n] = Q(ul_scale[k] x[k,n]),
+// x the combiner's output, onto the
 // odd-integer grid of the constellation; and the max-log distance differences ul_llr, each
 // computed exactly from ul_eq's word and requantised once.
 #include <algorithm>
@@ -20,11 +21,11 @@ namespace {
 /// conj(chan_est[i,k]) ul_adc[i,n]) and ul_comb (i over users, inv_out[k,i] ul_match[i,n]).
 class uplink_sum_stage final : public stage {
  public:
-  /// `matched`: ul_match from {chan_est, ul_adc}; else ul_comb from {inv_out, ul_match}.
-  explicit uplink_sum_stage(bool matched)
-      : stage(matched ? "ul_match" : "ul_comb",
-              {matched ? port{node_id::ul_match, {node_id::chan_est, node_id::ul_adc}}
-                       : port{node_id::ul_comb, {node_id::inv_out, node_id::ul_match}}}),
+  /// `matched`: ul_match from {chan_est, ul_adc}; else ul_comb from {inverse, ul_match}, the
+  /// inverse inv_out (the downlink's, shared) or ul_inv_out (the uplink's own).
+  uplink_sum_stage(bool matched, node_id inverse)
+      : stage(matched ? "ul_match" : "ul_comb", {matched ? port{node_id::ul_match, {node_id::chan_est, node_id::ul_adc}}
+                                                         : port{node_id::ul_comb, {inverse, node_id::ul_match}}}),
         matched_(matched) {}
   [[nodiscard]] int work_bits(const datapath_config& c) const override {
     return product_bits({bits_of(c, source(0, 0)), bits_of(c, source(0, 1))}, bits_of(c, output(0)));
@@ -77,7 +78,7 @@ class uplink_sum_stage final : public stage {
     if (matched_ || ctx.extents == nullptr) return;
     // The combiner's terms cancel (inv_out undoes the users' coupling in ul_match), so its
     // register's partial sums over j exceed the result: record their extent for `range`.
-    const Eigen::MatrixXcd& inv = ctx.trial.inverse;
+    const Eigen::MatrixXcd& inv = ctx.value_of(source(0, 0));
     Eigen::MatrixXcd extent = Eigen::MatrixXcd::Zero(ul.match.rows(), ul.match.cols());
     for (Eigen::Index k = 0; k < inv.rows(); ++k) {
       for (Eigen::Index n = 0; n < ul.match.cols(); ++n) {
@@ -188,8 +189,10 @@ class uplink_demapper final : public stage {
 
 }  // namespace
 
-std::shared_ptr<stage> make_uplink_match() { return std::make_shared<uplink_sum_stage>(true); }
-std::shared_ptr<stage> make_uplink_combiner() { return std::make_shared<uplink_sum_stage>(false); }
+std::shared_ptr<stage> make_uplink_match() { return std::make_shared<uplink_sum_stage>(true, node_id::ul_match); }
+std::shared_ptr<stage> make_uplink_combiner(node_id inverse) {
+  return std::make_shared<uplink_sum_stage>(false, inverse);
+}
 std::shared_ptr<stage> make_uplink_equaliser(bool combined) {
   return std::make_shared<uplink_equaliser>(combined ? node_id::ul_comb : node_id::ul_match);
 }

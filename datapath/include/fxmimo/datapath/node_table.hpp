@@ -62,7 +62,13 @@ enum class node_id : std::uint16_t {
   dac,              ///< transmitted samples (M x N)
   ul_adc,           ///< uplink data block after the AGC, through the adc's format (M x N_ul)
   ul_match,         ///< matched-filter accumulator H_hat^H ul_adc, summed over antennas (K x N_ul)
-  ul_comb,          ///< ZF / MMSE combiner accumulator inv_out ul_match, summed over users (K x N_ul)
+  ul_gram,          ///< the uplink's own Gram H_hat^H H_hat (+ 1/rho_ul for MMSE), inverse = "own" (K x K)
+  ul_ldl_acc,       ///< its LDL^H accumulator, as ldl_acc (K x K)
+  ul_inv_recip,     ///< its 1 / d_j, an exact reciprocal (K)
+  ul_inv_factor,    ///< its L, strictly lower part (K x K)
+  ul_inv_fwd,       ///< its L^-1 (K x K)
+  ul_inv_out,       ///< the uplink's own inverse ul_gram^-1 (K x K)
+  ul_comb,          ///< ZF / MMSE combiner accumulator (ul_)inv_out ul_match, summed over users (K x N_ul)
   ul_scale,         ///< per-user real gain onto the constellation's odd-integer grid, from the golden estimate (K)
   ul_eq,            ///< equalised symbols ul_scale (ul_comb or ul_match), on the grid (K x N_ul)
   ul_llr,           ///< max-log distance differences of every bit, K x (b N_ul)
@@ -348,12 +354,48 @@ inline constexpr std::array reference_node_table{
              {dim::user, dim::ul_symbol},
              node_role::accumulator,
              "matched filter sum_m conj(chan_est[m,k]) ul_adc[m,n]"},
+    node_row{node_id::ul_gram,
+             "ul_gram",
+             true,
+             {dim::user, dim::user},
+             node_role::accumulator,
+             "the uplink's own Gram sum_m conj(chan_est[m,i]) chan_est[m,j] (+ 1/rho_ul for MMSE)"},
+    node_row{node_id::ul_ldl_acc,
+             "ul_ldl_acc",
+             true,
+             {dim::user, dim::user},
+             node_role::accumulator,
+             "LDL^H accumulator of ul_gram: d_j on the diagonal, l_ij d_j below"},
+    node_row{node_id::ul_inv_recip,
+             "ul_inv_recip",
+             false,
+             {dim::user, dim::one},
+             node_role::register_,
+             "1 / d_j of ul_gram's LDL^H (exact reciprocal)"},
+    node_row{node_id::ul_inv_factor,
+             "ul_inv_factor",
+             true,
+             {dim::user, dim::user},
+             node_role::register_,
+             "L of ul_gram's LDL^H, strictly lower part"},
+    node_row{node_id::ul_inv_fwd,
+             "ul_inv_fwd",
+             true,
+             {dim::user, dim::user},
+             node_role::accumulator,
+             "forward substitution of ul_inv_factor: L^-1"},
+    node_row{node_id::ul_inv_out,
+             "ul_inv_out",
+             true,
+             {dim::user, dim::user},
+             node_role::accumulator,
+             "the uplink's own inverse ul_gram^-1"},
     node_row{node_id::ul_comb,
              "ul_comb",
              true,
              {dim::user, dim::ul_symbol},
              node_role::accumulator,
-             "ZF / MMSE combiner sum_j inv_out[k,j] ul_match[j,n]"},
+             "ZF / MMSE combiner sum_j inv_out[k,j] ul_match[j,n] (ul_inv_out with inverse = \"own\")"},
     node_row{node_id::ul_scale,
              "ul_scale",
              false,

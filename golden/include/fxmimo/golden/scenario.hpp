@@ -103,7 +103,13 @@ struct uplink_config {
   double snr_db = 0.0;                          ///< rho_ul: each user's transmit power over noise at unit gain, dB
   modulation mod = modulation::qam16;           ///< the users' constellation
   int num_symbols = 168;                        ///< N_ul per coherence block, 1..4096
-  combiner_kind combiner = combiner_kind::mrc;  ///< mrc: H_hat^H y; zf, mmse: the downlink's inverse times that
+  combiner_kind combiner = combiner_kind::mrc;  ///< mrc: H_hat^H y; zf, mmse: an inverse times that
+  /// zf, mmse: false reuses the downlink's Gram inverse (one inverse per block); true gives the
+  /// uplink its own Gram (loaded with 1 / rho_ul for mmse) and LDL^H inverse, nodes ul_gram ..
+  /// ul_inv_out, whatever the precoder is (`inverse = "own"`).
+  bool own_inverse = false;
+  /// The loading of the Gram the combiner inverts: 1 / rho_ul for mmse, else 0.
+  [[nodiscard]] double loading(double rho_ul) const { return combiner == combiner_kind::mmse ? 1.0 / rho_ul : 0.0; }
 };
 
 /// How a divide or root node is built (`[units.NODE]`): the exact unit (the result rounded once,

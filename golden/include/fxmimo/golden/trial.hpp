@@ -47,12 +47,17 @@ struct uplink_metrics {
 /// Cell 0's uplink data phase in one trial: what its base station receives and computes, in
 /// double (README "The uplink"). Kept whole (K x N_ul and M x N_ul), N_ul <= 4096.
 struct uplink_data {
-  label_matrix labels;         ///< K x N_ul labels of cell 0's users
-  Eigen::MatrixXcd symbols;    ///< K x N_ul unit-power QAM symbols of cell 0's users
-  double agc_gain = 0.0;       ///< g_ul: the AGC rule at rho_ul
-  Eigen::MatrixXcd adc;        ///< g_ul Y_ul (M x N_ul)
-  Eigen::MatrixXcd match;      ///< H_hat^H adc (K x N_ul)
-  Eigen::MatrixXcd combined;   ///< inverse * match (K x N_ul; zf and mmse), else empty
+  label_matrix labels;       ///< K x N_ul labels of cell 0's users
+  Eigen::MatrixXcd symbols;  ///< K x N_ul unit-power QAM symbols of cell 0's users
+  double agc_gain = 0.0;     ///< g_ul: the AGC rule at rho_ul
+  Eigen::MatrixXcd adc;      ///< g_ul Y_ul (M x N_ul)
+  Eigen::MatrixXcd match;    ///< H_hat^H adc (K x N_ul)
+  // With an inverse of its own (inverse = "own"): G_ul = H_hat^H H_hat + delta I (delta = 1 /
+  // rho_ul for mmse, else 0), its LDL^H factors and G_ul^-1 from them; else empty.
+  Eigen::MatrixXcd gram;
+  std::optional<ldl_factors> ldl;
+  Eigen::MatrixXcd inverse;
+  Eigen::MatrixXcd combined;   ///< (own or downlink) inverse * match (K x N_ul; zf and mmse), else empty
   Eigen::VectorXd scale;       ///< per-user real gain c_k onto the odd-integer grid (K)
   Eigen::MatrixXcd equalised;  ///< diag(scale) (combined or match) (K x N_ul), on the grid
   Eigen::MatrixXd distances;   ///< max-log distance differences, K x (b N_ul), column n b + t

@@ -17,8 +17,14 @@ namespace fxmimo::golden {
 /// c_k = 1 / (g_ul sqrt(rho_ul) a_k qam_step), a_k user k's own gain through the combiner A as
 /// the estimate sees it, a_k = [A H_hat^H H_hat]_kk: ||h_hat_k||^2 for mrc (unbiased for an
 /// MMSE estimate, whose error is uncorrelated with it), 1 for zf, 1 - delta [inverse]_kk for
-/// mmse (inverse = (H_hat^H H_hat + delta I)^-1, delta = 1 / rho_ul).
-Eigen::VectorXd uplink_scales(const scenario& scen, const trial_data& trial, double agc_ul);
+/// mmse (inverse = (H_hat^H H_hat + delta I)^-1, delta = 1 / rho_ul, the combiner's inverse:
+/// the downlink's or the uplink's own).
+Eigen::VectorXd uplink_scales(const scenario& scen, const Eigen::MatrixXcd& chan_est, const Eigen::MatrixXcd& inverse,
+                              double agc_ul);
+
+/// The inverse the zf or mmse combiner applies: the uplink's own (uplink_data::inverse) or the
+/// downlink's (trial_data::inverse).
+const Eigen::MatrixXcd& combiner_inverse(const scenario& scen, const trial_data& trial, const uplink_data& ul);
 
 /// Figures of equalised outputs on the grid (K x N) against the sent symbols and labels.
 uplink_metrics measure_uplink(modulation mod, const Eigen::MatrixXcd& equalised_grid, const Eigen::MatrixXcd& symbols,
