@@ -210,6 +210,7 @@ INSTANTIATE_TEST_SUITE_P(
                       example{"examples/village-16-mf.toml", 24}, example{"examples/campus-3-hex.toml", 24},
                       example{"examples/metro-7-shadowed.toml", 6}, example{"examples/dpi/kiosk-8.toml", 40},
                       example{"examples/quay-96-newton.toml", 24}, example{"examples/metro-7-blockfloat.toml", 6},
+                      example{"examples/pier-64-uplink.toml", 24}, example{"examples/pier-64-mmse-own.toml", 24},
                       example{"tests/bit_identity/rzf-per-antenna.toml", 24},
                       example{"tests/bit_identity/ls-neumann-two-terms.toml", 24},
                       example{"tests/analysis/scenarios/cholesky-newton.toml", 24},
