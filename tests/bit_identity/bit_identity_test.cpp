@@ -1,4 +1,5 @@
-// The bit-identity baseline: for every example scenario and the two scenarios beside this file,
+// The bit-identity baseline: for the example scenarios listed below (both directions for the
+// uplink ones) and the two scenarios beside this file,
 // the SHA-256 of every node's words and counters for trials 0..3 and the run metrics of those
 // trials, recomputed and compared with baseline.json. The file is the program's own output at
 // the commit that wrote it; it guards every refactor and optimisation. Change it only for a
@@ -23,9 +24,13 @@ namespace g = fxmimo::golden;
 
 namespace {
 
-const std::vector<std::string> baseline_scenarios{
-    "examples/rooftop-64.toml", "examples/tower-128-neumann.toml", "examples/village-16-mf.toml",
-    "tests/bit_identity/rzf-per-antenna.toml", "tests/bit_identity/ls-neumann-two-terms.toml"};
+const std::vector<std::string> baseline_scenarios{"examples/rooftop-64.toml",
+                                                  "examples/tower-128-neumann.toml",
+                                                  "examples/village-16-mf.toml",
+                                                  "tests/bit_identity/rzf-per-antenna.toml",
+                                                  "tests/bit_identity/ls-neumann-two-terms.toml",
+                                                  "examples/pier-64-uplink.toml",
+                                                  "examples/pier-64-mmse-own.toml"};
 
 constexpr int num_baseline_trials = 4;
 
@@ -78,6 +83,15 @@ nlohmann::json compute_scenario(const std::string& relative_path) {
                     {"sinr_loss_db", s.sinr_loss_db},           {"evm_golden_pct", s.evm_golden_pct},
                     {"evm_fixed_pct", s.evm_fixed_pct},         {"evm_impl_pct", s.evm_impl_pct},
                     {"tx_power_error_db", s.tx_power_error_db}, {"rms_tx_power_error_db", s.rms_tx_power_error_db}};
+  if (r.uplink) {  // both directions: the uplink's figures and counts too
+    const h::uplink_results& u = *r.uplink;
+    out["metrics"]["ul_sinr_golden_db"] = u.sinr_golden_db;
+    out["metrics"]["ul_sinr_fixed_db"] = u.sinr_fixed_db;
+    out["metrics"]["ul_evm_fixed_pct"] = u.evm_fixed_pct;
+    out["metrics"]["ul_bit_errors_golden"] = u.bit_errors_golden;
+    out["metrics"]["ul_bit_errors_fixed"] = u.bit_errors_fixed;
+    out["metrics"]["ul_llr_sign_flips"] = u.llr_sign_flips;
+  }
   for (const h::node_result& n : r.nodes) {
     out["node_metrics"][std::string(d::node_name(n.id))] = {
         {"error_energy", n.error_energy}, {"signal_energy", n.signal_energy}, {"max_err_lsb", n.max_err_lsb}};
@@ -109,6 +123,7 @@ TEST(BitIdentity, EveryNodeWordAndMetricMatchesTheBaseline) {
       }
     }
     // Metrics are compared exactly: the same words through the same double evaluation.
+    EXPECT_EQ(got["metrics"].size(), want["metrics"].size()) << "the list of metrics changed";
     for (const auto& [key, value] : want["metrics"].items()) EXPECT_EQ(got["metrics"][key], value) << key;
     for (const auto& [node, figures] : want["node_metrics"].items()) {
       ASSERT_TRUE(got["node_metrics"].contains(node)) << node;
