@@ -87,6 +87,7 @@ sweep_results run_sweep(const golden::scenario& scen, const datapath::datapath_c
       p.fmt = c[id].spec.fmt;
       p.summary = r.summary;
       p.distribution = r.distribution;
+      p.uplink = r.uplink;
       for (const node_result& n : r.nodes) {
         p.max_overflow_rate = std::max(p.max_overflow_rate, n.overflow_rate());
         if (n.id == id) {

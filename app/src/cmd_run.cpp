@@ -78,13 +78,16 @@ struct demo_options {
 
 int run_demo(const demo_options& opt) {
   namespace fs = std::filesystem;
-  const scenario_input in = parse_scenario_input(demo_scenario_text(), "rooftop-64.toml (embedded demo)");
+  const scenario_input in = parse_scenario_input(demo_scenario_text(), "pier-64-uplink.toml (embedded demo)");
   fs::create_directories(opt.out_dir);
   const fs::path dir(opt.out_dir);
   write_file_atomically(dir / "scenario.toml", in.text());
-  fmt::print("fxmimo demo: {} antennas, {} users per cell, {} cells, {}, ZF/LDL precoding\n\n",
+  fmt::print("fxmimo demo: {} antennas, {} users per cell, {} cells, {}, ZF/LDL precoding{}\n\n",
              in.scen.array.num_antennas, in.scen.cells.num_users, in.scen.cells.num_cells,
-             golden::modulation_name(in.scen.data.mod));
+             golden::modulation_name(in.scen.data.mod),
+             in.scen.uplink.on ? fmt::format("; uplink {}, {} combiner", golden::modulation_name(in.scen.uplink.mod),
+                                             golden::combiner_name(in.scen.uplink.combiner))
+                               : "");
 
   // 1. The scenario's own widths, side by side with the golden model.
   const analysis::run_results results = run_scenario(in, 0, opt.num_threads);
@@ -103,28 +106,33 @@ int run_demo(const demo_options& opt) {
   const nlohmann::json range_json = report::to_json(report::make_record(ranges));
   write_file_atomically(dir / "range.json", range_json.dump(2) + "\n");
 
-  // 3. What the last stages' fraction bits buy.
+  // 3. What the last stages' fraction bits buy: the downlink's two, and the uplink combiner's.
   const int sweep_trials = 8;
-  fmt::print("\n== sweep: fraction bits of weights and dac, {} trials per point ==\n", sweep_trials);
+  std::vector<datapath::node_id> swept{datapath::node_id::weights, datapath::node_id::dac};
+  if (in.scen.uplink.on) swept.push_back(datapath::node_id::ul_comb);
+  fmt::print("\n== sweep: fraction bits of weights{}, {} trials per point ==\n",
+             in.scen.uplink.on ? ", dac (downlink) and ul_comb (uplink)" : " and dac", sweep_trials);
   progress_line sweep_progress("sweep trials");
-  const analysis::sweep_results sweep =
-      analysis::run_sweep(in.scen, in.config, {datapath::node_id::weights, datapath::node_id::dac}, 8, 14,
-                          analysis::sweep_axis::frac, analysis::first_trials(sweep_trials), opt.num_threads,
-                          [&](std::size_t d, std::size_t t) { sweep_progress.update(d, t); });
+  const analysis::sweep_results sweep = analysis::run_sweep(
+      in.scen, in.config, swept, 8, 14, analysis::sweep_axis::frac, analysis::first_trials(sweep_trials),
+      opt.num_threads, [&](std::size_t d, std::size_t t) { sweep_progress.update(d, t); });
   fmt::print("{}", report::format_sweep_table(sweep));
   const nlohmann::json sweep_json = report::to_json(report::make_record(sweep));
   write_file_atomically(dir / "sweep.json", sweep_json.dump(2) + "\n");
 
-  // 4. The cheapest widths for a budget: 0.05 dB SINR loss, a tenth of the 64-QAM EVM limit.
+  // 4. The cheapest widths for a budget: 0.05 dB SINR loss (both directions, as `tune` defaults
+  // the uplink's limit), a tenth of the 64-QAM EVM limit.
   analysis::tune_limits limits;
   limits.max_sinr_loss_db = 0.05;
   limits.max_evm_pct = 0.1 * *analysis::bs_evm_limit_pct(in.scen.data.mod);
   limits.max_overflow_rate = 1e-6;
+  if (in.scen.uplink.on) limits.max_uplink_sinr_loss_db = limits.max_sinr_loss_db;
   const analysis::tune_trial_counts counts{12, range_trials, 200};
   fmt::print(
-      "\n== tune: SINR loss <= {} dB, implementation EVM <= {} % (a tenth of the TS 38.104 limit), "
+      "\n== tune: SINR loss <= {} dB{}, implementation EVM <= {} % (a tenth of the TS 38.104 limit), "
       "{} trials, integer bits from {} golden trials, verified on {} fresh ones ==\n",
-      limits.max_sinr_loss_db, limits.max_evm_pct, counts.search, counts.range, counts.verify);
+      limits.max_sinr_loss_db, limits.max_uplink_sinr_loss_db ? " in each direction" : "", limits.max_evm_pct,
+      counts.search, counts.range, counts.verify);
   const analysis::tune_results tuned = analysis::tune_widths(in.scen, in.config, limits, analysis::cost_model::bits,
                                                              counts, opt.num_threads, 1e-6, 0.1, show_status);
   show_status("");
@@ -182,10 +190,12 @@ void add_demo_command(CLI::App& app) {
   cmd->add_option("--out", opt->out_dir, "Directory for the results")->capture_default_str();
   cmd->add_option("--threads", opt->num_threads, "Worker threads (default: all cores)");
   cmd->footer(
-      "The demo scenario is examples/rooftop-64.toml: a 64-antenna rooftop array, 8 users per cell,\n"
-      "two neighbouring cells reusing its pilots, 64-QAM, zero-forcing with an LDL^H inverter.\n"
-      "It runs the scenario side by side with the golden model, profiles the node ranges, sweeps the\n"
-      "last stages, tunes all widths for a budget, and writes report.html with everything.\n"
+      "The demo scenario is examples/pier-64-uplink.toml: a 64-antenna array, 8 users per cell, two\n"
+      "neighbouring cells reusing its pilots, 64-QAM both ways; the downlink zero-forcing precoder and\n"
+      "the uplink zero-forcing detector share one Gram matrix and its LDL^H inverse.\n"
+      "It runs both directions side by side with the golden model, profiles the node ranges, sweeps\n"
+      "the last stages of both directions (with the uplink's figures at every point), tunes all\n"
+      "widths for a budget in both directions, and writes report.html with everything.\n"
       "Examples:\n"
       "  fxmimo demo\n"
       "  fxmimo demo --out /tmp/demo");

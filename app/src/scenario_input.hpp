@@ -26,7 +26,7 @@ scenario_input load_scenario_input(const std::string& path);
 /// Parses text given under a name (the embedded demo scenario).
 scenario_input parse_scenario_input(std::string text, const std::string& source_name);
 
-/// The embedded demo scenario (examples/rooftop-64.toml at build time).
+/// The embedded demo scenario (examples/pier-64-uplink.toml at build time).
 const char* demo_scenario_text();
 
 }  // namespace fxmimo::cli

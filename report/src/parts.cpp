@@ -227,15 +227,60 @@ run_distribution distribution_from_json(const checked_json& j) {
   return d;
 }
 
+/// A sweep point's uplink, every figure exact (what run_trials reduced; merge puts it back as is).
+json uplink_json(const analysis::uplink_results& u) {
+  json users = json::array();
+  for (const analysis::user_result& k : u.users) {
+    users.push_back({{"sinr_golden_db", exact(k.sinr_golden_db)},
+                     {"sinr_fixed_db", exact(k.sinr_fixed_db)},
+                     {"evm_golden_pct", exact(k.evm_golden_pct)},
+                     {"evm_fixed_pct", exact(k.evm_fixed_pct)}});
+  }
+  return {{"users", users},
+          {"sinr_golden_db", exact(u.sinr_golden_db)},
+          {"sinr_fixed_db", exact(u.sinr_fixed_db)},
+          {"sinr_loss_db", exact(u.sinr_loss_db)},
+          {"evm_golden_pct", exact(u.evm_golden_pct)},
+          {"evm_fixed_pct", exact(u.evm_fixed_pct)},
+          {"bits", u.bits},
+          {"bit_errors_golden", u.bit_errors_golden},
+          {"bit_errors_fixed", u.bit_errors_fixed},
+          {"llrs", u.llrs},
+          {"llr_sign_flips", u.llr_sign_flips}};
+}
+
+analysis::uplink_results uplink_from_json(const checked_json& j) {
+  analysis::uplink_results u;
+  const checked_json users = j["users"];
+  for (std::size_t i = 0; i < users.size(); ++i) {
+    const checked_json k = users[i];
+    u.users.push_back({k["sinr_golden_db"].exact_double(), k["sinr_fixed_db"].exact_double(),
+                       k["evm_golden_pct"].exact_double(), k["evm_fixed_pct"].exact_double()});
+  }
+  u.sinr_golden_db = j["sinr_golden_db"].exact_double();
+  u.sinr_fixed_db = j["sinr_fixed_db"].exact_double();
+  u.sinr_loss_db = j["sinr_loss_db"].exact_double();
+  u.evm_golden_pct = j["evm_golden_pct"].exact_double();
+  u.evm_fixed_pct = j["evm_fixed_pct"].exact_double();
+  u.bits = j["bits"].count();
+  u.bit_errors_golden = j["bit_errors_golden"].count();
+  u.bit_errors_fixed = j["bit_errors_fixed"].count();
+  u.llrs = j["llrs"].count();
+  u.llr_sign_flips = j["llr_sign_flips"].count();
+  return u;
+}
+
 json point_json(const analysis::sweep_point& p) {
-  return {{"node", std::string(datapath::node_name(p.id))},
-          {"bits", p.bits},
-          {"format", {{"signed", p.fmt.is_signed}, {"word_bits", p.fmt.word_bits}, {"frac_bits", p.fmt.frac_bits}}},
-          {"summary", summary_json(p.summary)},
-          {"distribution", distribution_json(p.distribution)},
-          {"node_sqnr_db", exact(p.node_sqnr_db)},
-          {"node_overflow_rate", exact(p.node_overflow_rate)},
-          {"max_overflow_rate", exact(p.max_overflow_rate)}};
+  json out = {{"node", std::string(datapath::node_name(p.id))},
+              {"bits", p.bits},
+              {"format", {{"signed", p.fmt.is_signed}, {"word_bits", p.fmt.word_bits}, {"frac_bits", p.fmt.frac_bits}}},
+              {"summary", summary_json(p.summary)},
+              {"distribution", distribution_json(p.distribution)},
+              {"node_sqnr_db", exact(p.node_sqnr_db)},
+              {"node_overflow_rate", exact(p.node_overflow_rate)},
+              {"max_overflow_rate", exact(p.max_overflow_rate)}};
+  if (p.uplink) out["uplink"] = uplink_json(*p.uplink);
+  return out;
 }
 
 analysis::sweep_point point_from_json(const checked_json& j) {
@@ -251,6 +296,7 @@ analysis::sweep_point point_from_json(const checked_json& j) {
   p.node_sqnr_db = j["node_sqnr_db"].exact_double();
   p.node_overflow_rate = j["node_overflow_rate"].exact_double();
   p.max_overflow_rate = j["max_overflow_rate"].exact_double();
+  if (const auto u = j.find("uplink")) p.uplink = uplink_from_json(*u);
   return p;
 }
 

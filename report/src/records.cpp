@@ -159,6 +159,30 @@ static_assert(std::variant_size_v<results_record> == 5 &&
 
 // --- run --------------------------------------------------------------------------------------
 
+namespace {
+
+/// The run's and a sweep point's uplink.
+uplink_record uplink_record_of(const analysis::uplink_results& u) {
+  uplink_record ul;
+  for (const analysis::user_result& k : u.users) {
+    ul.users.push_back({finite_or_none(k.sinr_golden_db), finite_or_none(k.sinr_fixed_db),
+                        finite_or_none(k.sinr_loss_db()), finite_or_none(k.evm_golden_pct),
+                        finite_or_none(k.evm_fixed_pct)});
+  }
+  ul.sinr_golden_db = finite_or_none(u.sinr_golden_db);
+  ul.sinr_fixed_db = finite_or_none(u.sinr_fixed_db);
+  ul.sinr_loss_db = finite_or_none(u.sinr_loss_db);
+  ul.evm_golden_pct = finite_or_none(u.evm_golden_pct);
+  ul.evm_fixed_pct = finite_or_none(u.evm_fixed_pct);
+  ul.bits = u.bits;
+  ul.bit_errors_golden = u.bit_errors_golden;
+  ul.bit_errors_fixed = u.bit_errors_fixed;
+  ul.llr_sign_flips = u.llr_sign_flips;
+  return ul;
+}
+
+}  // namespace
+
 run_record make_record(const analysis::run_results& r) {
   run_record out;
   out.scenario = {r.scenario_name, r.scenario_source};
@@ -200,25 +224,7 @@ run_record make_record(const analysis::run_results& r) {
                  finite_or_none(s.max_abs_tx_power_error_db),
                  finite_or_none(s.rms_tx_power_error_db)};
   out.distribution = distribution_of(r.distribution);
-  if (r.uplink) {
-    const analysis::uplink_results& u = *r.uplink;
-    uplink_record ul;
-    for (const analysis::user_result& k : u.users) {
-      ul.users.push_back({finite_or_none(k.sinr_golden_db), finite_or_none(k.sinr_fixed_db),
-                          finite_or_none(k.sinr_loss_db()), finite_or_none(k.evm_golden_pct),
-                          finite_or_none(k.evm_fixed_pct)});
-    }
-    ul.sinr_golden_db = finite_or_none(u.sinr_golden_db);
-    ul.sinr_fixed_db = finite_or_none(u.sinr_fixed_db);
-    ul.sinr_loss_db = finite_or_none(u.sinr_loss_db);
-    ul.evm_golden_pct = finite_or_none(u.evm_golden_pct);
-    ul.evm_fixed_pct = finite_or_none(u.evm_fixed_pct);
-    ul.bits = u.bits;
-    ul.bit_errors_golden = u.bit_errors_golden;
-    ul.bit_errors_fixed = u.bit_errors_fixed;
-    ul.llr_sign_flips = u.llr_sign_flips;
-    out.uplink = std::move(ul);
-  }
+  if (r.uplink) out.uplink = uplink_record_of(*r.uplink);
   out.warnings = r.warnings;
   return out;
 }
@@ -480,6 +486,7 @@ sweep_record make_record(const analysis::sweep_results& r) {
     rec.max_overflow_rate = finite_or_none(p.max_overflow_rate);
     rec.sinr_loss_p95_db = finite_or_none(p.distribution.sinr_loss_p95_db);
     rec.evm_impl_p95_pct = finite_or_none(p.distribution.evm_impl_p95_pct);
+    if (p.uplink) rec.uplink = uplink_record_of(*p.uplink);
     out.points.push_back(std::move(rec));
   }
   return out;
@@ -506,6 +513,7 @@ json to_json(const sweep_record& r) {
     if (p.max_overflow_rate) j["max_overflow_rate"] = metric_json(*p.max_overflow_rate);
     if (p.sinr_loss_p95_db) j["sinr_loss_p95_db"] = metric_json(*p.sinr_loss_p95_db);
     if (p.evm_impl_p95_pct) j["evm_impl_p95_pct"] = metric_json(*p.evm_impl_p95_pct);
+    if (p.uplink) j["uplink"] = uplink_json(*p.uplink);
     out["points"].push_back(std::move(j));
   }
   return out;
@@ -534,6 +542,7 @@ sweep_record sweep_from_json(const checked_json& doc) {
     rec.max_overflow_rate = optional_metric(p, "max_overflow_rate");
     if (const auto v = p.find("sinr_loss_p95_db")) rec.sinr_loss_p95_db = v->number_or_null();
     if (const auto v = p.find("evm_impl_p95_pct")) rec.evm_impl_p95_pct = v->number_or_null();
+    if (const auto u = p.find("uplink")) rec.uplink = uplink_from_json(*u);
     r.points.push_back(std::move(rec));
   }
   return r;

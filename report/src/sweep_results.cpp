@@ -11,6 +11,16 @@ namespace fxmimo::report {
 
 namespace fp = fxmimo::fixedpoint;
 
+namespace {
+
+/// The sweep has uplink columns: its scenario has [uplink], so every point carries the uplink.
+bool has_uplink(const analysis::sweep_results& r) {
+  return !r.points.empty() && std::all_of(r.points.begin(), r.points.end(),
+                                          [](const analysis::sweep_point& p) { return p.uplink.has_value(); });
+}
+
+}  // namespace
+
 std::string format_sweep_table(const analysis::sweep_results& r) {
   std::string out = fmt::format("scenario {}, {} trials per point, sweeping {} bits\n\n", r.scenario_name, r.num_trials,
                                 to_string(r.axis));
@@ -23,19 +33,50 @@ std::string format_sweep_table(const analysis::sweep_results& r) {
                        std::isinf(p.node_sqnr_db) ? std::string("exact") : fmt::format("{:.1f}", p.node_sqnr_db),
                        p.node_overflow_rate, p.max_overflow_rate);
   }
+  if (has_uplink(r)) {
+    out += "\nuplink at each point (ul_eq against the users' symbols; BER uncoded, errors in the bits sent):\n";
+    out += fmt::format("{:<15} {:>5} {:<10} {:>12} {:>12} {:>10} {:>9} {:>10} {:>9} {:>10}\n", "node", "bits", "format",
+                       "SINR loss dB", "EVM fixed %", "BER fixed", "errors", "BER gold", "errors", "LLR flips");
+    for (const analysis::sweep_point& p : r.points) {
+      const analysis::uplink_results& u = *p.uplink;
+      out += fmt::format("{:<15} {:>5} {:<10} {:>12.4f} {:>12.3f} {:>10.3g} {:>9} {:>10.3g} {:>9} {:>10.3g}\n",
+                         datapath::node_name(p.id), p.bits, fp::to_q_string(p.fmt), u.sinr_loss_db, u.evm_fixed_pct,
+                         u.ber_fixed(), u.bit_errors_fixed, u.ber_golden(), u.bit_errors_golden, u.llr_flip_rate());
+    }
+    out += fmt::format(
+        "({} bits and {} LLRs per point; LLR flips: the share of ul_llr words whose hard decision\n"
+        " differs from the golden LLR's)\n",
+        r.points.front().uplink->bits, r.points.front().uplink->llrs);
+  }
   return out;
 }
 
 std::string to_csv(const analysis::sweep_results& r) {
+  const bool uplink = has_uplink(r);
   std::string out =
       "node,bits,format,sinr_loss_db,evm_fixed_pct,evm_impl_pct,sqnr_db,overflow_rate,max_overflow_rate,"
-      "sinr_loss_p95_db,evm_impl_p95_pct\n";
+      "sinr_loss_p95_db,evm_impl_p95_pct";
+  if (uplink) {
+    out +=
+        ",ul_sinr_golden_db,ul_sinr_fixed_db,ul_sinr_loss_db,ul_evm_golden_pct,ul_evm_fixed_pct,ul_bits,"
+        "ul_bit_errors_golden,ul_bit_errors_fixed,ul_ber_golden,ul_ber_fixed,ul_llrs,ul_llr_sign_flips,"
+        "ul_llr_flip_rate";
+  }
+  out += "\n";
   for (const analysis::sweep_point& p : r.points) {
     out += fmt::format(
-        "{},{},{},{:.6g},{:.6g},{:.6g},{},{:.6g},{:.6g},{:.6g},{:.6g}\n", datapath::node_name(p.id), p.bits,
+        "{},{},{},{:.6g},{:.6g},{:.6g},{},{:.6g},{:.6g},{:.6g},{:.6g}", datapath::node_name(p.id), p.bits,
         fp::to_q_string(p.fmt), p.summary.sinr_loss_db, p.summary.evm_fixed_pct, p.summary.evm_impl_pct,
         std::isinf(p.node_sqnr_db) ? std::string("inf") : fmt::format("{:.6g}", p.node_sqnr_db), p.node_overflow_rate,
         p.max_overflow_rate, p.distribution.sinr_loss_p95_db, p.distribution.evm_impl_p95_pct);
+    if (uplink) {
+      const analysis::uplink_results& u = *p.uplink;
+      out +=
+          fmt::format(",{:.6g},{:.6g},{:.6g},{:.6g},{:.6g},{},{},{},{:.6g},{:.6g},{},{},{:.6g}", u.sinr_golden_db,
+                      u.sinr_fixed_db, u.sinr_loss_db, u.evm_golden_pct, u.evm_fixed_pct, u.bits, u.bit_errors_golden,
+                      u.bit_errors_fixed, u.ber_golden(), u.ber_fixed(), u.llrs, u.llr_sign_flips, u.llr_flip_rate());
+    }
+    out += "\n";
   }
   return out;
 }

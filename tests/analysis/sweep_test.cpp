@@ -65,6 +65,21 @@ rounding = "half_even"
 overflow = "saturate"
 )";
 
+/// The same system with cell 0's uplink (our own numbers): 16-QAM through the downlink's ZF
+/// inverse, and a narrow equaliser output so that its fraction bits move the uplink's figures.
+const std::string uplink_scenario_text = std::string(sweep_scenario_text) + R"(
+[uplink]
+snr_db = 14.0
+modulation = "16qam"
+symbols = 48
+combiner = "zf"
+
+[nodes.ul_eq]
+format = "Q3.3"
+rounding = "half_even"
+overflow = "saturate"
+)";
+
 struct fixture_data {
   g::scenario scen;
   d::datapath_config config;
@@ -73,6 +88,32 @@ struct fixture_data {
 fixture_data load() {
   return {g::parse_scenario_text(sweep_scenario_text, "sweep-16x2.toml"),
           d::parse_datapath_config(sweep_scenario_text, "sweep-16x2.toml")};
+}
+
+fixture_data load_uplink() {
+  return {g::parse_scenario_text(uplink_scenario_text, "sweep-16x2-uplink.toml"),
+          d::parse_datapath_config(uplink_scenario_text, "sweep-16x2-uplink.toml")};
+}
+
+/// Exact equality of two uplink reductions (the same computation: `==` on doubles and counts).
+void expect_uplink_equal(const h::uplink_results& a, const h::uplink_results& b, const std::string& what) {
+  ASSERT_EQ(a.users.size(), b.users.size()) << what;
+  for (std::size_t k = 0; k < a.users.size(); ++k) {
+    EXPECT_EQ(a.users[k].sinr_golden_db, b.users[k].sinr_golden_db) << what << " user " << k;
+    EXPECT_EQ(a.users[k].sinr_fixed_db, b.users[k].sinr_fixed_db) << what << " user " << k;
+    EXPECT_EQ(a.users[k].evm_golden_pct, b.users[k].evm_golden_pct) << what << " user " << k;
+    EXPECT_EQ(a.users[k].evm_fixed_pct, b.users[k].evm_fixed_pct) << what << " user " << k;
+  }
+  EXPECT_EQ(a.sinr_golden_db, b.sinr_golden_db) << what;
+  EXPECT_EQ(a.sinr_fixed_db, b.sinr_fixed_db) << what;
+  EXPECT_EQ(a.sinr_loss_db, b.sinr_loss_db) << what;
+  EXPECT_EQ(a.evm_golden_pct, b.evm_golden_pct) << what;
+  EXPECT_EQ(a.evm_fixed_pct, b.evm_fixed_pct) << what;
+  EXPECT_EQ(a.bits, b.bits) << what;
+  EXPECT_EQ(a.bit_errors_golden, b.bit_errors_golden) << what;
+  EXPECT_EQ(a.bit_errors_fixed, b.bit_errors_fixed) << what;
+  EXPECT_EQ(a.llrs, b.llrs) << what;
+  EXPECT_EQ(a.llr_sign_flips, b.llr_sign_flips) << what;
 }
 
 const h::node_result& find_node(const h::run_results& r, d::node_id id) {
@@ -146,6 +187,42 @@ TEST(sweep, point_is_bit_identical_to_a_run_with_that_width) {
       expect_point_equals_run(p, run2, what + ", through the scenario file");
     }
   }
+}
+
+TEST(sweep, uplink_at_a_point_is_bit_identical_to_a_run_with_that_width) {
+  // The definition again, for the uplink: a point's uplink figures are run_trials' at that width,
+  // whether the swept node is the uplink's (ul_eq) or the downlink's alone (weights).
+  const fixture_data in = load_uplink();
+  const std::vector<std::uint64_t> trials = h::first_trials(3);
+  const h::sweep_results sweep =
+      h::run_sweep(in.scen, in.config, {d::node_id::ul_eq, d::node_id::weights}, 1, 4, h::sweep_axis::frac, trials, 2);
+  ASSERT_EQ(sweep.points.size(), 8U);
+  for (const h::sweep_point& p : sweep.points) {
+    const std::string what = std::string(d::node_name(p.id)) + " frac " + std::to_string(p.bits);
+    d::datapath_config by_hand = in.config;
+    by_hand[p.id].spec.fmt = p.fmt;
+    by_hand[p.id].is_default = false;
+    const h::run_results run = h::run_trials(in.scen, by_hand, trials, 1);
+    ASSERT_TRUE(run.uplink.has_value()) << what;
+    ASSERT_TRUE(p.uplink.has_value()) << what << ": a scenario with [uplink] gives every point its uplink";
+    expect_uplink_equal(*p.uplink, *run.uplink, what);
+    expect_point_equals_run(p, run, what);
+    // Cell 0's 2 users send 48 16-QAM symbols (4 bits) per trial: 2 x 48 x 4 x 3 trials.
+    EXPECT_EQ(p.uplink->bits, 2U * 48U * 4U * 3U) << what;
+  }
+  // ul_eq's fraction bits move the uplink (the points are not one run copied): 1 against 4
+  // fraction bits on a 16-QAM grid of odd integers is a coarse against a fine quantiser.
+  EXPECT_NE(sweep.points[0].uplink->sinr_fixed_db, sweep.points[3].uplink->sinr_fixed_db);
+  // The golden side is the same trials at every point.
+  for (const h::sweep_point& p : sweep.points) {
+    EXPECT_EQ(p.uplink->bit_errors_golden, sweep.points[0].uplink->bit_errors_golden);
+    EXPECT_EQ(p.uplink->sinr_golden_db, sweep.points[0].uplink->sinr_golden_db);
+  }
+  // A downlink-only scenario has no uplink at any point.
+  const fixture_data down = load();
+  const h::sweep_results plain =
+      h::run_sweep(down.scen, down.config, {d::node_id::weights}, 8, 9, h::sweep_axis::frac, h::first_trials(2), 2);
+  for (const h::sweep_point& p : plain.points) EXPECT_FALSE(p.uplink.has_value()) << p.bits;
 }
 
 TEST(sweep, swept_format_sets_one_quantity) {
@@ -273,6 +350,10 @@ TEST(sweep_cli, json_and_csv_points_equal_fxmimo_run) {
   ASSERT_EQ(sweep.at("points").size(), 3U);
   const std::string csv = read_text(csv_file);
   EXPECT_EQ(count_lines(csv), 4) << "header and three points:\n" << csv;
+  // Without [uplink]: no uplink key, column or table.
+  EXPECT_EQ(csv.find("ul_"), std::string::npos) << csv;
+  EXPECT_EQ(r.out.find("uplink"), std::string::npos) << r.out;
+  for (const nlohmann::json& p : sweep.at("points")) EXPECT_FALSE(p.contains("uplink")) << p;
 
   // `fxmimo run` on the scenario file with the point's width is the definition of the point;
   // JSON numbers are written to round-trip, so equality is exact.
@@ -304,6 +385,74 @@ TEST(sweep_cli, json_and_csv_points_equal_fxmimo_run) {
     for (const auto& [name, n] : run.at("nodes").items())
       max_rate = std::max(max_rate, n.at("overflow_rate").get<double>());
     EXPECT_EQ(p.at("max_overflow_rate").get<double>(), max_rate) << what;
+  }
+}
+
+/// The CSV as rows of cells (no quoting needed: the sweep's cells hold no comma).
+std::vector<std::vector<std::string>> csv_rows(const std::string& csv) {
+  std::vector<std::vector<std::string>> rows;
+  std::istringstream lines(csv);
+  for (std::string line; std::getline(lines, line);) {
+    std::vector<std::string> cells;
+    std::istringstream cell(line);
+    for (std::string c; std::getline(cell, c, ',');) cells.push_back(c);
+    rows.push_back(cells);
+  }
+  return rows;
+}
+
+TEST(sweep_cli, uplink_columns_equal_fxmimo_run_at_each_point) {
+  const fs::path dir = scratch_dir("cli_uplink");
+  const fs::path scen_file = dir / "sweep-16x2-uplink.toml";
+  write_text(scen_file, uplink_scenario_text);
+  const fs::path json_file = dir / "sweep.json", csv_file = dir / "sweep.csv";
+  const command_result r = run_fxmimo("sweep -c " + quote(scen_file.string()) + " --node ul_eq --bits 2:3 --json " +
+                                          quote(json_file.string()) + " --csv " + quote(csv_file.string()),
+                                      dir);
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  EXPECT_NE(r.out.find("\nuplink at each point"), std::string::npos) << r.out;
+  const nlohmann::json sweep = nlohmann::json::parse(read_text(json_file));
+  ASSERT_EQ(sweep.at("points").size(), 2U);
+  const auto rows = csv_rows(read_text(csv_file));
+  ASSERT_EQ(rows.size(), 3U);
+  const auto column = [&](const std::string& name) {
+    const auto it = std::find(rows[0].begin(), rows[0].end(), name);
+    EXPECT_NE(it, rows[0].end()) << name;
+    return static_cast<std::size_t>(it - rows[0].begin());
+  };
+  const fixture_data in = load_uplink();
+  for (std::size_t i = 0; i < 2; ++i) {
+    const nlohmann::json& p = sweep.at("points")[i];
+    const int bits = p.at("bits").get<int>();
+    d::datapath_config c = in.config;
+    c[d::node_id::ul_eq].spec.fmt = fp::parse_format(p.at("format").get<std::string>());
+    const fs::path point_file = dir / ("point-" + std::to_string(bits) + ".toml");
+    write_text(point_file, d::scenario_with_nodes(uplink_scenario_text, c,
+                                                  {d::node_id::weights, d::node_id::dac, d::node_id::ul_eq},
+                                                  "ul_eq at " + std::to_string(bits) + " fraction bits"));
+    const fs::path run_json = dir / ("run-" + std::to_string(bits) + ".json");
+    const command_result rr =
+        run_fxmimo("run -c " + quote(point_file.string()) + " --json " + quote(run_json.string()), dir);
+    ASSERT_EQ(rr.exit_code, 0) << rr.err;
+    const nlohmann::json run = nlohmann::json::parse(read_text(run_json));
+    // The whole uplink object, per user and in total, as `fxmimo run` writes it (numbers that
+    // round-trip: equality is exact).
+    EXPECT_EQ(p.at("uplink"), run.at("uplink")) << "ul_eq frac " << bits;
+    // The CSV's counts are the run's; its rates are the counts divided (6 significant digits).
+    const nlohmann::json& u = run.at("uplink");
+    const auto& row = rows[i + 1];
+    EXPECT_EQ(row[column("ul_bits")], std::to_string(u.at("bits").get<std::uint64_t>()));
+    EXPECT_EQ(row[column("ul_bit_errors_fixed")], std::to_string(u.at("bit_errors_fixed").get<std::uint64_t>()));
+    EXPECT_EQ(row[column("ul_bit_errors_golden")], std::to_string(u.at("bit_errors_golden").get<std::uint64_t>()));
+    EXPECT_EQ(row[column("ul_llr_sign_flips")], std::to_string(u.at("llr_sign_flips").get<std::uint64_t>()));
+    const double n_bits = u.at("bits").get<double>();
+    EXPECT_NEAR(std::stod(row[column("ul_ber_fixed")]), u.at("bit_errors_fixed").get<double>() / n_bits,
+                5e-6 * u.at("bit_errors_fixed").get<double>() / n_bits)
+        << "6 significant digits";
+    EXPECT_NEAR(std::stod(row[column("ul_llr_flip_rate")]), u.at("llr_sign_flips").get<double>() / n_bits,
+                5e-6 * u.at("llr_sign_flips").get<double>() / n_bits);
+    EXPECT_NEAR(std::stod(row[column("ul_sinr_loss_db")]), u.at("sinr_loss_db").get<double>(),
+                5e-6 * std::abs(u.at("sinr_loss_db").get<double>()));
   }
 }
 

@@ -107,6 +107,22 @@ TEST(demo_command, writes_its_results_and_says_where) {
   // The tuned scenario is a valid scenario: fxmimo run accepts it.
   const auto rerun = run_fxmimo("run -c " + (dir / "tuned.toml").string() + " --trials 2");
   EXPECT_EQ(rerun.exit_code, 0) << rerun.err;
+  // Both directions: the demo is examples/pier-64-uplink.toml as it stands in the tree, and its
+  // run, sweep points, tune and report carry the uplink.
+  EXPECT_EQ(fxmimo::test::read_text(dir / "scenario.toml"), fxmimo::test::read_text(example("pier-64-uplink.toml")));
+  const auto run = nlohmann::json::parse(fxmimo::test::read_text(dir / "run.json"));
+  ASSERT_TRUE(run.contains("uplink")) << "run.json";
+  const std::size_t users = run.at("users").size();
+  EXPECT_EQ(run.at("uplink").at("users").size(), users);
+  const auto sweep = nlohmann::json::parse(fxmimo::test::read_text(dir / "sweep.json"));
+  ASSERT_FALSE(sweep.at("points").empty());
+  for (const auto& p : sweep.at("points")) EXPECT_TRUE(p.contains("uplink")) << p;
+  const auto tune = nlohmann::json::parse(fxmimo::test::read_text(dir / "tune.json"));
+  EXPECT_TRUE(tune.at("limits").contains("max_uplink_sinr_loss_db")) << tune.at("limits");
+  EXPECT_NE(r.out.find("uplink SINR loss dB"), std::string::npos) << "tune's uplink limit row";
+  const std::string html = fxmimo::test::read_text(dir / "report.html");
+  EXPECT_NE(html.find("<h3>Uplink at BS 0</h3>"), std::string::npos);
+  EXPECT_NE(html.find("data-chart=\"sweep-uplink-errors\""), std::string::npos);
 }
 
 TEST(every_command, has_help_with_examples) {

@@ -80,6 +80,11 @@ INSTANTIATE_TEST_SUITE_P(
                    "sweep -c examples/tower-128-neumann.toml --node inv_iter,weights --bits 9:11 --trials 3",
                    {"--json", "--csv"},
                    6},
+        // With an uplink: every point's uplink figures go through the parts exactly.
+        split_case{"sweep_uplink",
+                   "sweep -c examples/pier-64-uplink.toml --node ul_eq,weights --bits 6:7 --trials 2",
+                   {"--json", "--csv"},
+                   4},
         split_case{"sweep_key",
                    "sweep -c examples/village-16-mf.toml --key array.antennas --values 16,32,64 --trials 4",
                    {"--json", "--csv"},

@@ -23,6 +23,12 @@
 #include <tuple>
 #include <vector>
 
+#include "fxmimo/analysis/runner.hpp"
+#include "fxmimo/analysis/sweep.hpp"
+#include "fxmimo/datapath/config.hpp"
+#include "fxmimo/golden/scenario.hpp"
+#include "fxmimo/report/records.hpp"
+
 namespace {
 
 namespace fs = std::filesystem;
@@ -894,4 +900,154 @@ TEST_F(report_page, a_key_sweep_draws_sinr_and_interference_against_the_value) {
   const json table = table_starting(page, "array.antennas");
   ASSERT_EQ(table.size(), 4U);
   EXPECT_EQ(table[3].back(), "16");  // power_acc's integer bits at 256 antennas
+}
+
+// ---------------------------------------------------------------------------------------------
+// The uplink: a run and a sweep of examples/pier-64-uplink.toml computed here (analysis), their
+// records drawn, and the page read back by Python's XML parser against the analysis's own figures.
+
+namespace {
+
+namespace an = fxmimo::analysis;
+namespace rep = fxmimo::report;
+
+struct uplink_input {
+  fxmimo::golden::scenario scen;
+  fxmimo::datapath::datapath_config config;
+};
+
+uplink_input load_pier() {
+  const std::string text = read_text(fs::path(FXMIMO_SOURCE_DIR) / "examples/pier-64-uplink.toml");
+  return {fxmimo::golden::parse_scenario_text(text, "pier-64-uplink.toml"),
+          fxmimo::datapath::parse_datapath_config(text, "pier-64-uplink.toml")};
+}
+
+json page_of_records(const std::vector<rep::named_record>& records, const fs::path& dir) {
+  const fs::path html = dir / "report.html";
+  std::ofstream(html, std::ios::binary) << rep::render_report_html(records);
+  return parse_page(html);
+}
+
+bool has_table(const json& page, const std::string& first_header) {
+  for (const json& t : page["tables"])
+    if (!t.empty() && !t[0].empty() && t[0][0] == first_header) return true;
+  return false;
+}
+
+/// count / bits, computed here from the counts (the definition of a rate per bit).
+double per_bit_rate(std::uint64_t count, std::uint64_t bits) {
+  return static_cast<double>(count) / static_cast<double>(bits);
+}
+
+}  // namespace
+
+TEST_F(report_page, a_run_with_an_uplink_shows_its_users_bit_errors_and_llr_flips) {
+  const uplink_input in = load_pier();
+  const an::run_results run = an::run_trials(in.scen, in.config, an::first_trials(2), 0);
+  ASSERT_TRUE(run.uplink.has_value());
+  const an::uplink_results& u = *run.uplink;
+  const json page = page_of_records({{"run.json", rep::make_record(run)}}, scratch_dir("run_uplink"));
+  const json users = table_starting(page, "uplink user");
+  ASSERT_EQ(users.size(), 1 + u.users.size() + 1) << "header, one row per user, the mean";
+  for (std::size_t k = 0; k < u.users.size(); ++k) {
+    const json& row = users[k + 1];
+    const an::user_result& x = u.users[k];
+    const std::string what = "uplink user " + std::to_string(k);
+    EXPECT_EQ(row[0], std::to_string(k));
+    expect_shown(row[1], x.sinr_golden_db, what + " SINR golden");
+    expect_shown(row[2], x.sinr_fixed_db, what + " SINR fixed");
+    expect_shown(row[3], x.sinr_golden_db - x.sinr_fixed_db, what + " SINR loss");
+    expect_shown(row[4], x.evm_golden_pct, what + " EVM golden");
+    expect_shown(row[5], x.evm_fixed_pct, what + " EVM fixed");
+  }
+  EXPECT_EQ(users.back()[0], "mean");
+  expect_shown(users.back()[3], u.sinr_loss_db, "uplink mean SINR loss");
+  const json decisions = table_starting(page, "uplink decisions");
+  ASSERT_EQ(decisions.size(), 5u);
+  // Counts in full; rates to the 3 significant digits shown (half a unit in the third digit).
+  EXPECT_EQ(decisions[1][1], std::to_string(u.bit_errors_golden));
+  EXPECT_EQ(decisions[1][2], std::to_string(u.bit_errors_fixed));
+  EXPECT_EQ(decisions[1][3], std::to_string(u.bits));
+  // 64-QAM, 8 users, 168 symbols, 2 trials: 6 x 8 x 168 x 2 bits.
+  EXPECT_EQ(u.bits, 6u * 8u * 168u * 2u);
+  const auto shown3 = [](const json& cell, double v, const std::string& what) {
+    EXPECT_NEAR(std::stod(cell.get<std::string>()), v, 5e-3 * v) << what << ": page shows " << cell;
+  };
+  shown3(decisions[2][1], per_bit_rate(u.bit_errors_golden, u.bits), "BER golden");
+  shown3(decisions[2][2], per_bit_rate(u.bit_errors_fixed, u.bits), "BER fixed");
+  EXPECT_EQ(decisions[3][2], std::to_string(u.llr_sign_flips));
+  shown3(decisions[4][2], per_bit_rate(u.llr_sign_flips, u.bits), "LLR flip rate");
+  // A run without an uplink (the earlier program's file) has none of it.
+  const json plain = page_of_file(fs::path(FXMIMO_SOURCE_DIR) / "tests/fixtures/run.json", scratch_dir("run_plain"));
+  EXPECT_FALSE(has_table(plain, "uplink user"));
+  EXPECT_FALSE(has_table(plain, "uplink decisions"));
+}
+
+TEST_F(report_page, a_sweep_with_an_uplink_draws_its_loss_and_error_rates_where_the_ticks_say) {
+  const uplink_input in = load_pier();
+  const an::sweep_results sweep = an::run_sweep(in.scen, in.config, {fxmimo::datapath::node_id::ul_eq}, 2, 4,
+                                                an::sweep_axis::frac, an::first_trials(2), 0);
+  const rep::sweep_record record = rep::make_record(sweep);
+  const fs::path dir = scratch_dir("sweep_uplink");
+  // The record survives its file: written, read back, written again, the same text.
+  const fs::path file = dir / "sweep.json";
+  std::ofstream(file, std::ios::binary) << rep::to_json(record).dump(2);
+  EXPECT_EQ(rep::to_json(rep::read_results_file(file).record).dump(2), rep::to_json(record).dump(2));
+  const json page = page_of_records({{"sweep.json", record}}, dir);
+  const auto loss = charts_of(page, "sweep-uplink-sinr", "ul_eq");
+  const auto errors = charts_of(page, "sweep-uplink-errors", "ul_eq");
+  ASSERT_EQ(loss.size(), 1u);
+  ASSERT_EQ(errors.size(), 1u);
+  EXPECT_NE(loss[0]["y_label"].get<std::string>().find("(dB)"), std::string::npos);
+  EXPECT_NE(errors[0]["y_label"].get<std::string>().find("(log)"), std::string::npos);
+  const tick_map lx = map_from_ticks(loss[0]["x_ticks"], false, "uplink loss x");
+  const tick_map ly = map_from_ticks(loss[0]["y_ticks"], false, "uplink loss y");
+  const tick_map ex = map_from_ticks(errors[0]["x_ticks"], false, "uplink errors x");
+  const tick_map ey = map_from_ticks(errors[0]["y_ticks"], true, "uplink errors y");
+  double zero_row = NAN;
+  for (const json& t : errors[0]["y_ticks"])
+    if (t[1] == "0") zero_row = t[0].get<double>();
+  const auto loss_markers = markers_of(loss[0], "s1");
+  const auto ber_markers = markers_of(errors[0], "s1");
+  const auto flip_markers = markers_of(errors[0], "s2");
+  ASSERT_EQ(sweep.points.size(), 3u);
+  ASSERT_EQ(loss_markers.size(), 3u);
+  ASSERT_EQ(ber_markers.size(), 3u);
+  ASSERT_EQ(flip_markers.size(), 3u);
+  const json values = table_starting(page, "F (bits)");
+  ASSERT_EQ(values.size(), 4u);
+  const auto column = [&](const std::string& name) {
+    const auto it = std::find(values[0].begin(), values[0].end(), name);
+    EXPECT_NE(it, values[0].end()) << name;
+    return static_cast<std::size_t>(it - values[0].begin());
+  };
+  for (std::size_t i = 0; i < 3; ++i) {
+    const an::sweep_point& p = sweep.points[i];
+    ASSERT_TRUE(p.uplink.has_value());
+    const an::uplink_results& u = *p.uplink;
+    const std::string what = "ul_eq F = " + std::to_string(p.bits);
+    EXPECT_NEAR(loss_markers[i]["x"].get<double>(), lx(p.bits), pixel_tolerance) << what;
+    EXPECT_NEAR(loss_markers[i]["y"].get<double>(), ly(u.sinr_loss_db), pixel_tolerance) << what;
+    const auto y_of = [&](std::uint64_t count) {
+      return count > 0 ? ey(std::log10(per_bit_rate(count, u.bits))) : zero_row;
+    };
+    EXPECT_NEAR(ber_markers[i]["x"].get<double>(), ex(p.bits), pixel_tolerance) << what;
+    EXPECT_NEAR(ber_markers[i]["y"].get<double>(), y_of(u.bit_errors_fixed), pixel_tolerance) << what << " BER";
+    EXPECT_NEAR(flip_markers[i]["y"].get<double>(), y_of(u.llr_sign_flips), pixel_tolerance) << what << " flips";
+    const json& row = values[i + 1];
+    EXPECT_EQ(row[column("uplink bit errors fixed")], std::to_string(u.bit_errors_fixed)) << what;
+    EXPECT_EQ(row[column("uplink bit errors golden")], std::to_string(u.bit_errors_golden)) << what;
+    EXPECT_EQ(row[column("uplink bits")], std::to_string(u.bits)) << what;
+    EXPECT_EQ(row[column("LLR flips")], std::to_string(u.llr_sign_flips)) << what;
+    expect_shown(row[column("uplink SINR loss (dB)")], u.sinr_loss_db, what + " uplink SINR loss");
+  }
+  // Sweeps without an uplink (the fixtures) draw no uplink chart and have no uplink column.
+  const json plain =
+      parse_page(render_fixtures({"report_sweep_frac.json", "report_sweep_int.json"}, scratch_dir("sweep_plain")));
+  for (const json& c : plain["charts"]) {
+    EXPECT_EQ(c["chart"].get<std::string>().find("uplink"), std::string::npos) << c["chart"];
+  }
+  for (const json& t : plain["tables"]) {
+    for (const json& h : t[0]) EXPECT_EQ(h.get<std::string>().find("uplink"), std::string::npos) << h;
+  }
 }

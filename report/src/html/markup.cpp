@@ -50,6 +50,8 @@ std::string count_of(std::size_t n, std::string_view noun) {
   return fmt::format("{} {}{}", n, noun, n == 1 ? "" : "s");
 }
 
+std::string count_text(std::uint64_t n) { return fmt::format("{}", n); }
+
 std::string num_or_dash(const std::optional<double>& v, int sig) { return v ? num(*v, sig) : "—"; }
 
 /// A pixel coordinate with two decimals (never "-0.00").

@@ -5,6 +5,7 @@
 
 #include <fmt/core.h>
 
+#include <cstdint>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -21,6 +22,9 @@ std::string num(double v, int sig = 4);
 
 /// "1 node", "3 nodes".
 std::string count_of(std::size_t n, std::string_view noun);
+
+/// A count in full ("161280"), as every table of the page writes one.
+std::string count_text(std::uint64_t n);
 
 /// A figure, or "—" when it has no value.
 std::string num_or_dash(const std::optional<double>& v, int sig = 4);

@@ -36,8 +36,7 @@ void render_section(page& pg, const range_record& r) {
     pg.out += render_histogram(h);
     table += "<tr>";
     for (const std::string& c :
-         {fmt::format("<td class=\"l\">{}</td>", esc(n.node)),
-          fmt::format("<td>{}</td>", num(static_cast<double>(n.values), 15)),
+         {fmt::format("<td class=\"l\">{}</td>", esc(n.node)), fmt::format("<td>{}</td>", count_text(n.values)),
           fmt::format("<td>{}</td>", num(n.max_abs)), fmt::format("<td>{}</td>", num(n.p99)),
           fmt::format("<td>{}</td>", num(n.p99_99)), fmt::format("<td>{}</td>", num(n.p99_9999)),
           fmt::format("<td><b>{}</b></td>", n.proposed_int_bits),

@@ -1,5 +1,6 @@
 // The report's section for a run: the summary against the 3GPP EVM limit, the transmit-power
-// error, the node table (formats, modes, SQNR, errors, overflow counts) and the user table.
+// error, the node table (formats, modes, SQNR, errors, overflow counts), the user table and,
+// with an uplink, its users, bit errors and LLR decisions.
 #include <fmt/core.h>
 
 #include "charts.hpp"
@@ -9,16 +10,49 @@ namespace fxmimo::report::html {
 
 namespace {
 
-std::string count_or_dash(const std::optional<std::uint64_t>& v) { return v ? num(static_cast<double>(*v), 15) : "—"; }
+std::string count_or_dash(const std::optional<std::uint64_t>& v) { return v ? count_text(*v) : "—"; }
+
+/// Cell 0's uplink at BS 0 (README "The uplink"): per user SINR and EVM golden and fixed, the
+/// uncoded bit errors of both with the bits sent, and the LLRs whose hard decision flipped.
+void render_uplink(page& pg, const uplink_record& u) {
+  pg.out += "<h3>Uplink at BS 0</h3>\n";
+  pg.out +=
+      "<p>Cell 0's users detected by its base station: SINR and EVM of the equalised symbols (ul_eq) "
+      "against the symbols sent, receiver noise included; SINR is the mean linear SINR over trials, EVM the "
+      "RMS.</p>\n";
+  pg.out += "<table class=\"uplink\">\n";
+  pg.row({"uplink user", "SINR golden (dB)", "SINR fixed (dB)", "SINR loss (dB)", "EVM golden (%)", "EVM fixed (%)"},
+         true);
+  for (std::size_t i = 0; i < u.users.size(); ++i) {
+    const run_user_record& k = u.users[i];
+    pg.row({std::to_string(i), num_or_dash(k.sinr_golden_db), num_or_dash(k.sinr_fixed_db), num_or_dash(k.sinr_loss_db),
+            num_or_dash(k.evm_golden_pct), num_or_dash(k.evm_fixed_pct)});
+  }
+  pg.row({"mean", num_or_dash(u.sinr_golden_db), num_or_dash(u.sinr_fixed_db), num_or_dash(u.sinr_loss_db),
+          num_or_dash(u.evm_golden_pct), num_or_dash(u.evm_fixed_pct)});
+  pg.out += "</table>\n<table class=\"uplink\">\n";
+  pg.row({"uplink decisions", "golden", "fixed", "of bits"}, true);
+  pg.row({"bit errors (uncoded)", count_text(u.bit_errors_golden), count_text(u.bit_errors_fixed), count_text(u.bits)});
+  pg.row({"BER (uncoded)", num_or_dash(per_bit(u.bit_errors_golden, u.bits), 3),
+          num_or_dash(per_bit(u.bit_errors_fixed, u.bits), 3), count_text(u.bits)});
+  pg.row({"LLR hard decisions differing from golden", "—", count_text(u.llr_sign_flips), count_text(u.bits)});
+  pg.row({"LLR flip rate", "—", num_or_dash(per_bit(u.llr_sign_flips, u.bits), 3), count_text(u.bits)});
+  pg.out += "</table>\n";
+}
 
 }  // namespace
+
+metric per_bit(std::uint64_t count, std::uint64_t bits) {
+  return bits > 0 ? metric(static_cast<double>(count) / static_cast<double>(bits)) : std::nullopt;
+}
 
 std::string section_title(const run_record&) { return "Run"; }
 
 std::string headline(const run_record& r) {
-  return fmt::format("SINR loss {} dB, implementation EVM {} %{}", num_or_dash(r.summary.sinr_loss_db),
+  return fmt::format("SINR loss {} dB, implementation EVM {} %{}{}", num_or_dash(r.summary.sinr_loss_db),
                      num_or_dash(r.summary.evm_impl_pct),
-                     r.summary.evm_limit_pct ? fmt::format(" (3GPP limit {} %)", num(*r.summary.evm_limit_pct)) : "");
+                     r.summary.evm_limit_pct ? fmt::format(" (3GPP limit {} %)", num(*r.summary.evm_limit_pct)) : "",
+                     r.uplink ? fmt::format("; uplink SINR loss {} dB", num_or_dash(r.uplink->sinr_loss_db)) : "");
 }
 
 std::optional<std::uint64_t> trials_of(const run_record& r) { return r.trials; }
@@ -86,6 +120,7 @@ void render_section(page& pg, const run_record& r) {
   }
   pg.out += "</table>\n";
   if (r.distribution) render_distribution(pg, *r.distribution, std::nullopt, "");
+  if (r.uplink) render_uplink(pg, *r.uplink);
   if (!r.warnings.empty()) {
     pg.out += "<ul class=\"warnings\">\n";
     for (const std::string& w : r.warnings) pg.out += fmt::format("<li>warning: {}</li>\n", esc(w));

@@ -42,6 +42,9 @@ void render_section(page& pg, const key_sweep_record& r);
 void render_distribution(page& pg, const distribution_record& d, const std::optional<double>& loss_limit,
                          const std::string& limit_label);
 
+/// count / bits (a bit-error or LLR-flip rate); no value when no bit was sent.
+metric per_bit(std::uint64_t count, std::uint64_t bits);
+
 /// "12", or "?" when the file does not say.
 std::string trials_text(const std::optional<std::uint64_t>& trials);
 

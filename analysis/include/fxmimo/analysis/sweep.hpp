@@ -31,6 +31,9 @@ struct sweep_point {
   double node_overflow_rate = 0.0;  ///< the swept node's overflow rate
   double max_overflow_rate = 0.0;   ///< largest overflow rate over all nodes
   run_distribution distribution;    ///< percentiles over trials and users
+  /// The uplink at this point as run_trials reduced it (README "The uplink"); absent without
+  /// [uplink].
+  std::optional<uplink_results> uplink;
 };
 
 struct sweep_results {

@@ -141,6 +141,7 @@ struct sweep_point_record {
   std::optional<metric> sinr_fixed_db;                       ///< absent from the oldest sweep files
   std::optional<metric> max_overflow_rate;                   ///< worst node at this point; absent from the oldest files
   std::optional<metric> sinr_loss_p95_db, evm_impl_p95_pct;  ///< percentiles; absent from older files
+  std::optional<uplink_record> uplink;                       ///< the run's "uplink" at this point; absent without one
 };
 
 struct sweep_record {
