@@ -618,7 +618,7 @@ run_results reduce_trials(const golden::scenario& scen, const datapath::datapath
   }
   if (scen.uplink.on) out.uplink = reduce_uplink(per_trial);
   for (const node_result& r : out.nodes) {
-    if (r.counters.overflowed > 0) {
+    if (r.counters.overflowed > 0 && !r.clips()) {
       out.warnings.push_back(fmt::format("node {} overflowed {} times ({:.3g} of its values)",
                                          datapath::node_name(r.id), r.counters.overflowed, r.overflow_rate()));
     }

@@ -30,7 +30,8 @@ tune_figures figures_of(const run_results& r, const tune_limits& limits) {
   f.sinr_loss_db = sinr_loss_statistic(r, limits.sinr_loss_percentile);
   f.evm_pct = r.summary.evm_impl_pct;
   f.rms_tx_power_error_db = r.summary.rms_tx_power_error_db;
-  for (const node_result& n : r.nodes) f.max_overflow_rate = std::max(f.max_overflow_rate, n.overflow_rate());
+  for (const node_result& n : r.nodes)
+    if (!n.clips()) f.max_overflow_rate = std::max(f.max_overflow_rate, n.overflow_rate());
   if (r.uplink) {
     f.uplink_sinr_loss_db = r.uplink->sinr_loss_db;
     f.uplink_ber_ratio =
@@ -242,8 +243,14 @@ tune_results tune_widths_at_corners(const std::vector<tune_corner>& corners, con
   const std::vector<datapath::node_id> active = datapath::active_nodes(base);
   // A node that uses another's setting (setting_home: the uplink block through the pilot ADC) is
   // not a variable of its own: its home's setting is chosen once, for both.
-  for (datapath::node_id id : active)
-    if (datapath::setting_home(id) == id) out.nodes.push_back(id);
+  // A node that clips by design (the LLRs) keeps the scenario's setting: its width and clip
+  // level are the decoder's input, a choice the search has no figure for.
+  for (datapath::node_id id : active) {
+    if (datapath::clips_by_design(id, start[id].spec))
+      out.kept_nodes.push_back(id);
+    else if (datapath::setting_home(id) == id)
+      out.nodes.push_back(id);
+  }
   for (const tune_corner& c : corners) {
     if (datapath::active_nodes(c.scen) != active)
       throw std::invalid_argument(
@@ -361,7 +368,7 @@ tune_results tune_widths_at_corners(const std::vector<tune_corner>& corners, con
     o.verification = figures_of(fresh, limits);
     verified.push_back(o.verification);
     for (const node_result& node : fresh.nodes) {
-      if (node.overflow_rate_bound() >= o.proven_overflow_bound) {
+      if (!node.clips() && node.overflow_rate_bound() >= o.proven_overflow_bound) {
         o.proven_overflow_bound = node.overflow_rate_bound();
         o.weakest_node = node.id;
       }

@@ -30,6 +30,11 @@ std::string format_tune_table(const analysis::tune_results& r) {
     out += fmt::format("{:<15} {:<10} {:>5} {:>9} {:>9}{}\n", datapath::node_name(id), fp::to_q_string(f), f.word_bits,
                        f.int_bits(), f.frac_bits, binding);
   }
+  for (datapath::node_id id : r.kept_nodes) {
+    const fp::format& f = r.config[id].spec.fmt;
+    out += fmt::format("{:<15} {:<10} {:>5} {:>9} {:>9}  kept as the scenario sets it: clips by design\n",
+                       datapath::node_name(id), fp::to_q_string(f), f.word_bits, f.int_bits(), f.frac_bits);
+  }
   out += fmt::format("\ncost: {:.0f} ({})\n", r.cost,
                      r.model == analysis::cost_model::bits ? "total word bits" : "area proxy");
   out += fmt::format("{:<22} {:>12} {:>12} {:>12} {:>12}\n", "", "limit", "search", "fresh trials", "margin");

@@ -15,9 +15,13 @@
 #include <string>
 #include <vector>
 
+#include "fxmimo/datapath/config.hpp"
+#include "fxmimo/report/report.hpp"
+
 namespace h = fxmimo::analysis;
 namespace d = fxmimo::datapath;
 namespace g = fxmimo::golden;
+namespace fp = fxmimo::fixedpoint;
 
 namespace {
 
@@ -252,6 +256,65 @@ TEST(tune, tiny_scenario_meets_limits_on_fresh_trials) {
   EXPECT_EQ(r.cost, word_bits);
   // Narrower than the wide start: the search did remove bits.
   EXPECT_LT(word_bits, 64.0 * static_cast<double>(r.nodes.size()));
+}
+
+// LLR clipping (common practice: a soft decoder takes LLRs in a fixed range, and clipping them
+// at it is the design): the ul_llr node at a deliberately small saturating range (Q1.1, clip at
+// 2 grid units squared; 16-QAM distance differences reach 4 (L - 1) |x| = 12 |x|) clips most of
+// its values. tune keeps it as the scenario sets it, holds its clips to no overflow-rate limit
+// and proves its bound on the other nodes; run does not warn about it. With overflow = "wrap"
+// the same overflows are overflows: ul_llr is a variable again and run warns.
+TEST(tune, llr_clipping_is_the_scenario_choice_not_an_overflow) {
+  const std::string text = std::string(tiny_scenario_text) +
+                           "[uplink]\nsnr_db = 10.0\nmodulation = \"16qam\"\nsymbols = 24\ncombiner = \"zf\"\n"
+                           "[nodes.ul_llr]\nformat = \"Q1.1\"\nrounding = \"half_even\"\noverflow = \"saturate\"\n";
+  const g::scenario scen = g::parse_scenario_text(text, "tune-llr.toml");
+  const d::datapath_config start = d::parse_datapath_config(text, "tune-llr.toml");
+  ASSERT_TRUE(d::clips_by_design(d::node_id::ul_llr, start[d::node_id::ul_llr].spec));
+  const h::run_results before = h::run_trials(scen, start, h::first_trials(2), 1);
+  const h::node_result* llr = nullptr;
+  for (const h::node_result& n : before.nodes)
+    if (n.id == d::node_id::ul_llr) llr = &n;
+  ASSERT_NE(llr, nullptr);
+  EXPECT_GT(llr->overflow_rate(), 0.2) << "the test needs an LLR node that clips";
+  EXPECT_TRUE(llr->clips());
+  for (const std::string& w : before.warnings) EXPECT_EQ(w.find("ul_llr"), std::string::npos) << w;
+
+  const h::tune_limits limits{0.3, 3.0, 1e-3};
+  const h::tune_results r = h::tune_widths(scen, start, limits, h::cost_model::bits, {4, 200, 20}, 2, 1e-4, 0.3);
+  EXPECT_EQ(r.kept_nodes, std::vector<d::node_id>{d::node_id::ul_llr});
+  EXPECT_EQ(std::count(r.nodes.begin(), r.nodes.end(), d::node_id::ul_llr), 0);
+  EXPECT_EQ(r.config[d::node_id::ul_llr].spec, start[d::node_id::ul_llr].spec);
+  // The verification's overflow figure and proven bound are those of the other nodes.
+  const h::run_results fresh = h::run_trials(scen, r.config, r.verify_trials, 1);
+  double other_rate = 0, other_bound = 0;
+  for (const h::node_result& n : fresh.nodes) {
+    if (n.id == d::node_id::ul_llr) {
+      EXPECT_GT(n.counters.overflowed, 0U) << "still clipping on the fresh trials";
+      continue;
+    }
+    other_rate = std::max(other_rate, n.overflow_rate());
+    other_bound = std::max(other_bound, n.overflow_rate_bound());
+  }
+  EXPECT_EQ(r.verification.max_overflow_rate, other_rate);
+  EXPECT_EQ(r.proven_overflow_bound, other_bound);
+  EXPECT_NE(r.weakest_node, d::node_id::ul_llr);
+  // The table shows the kept node with its reason.
+  const std::string table = fxmimo::report::format_tune_table(r);
+  EXPECT_NE(table.find("ul_llr          Q1.1           3         1         1  kept as the scenario sets it"),
+            std::string::npos)
+      << table;
+
+  // Wrapping LLRs are not clipped: an overflow like any other.
+  d::datapath_config wrapping = start;
+  wrapping[d::node_id::ul_llr].spec.overflow = fp::overflow_mode::wrap;
+  EXPECT_FALSE(d::clips_by_design(d::node_id::ul_llr, wrapping[d::node_id::ul_llr].spec));
+  const h::run_results wrapped = h::run_trials(scen, wrapping, h::first_trials(2), 1);
+  bool warned = false;
+  for (const std::string& w : wrapped.warnings)
+    warned = warned || w.find("node ul_llr overflowed") != std::string::npos;
+  EXPECT_TRUE(warned);
+  EXPECT_GT(h::figures_of(wrapped, limits).max_overflow_rate, 0.2);
 }
 
 }  // namespace

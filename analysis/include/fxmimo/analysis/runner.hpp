@@ -31,6 +31,8 @@ struct node_result {
   [[nodiscard]] double sqnr_db() const;
   /// overflowed / requantised.
   [[nodiscard]] double overflow_rate() const;
+  /// Its saturation is a designed clip (datapath::clips_by_design), not an overflow.
+  [[nodiscard]] bool clips() const { return datapath::clips_by_design(id, spec); }
   /// Adds another part's figures (energies and counts summed, maxima taken, counters merged):
   /// the same node over more values.
   void absorb(const node_result& other);

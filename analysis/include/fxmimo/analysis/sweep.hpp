@@ -29,7 +29,7 @@ struct sweep_point {
   run_summary summary;
   double node_sqnr_db = 0.0;        ///< the swept node's SQNR (+inf: exact)
   double node_overflow_rate = 0.0;  ///< the swept node's overflow rate
-  double max_overflow_rate = 0.0;   ///< largest overflow rate over all nodes
+  double max_overflow_rate = 0.0;   ///< largest overflow rate over all nodes but a clipping one (clips_by_design)
   run_distribution distribution;    ///< percentiles over trials and users
   /// The uplink at this point as run_trials reduced it (README "The uplink"); absent without
   /// [uplink].
@@ -67,7 +67,7 @@ struct key_sweep_point {
   /// Golden interference-to-signal ratio at the users, dB: 20 log10 of the golden EVM (noise
   /// excluded, so multi-user and inter-cell interference plus precoder leakage over the signal).
   double interference_db = 0.0;
-  double max_overflow_rate = 0.0;  ///< largest over all nodes
+  double max_overflow_rate = 0.0;  ///< largest over all nodes but a clipping one (clips_by_design)
   /// Integer bits each accumulating node needs for the largest golden value seen
   /// (int_bits_for(max |golden|)), in datapath order.
   std::vector<std::pair<datapath::node_id, int>> growth_int_bits;

@@ -116,6 +116,8 @@ struct tune_results {
   cost_model model = cost_model::bits;
   datapath::datapath_config config;      ///< the tuned datapath
   std::vector<datapath::node_id> nodes;  ///< the tuned (active) nodes
+  /// Active nodes kept at the scenario's setting: those that clip by design (ul_llr).
+  std::vector<datapath::node_id> kept_nodes;
   double cost = 0.0;
   tune_figures search;        ///< on the search trials
   tune_figures verification;  ///< on fresh trials

@@ -35,6 +35,16 @@ struct datapath_config {
   node_setting& operator[](node_id id) { return nodes.at(index_of(setting_home(id))); }
 };
 
+/// Whether a node's saturation is a designed clip rather than an overflow: `ul_llr` with a
+/// saturating overflow mode (`saturate`, `saturate_symmetric`). Its format sets the LLRs' clip
+/// level, the range a soft decoder takes (clipping LLRs is common practice), so `tune` keeps its
+/// setting as the scenario gives it and holds its clipped values to no overflow-rate limit, and
+/// `run` shows them in its table without a warning.
+[[nodiscard]] constexpr bool clips_by_design(node_id id, const fixedpoint::target& t) {
+  return id == node_id::ul_llr && (t.overflow == fixedpoint::overflow_mode::saturate ||
+                                   t.overflow == fixedpoint::overflow_mode::saturate_symmetric);
+}
+
 /// Reads the `[nodes.NAME]` tables of a scenario (keys: format, rounding, overflow; for an
 /// accumulator also order = "sequential" | "pairwise" | "lanes" and lanes = P). Unknown nodes or
 /// keys, bad formats, W > 64 are errors that name the file, line and key
