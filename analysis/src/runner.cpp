@@ -45,6 +45,13 @@ void node_result::absorb(const node_result& other) {
 
 double node_result::overflow_rate_bound() const { return rate_upper_bound(counters.overflowed, counters.requantized); }
 
+double max_overflow_rate(const run_results& r) {
+  double worst = 0.0;
+  for (const node_result& n : r.nodes)
+    if (!n.clips()) worst = std::max(worst, n.overflow_rate());
+  return worst;
+}
+
 double sinr_loss_statistic(const run_results& r, std::optional<double> pct) {
   if (!pct) return r.summary.sinr_loss_db;
   if (*pct == 5) return r.distribution.sinr_loss_p5_db;

@@ -88,8 +88,8 @@ sweep_results run_sweep(const golden::scenario& scen, const datapath::datapath_c
       p.summary = r.summary;
       p.distribution = r.distribution;
       p.uplink = r.uplink;
+      p.max_overflow_rate = max_overflow_rate(r);
       for (const node_result& n : r.nodes) {
-        if (!n.clips()) p.max_overflow_rate = std::max(p.max_overflow_rate, n.overflow_rate());
         if (n.id == id) {
           p.node_sqnr_db = n.sqnr_db();
           p.node_overflow_rate = n.overflow_rate();
@@ -130,8 +130,8 @@ key_sweep_results run_key_sweep(const std::vector<golden::scenario>& scenarios, 
     p.value = values[i];
     p.summary = r.summary;
     p.interference_db = 20.0 * std::log10(r.summary.evm_golden_pct / 100.0);
+    p.max_overflow_rate = max_overflow_rate(r);
     for (const node_result& n : r.nodes) {
-      if (!n.clips()) p.max_overflow_rate = std::max(p.max_overflow_rate, n.overflow_rate());
       if (datapath::role_of(n.id) == datapath::node_role::accumulator)
         p.growth_int_bits.emplace_back(n.id, int_bits_for(n.max_abs_golden));
     }

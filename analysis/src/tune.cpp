@@ -30,8 +30,7 @@ tune_figures figures_of(const run_results& r, const tune_limits& limits) {
   f.sinr_loss_db = sinr_loss_statistic(r, limits.sinr_loss_percentile);
   f.evm_pct = r.summary.evm_impl_pct;
   f.rms_tx_power_error_db = r.summary.rms_tx_power_error_db;
-  for (const node_result& n : r.nodes)
-    if (!n.clips()) f.max_overflow_rate = std::max(f.max_overflow_rate, n.overflow_rate());
+  f.max_overflow_rate = max_overflow_rate(r);
   if (r.uplink) {
     f.uplink_sinr_loss_db = r.uplink->sinr_loss_db;
     f.uplink_ber_ratio =

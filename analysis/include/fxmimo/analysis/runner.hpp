@@ -173,6 +173,10 @@ std::vector<std::uint64_t> first_trials(int n);
 /// mean SINRs (percentile nullopt), or a percentile (0..100) of the per-(trial, user) losses.
 double sinr_loss_statistic(const run_results& r, std::optional<double> percentile);
 
+/// The largest overflow rate over the run's nodes, a node that clips by design left out
+/// (node_result::clips): the figure tune limits and sweep reports.
+double max_overflow_rate(const run_results& r);
+
 /// 3GPP TS 38.104 Table 6.5.2.2-1 base-station EVM limit in % (QPSK 17.5, 16QAM 12.5,
 /// 64QAM 8, 256QAM 3.5); 1024QAM 2.5 (later releases; from memory, unverified).
 std::optional<double> bs_evm_limit_pct(golden::modulation mod);
